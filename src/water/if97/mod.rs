@@ -1,0 +1,3 @@
+//! IAPWS-IF97 (IAPWS R7-97(2012)): basic equations of regions 1 to 5, the region boundaries and
+//! the supplementary backward equations. Internal units: MPa, K, kJ/kg, kJ/(kg K), m3/kg.
+pub mod backward;

@@ -1,0 +1,9 @@
+//! Water and steam properties: pure physics, no serde, no async, no I/O, no panic on finite input.
+//!
+//! Internal units are the IAPWS releases' own: p MPa, T K, v m3/kg, rho kg/m3, h u kJ/kg,
+//! s cp cv kJ/(kg K), w m/s.
+pub mod if97;
+pub mod props;
+pub mod tables;
+
+pub use props::{GibbsDerivs, HelmholtzDerivs, Props};
