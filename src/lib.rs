@@ -5,6 +5,7 @@
 //! the edges; `api` holds every wire type; `server` wires transports; `main.rs` parses the
 //! command line.
 pub mod error;
+pub mod units;
 pub mod water;
 
 pub use error::{Error, Result};
