@@ -191,8 +191,6 @@ fn s_vapour_623_and_b23_corner() {
     assert!((hs::tsat_hs(hs::H_B23_MIN, hs::S_VAP_623) - 623.15).abs() < 1e-3);
     // B23 starts at the saturated vapour at 623.15 K (observed 1.5 mK).
     assert!((hs::t_b23_hs(hs::H_B23_MIN, hs::S_VAP_623) - 623.15).abs() < 0.025);
-    // The B23 box lies around s''(623.15 K).
-    assert!(hs::S_B23_MIN < hs::S_VAP_623 && hs::S_VAP_623 < hs::S_B23_MAX);
 }
 
 #[test]
