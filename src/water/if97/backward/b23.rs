@@ -26,13 +26,14 @@ mod tests {
 
     #[test]
     fn b23_check_values() {
+        // Half a unit of the 9th printed digit.
         // IAPWS R7-97(2012), B23 check value printed with Eqs. (5), (6): T = 623.15 K <-> p = 16.5291643 MPa.
         assert!(
-            (p_b23(623.15) - 0.165291643e2).abs() <= 1e-9 * 16.53,
+            (p_b23(623.15) - 0.165291643e2).abs() <= 5e-8,
             "B23 p(623.15 K)"
         );
         assert!(
-            (t_b23(0.165291643e2) - 623.15).abs() <= 1e-9 * 623.15,
+            (t_b23(0.165291643e2) - 623.15).abs() <= 5e-7,
             "B23 T(16.5291643 MPa)"
         );
     }

@@ -14,8 +14,9 @@ use crate::water::tables::{
 };
 
 // Fixed boundary values. Source: SR4-04(2014) / SR3-03(2014) range-of-validity statements as
-// transcribed in the coefficient tables' `Validity:` docs (not from memory); each is checked
-// against the equations in tests/iapws_sr4_04.rs.
+// transcribed in the coefficient tables' `Validity:` docs (not from memory). All except
+// S_B23_MIN, S_B23_MAX and H_B23_MAX (which need the basic equations) are checked against the
+// equations they bound in tests/iapws_sr4_04.rs.
 
 /// s'(273.15 K), saturated liquid at 273.15 K, kJ/(kg K) (SR4-04(2014), h'1(s) validity).
 pub const S_LIQ_273: f64 = -1.545495919e-4;

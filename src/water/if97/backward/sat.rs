@@ -37,19 +37,21 @@ pub fn tsat(p: f64) -> f64 {
 mod tests {
     use super::*;
 
-    fn close(got: f64, want: f64, rel: f64) -> bool {
-        (got - want).abs() <= rel * want.abs()
+    /// Within half a unit of the 9th printed digit (looser than 1e-9 relative here).
+    fn close(got: f64, want: f64) -> bool {
+        let half_unit = 0.5 * 10f64.powi(want.abs().log10().floor() as i32 - 8);
+        (got - want).abs() <= half_unit.max(1e-9 * want.abs())
     }
 
     #[test]
     fn saturation_check_values() {
         // IAPWS R7-97(2012) Table 35 (p_s(T)), 9 printed digits.
-        assert!(close(psat(300.0), 0.353658941e-2, 1e-9), "Table 35 T=300 K");
-        assert!(close(psat(500.0), 0.263889776e1, 1e-9), "Table 35 T=500 K");
-        assert!(close(psat(600.0), 0.123443146e2, 1e-9), "Table 35 T=600 K");
+        assert!(close(psat(300.0), 0.353658941e-2), "Table 35 T=300 K");
+        assert!(close(psat(500.0), 0.263889776e1), "Table 35 T=500 K");
+        assert!(close(psat(600.0), 0.123443146e2), "Table 35 T=600 K");
         // IAPWS R7-97(2012) Table 36 (T_s(p)), 9 printed digits.
-        assert!(close(tsat(0.1), 0.372755919e3, 1e-9), "Table 36 p=0.1 MPa");
-        assert!(close(tsat(1.0), 0.453035632e3, 1e-9), "Table 36 p=1 MPa");
-        assert!(close(tsat(10.0), 0.584149488e3, 1e-9), "Table 36 p=10 MPa");
+        assert!(close(tsat(0.1), 0.372755919e3), "Table 36 p=0.1 MPa");
+        assert!(close(tsat(1.0), 0.453035632e3), "Table 36 p=1 MPa");
+        assert!(close(tsat(10.0), 0.584149488e3), "Table 36 p=10 MPa");
     }
 }
