@@ -5,7 +5,9 @@
 //! the edges; `api` holds every wire type; `server` wires transports; `main.rs` parses the
 //! command line.
 pub mod error;
+pub mod plant;
 pub mod units;
+pub mod validation;
 pub mod water;
 
 pub use error::{Error, Result};

@@ -10,7 +10,8 @@
 use serde_json::Value;
 use steamcell::water::if97::backward::hs::{self, RegionHs};
 use steamcell::water::if97::backward::region3::{self, Sub3};
-use steamcell::water::if97::backward::{region1, region2, sat};
+use steamcell::water::if97::backward::{region1, region2};
+use steamcell::water::if97::region4 as sat;
 
 const RELEASE: &str = "SR4-04(2014)";
 

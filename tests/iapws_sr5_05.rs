@@ -8,7 +8,7 @@
 
 use serde_json::Value;
 use steamcell::water::if97::backward::region3_vpt as v3;
-use steamcell::water::if97::backward::sat;
+use steamcell::water::if97::region4 as sat;
 use steamcell::water::tables::sr5_05_subregion_map as map;
 
 const RELEASE: &str = "SR5-05(2016)";

@@ -4,6 +4,7 @@
 //! s cp cv kJ/(kg K), w m/s.
 pub mod if97;
 pub mod props;
+pub mod state;
 pub mod tables;
 
 pub use props::{GibbsDerivs, HelmholtzDerivs, Props};

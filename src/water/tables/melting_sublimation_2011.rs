@@ -42,36 +42,72 @@ pub const SUBLIMATION_P_STAR: f64 = 611.657;
 
 /// IAPWS R14-08(2011), Eqs. (1)-(6): melting-Ih terms (row number in the trailing comment).
 pub const TERMS_MELTING_IH: [Ab; 3] = [
-    Ab { a: 0.119539337e7, b: 0.300000e1 }, // 1
-    Ab { a: 0.808183159e5, b: 0.257500e2 }, // 2
-    Ab { a: 0.333826860e4, b: 0.103750e3 }, // 3
+    Ab {
+        a: 0.119539337e7,
+        b: 0.300000e1,
+    }, // 1
+    Ab {
+        a: 0.808183159e5,
+        b: 0.257500e2,
+    }, // 2
+    Ab {
+        a: 0.333826860e4,
+        b: 0.103750e3,
+    }, // 3
 ];
 
 /// IAPWS R14-08(2011), Eqs. (1)-(6): melting-III terms (row number in the trailing comment).
 pub const TERMS_MELTING_III: [Ab; 1] = [
-    Ab { a: -0.299948, b: 60.0 }, // 1
+    Ab {
+        a: -0.299948,
+        b: 60.0,
+    }, // 1
 ];
 
 /// IAPWS R14-08(2011), Eqs. (1)-(6): melting-V terms (row number in the trailing comment).
 pub const TERMS_MELTING_V: [Ab; 1] = [
-    Ab { a: -1.18721, b: 8.0 }, // 1
+    Ab {
+        a: -1.18721,
+        b: 8.0,
+    }, // 1
 ];
 
 /// IAPWS R14-08(2011), Eqs. (1)-(6): melting-VI terms (row number in the trailing comment).
 pub const TERMS_MELTING_VI: [Ab; 1] = [
-    Ab { a: -1.07476, b: 4.6 }, // 1
+    Ab {
+        a: -1.07476,
+        b: 4.6,
+    }, // 1
 ];
 
 /// IAPWS R14-08(2011), Eqs. (1)-(6): melting-VII terms (row number in the trailing comment).
 pub const TERMS_MELTING_VII: [Ab; 3] = [
-    Ab { a: 0.173683e1, b: -1.0 }, // 1
-    Ab { a: -0.544606e-1, b: 5.0 }, // 2
-    Ab { a: 0.806106e-7, b: 22.0 }, // 3
+    Ab {
+        a: 0.173683e1,
+        b: -1.0,
+    }, // 1
+    Ab {
+        a: -0.544606e-1,
+        b: 5.0,
+    }, // 2
+    Ab {
+        a: 0.806106e-7,
+        b: 22.0,
+    }, // 3
 ];
 
 /// IAPWS R14-08(2011), Eqs. (1)-(6): sublimation terms (row number in the trailing comment).
 pub const TERMS_SUBLIMATION: [Ab; 3] = [
-    Ab { a: -0.212144006e2, b: 0.333333333e-2 }, // 1
-    Ab { a: 0.273203819e2, b: 0.120666667e1 }, // 2
-    Ab { a: -0.610598130e1, b: 0.170333333e1 }, // 3
+    Ab {
+        a: -0.212144006e2,
+        b: 0.333333333e-2,
+    }, // 1
+    Ab {
+        a: 0.273203819e2,
+        b: 0.120666667e1,
+    }, // 2
+    Ab {
+        a: -0.610598130e1,
+        b: 0.170333333e1,
+    }, // 3
 ];

@@ -21,7 +21,7 @@ pub const S_STAR: f64 = 1.0;
 /// IAPWS SR2-01(2014), h2ab(s): 4 terms (row number in the trailing comment).
 pub const TERMS: [f64; 4] = [
     -0.349898083432139e4, // n1
-    0.257560716905876e4, // n2
+    0.257560716905876e4,  // n2
     -0.421073558227969e3, // n3
-    0.276349063799944e2, // n4
+    0.276349063799944e2,  // n4
 ];

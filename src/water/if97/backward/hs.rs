@@ -6,7 +6,8 @@
 //! evaluations; `region_hs` decides with them, the B23 equation and the p(h,s) backward
 //! equations only (no basic equation), and never panics.
 
-use super::{b23, region1, region2, region3, Series};
+use super::{region1, region2, region3, Series};
+use crate::water::if97::b23;
 use crate::water::tables::{
     sr4_04_h1_sat_liquid as h1l, sr4_04_h2ab_sat_vapour as h2abv,
     sr4_04_h2c3b_sat_vapour as h2c3bv, sr4_04_h3a_sat_liquid as h3al, sr4_04_hb13 as hb13,

@@ -9,13 +9,11 @@
 //! Invariant: the power series are evaluated in table order from powers computed once per call
 //! (`Series`), with integer exponents only (`powi` on a cached range); no allocation.
 
-pub mod b23;
 pub mod hs;
 pub mod region1;
 pub mod region2;
 pub mod region3;
 pub mod region3_vpt;
-pub mod sat;
 
 use crate::water::tables::{IJn, IfJn};
 

@@ -7,7 +7,8 @@
 //! lower-temperature subregion) for (p,T) inside region 3; outside region 3 it still returns a
 //! letter (the nearest band), so callers check the region first. `v_pt` is a raw evaluation.
 
-use super::{sat, sum_i, Series};
+use super::{sum_i, Series};
+use crate::water::if97::region4 as sat;
 use crate::water::tables as tb;
 use crate::water::tables::sr5_05_subregion_map as map;
 
