@@ -5,6 +5,8 @@
 use steamcell::water::melting::*;
 use steamcell::{error::Bound, Error};
 
+type Curve = fn(f64) -> steamcell::Result<f64>;
+
 /// Relative 1e-9 or half a unit of the last printed digit, whichever is looser (project rule).
 fn check(id: &str, got: f64, want: f64, digits: i32) {
     let last = 10f64.powi(want.abs().log10().floor() as i32 - digits + 1);
@@ -105,7 +107,7 @@ fn monotonicity() {
         last = p;
         t += 0.5;
     }
-    let rising: [(fn(f64) -> steamcell::Result<f64>, f64, f64); 5] = [
+    let rising: [(Curve, f64, f64); 5] = [
         (melting_pressure_iii, 251.165, 256.164),
         (melting_pressure_v, 256.164, 273.31),
         (melting_pressure_vi, 273.31, 355.0),
