@@ -4,7 +4,9 @@
 //! differences, rho(p, T) and saturation round trips, and the solvers' range errors.
 
 use serde_json::Value;
-use steamcell::water::iapws95::{self, saturation_p, saturation_t, P_TRIPLE_95, T_SAT_MAX};
+use steamcell::water::iapws95::{
+    self, saturation_p, saturation_t, P_SAT_MAX, P_TRIPLE_95, T_SAT_MAX,
+};
 use steamcell::water::HelmholtzDerivs;
 use steamcell::Error;
 
@@ -289,6 +291,10 @@ fn saturation_p_inverts_saturation_t() {
     );
 }
 
+fn s_t(t: f64) -> f64 {
+    saturation_t(t).unwrap().psat
+}
+
 #[test]
 fn saturation_range_errors() {
     assert!(matches!(saturation_t(273.0), Err(Error::OutOfRange { .. })));
@@ -301,6 +307,13 @@ fn saturation_range_errors() {
         Err(Error::OutOfRange { .. })
     ));
     assert!(matches!(saturation_p(22.1), Err(Error::OutOfRange { .. })));
+    // The constants of the range are this solver's own results.
+    let top = saturation_t(T_SAT_MAX).unwrap();
+    assert!((top.psat - P_SAT_MAX).abs() <= 1e-12 * P_SAT_MAX);
+    let top_p = saturation_p(P_SAT_MAX).unwrap();
+    assert!((top_p.t - T_SAT_MAX).abs() <= 1e-6);
+    assert!((s_t(273.16) - P_TRIPLE_95).abs() <= 1e-9 * P_TRIPLE_95);
+    assert!(saturation_p(P_TRIPLE_95).is_ok());
     // The triple-point pressure of IAPWS-95: the release quotes 611.655 Pa at 273.16 K.
     let s = saturation_t(273.16).unwrap();
     assert!(

@@ -32,11 +32,13 @@ pub const T_SUB_MIN: f64 = 50.0;
 
 fn range(t: f64, lo: f64, hi: f64, what: &str) -> Result<()> {
     Error::check_finite("T", t)?;
-    let name = format!("{NAME} ({what})");
+    // The name is built only on the error path (no allocation on success).
     if t < lo {
+        let name = format!("{NAME} ({what})");
         return Err(Error::out_of_range("T", t, lo, "K", Bound::Below, &name));
     }
     if t > hi {
+        let name = format!("{NAME} ({what})");
         return Err(Error::out_of_range("T", t, hi, "K", Bound::Above, &name));
     }
     Ok(())

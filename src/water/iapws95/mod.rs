@@ -16,7 +16,7 @@ use crate::water::tables::iapws95 as tab;
 
 pub use saturation::{
     psat_estimate, rho_liquid_estimate, rho_vapour_estimate, saturation_p, saturation_t,
-    Saturation, P_TRIPLE_95, T_SAT_MAX, T_TRIPLE,
+    Saturation, P_SAT_MAX, P_TRIPLE_95, T_SAT_MAX, T_TRIPLE,
 };
 
 /// Critical density, kg/m3 (IAPWS R6-95(2018), Eq. (2)).

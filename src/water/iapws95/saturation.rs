@@ -22,6 +22,9 @@ pub const P_TRIPLE_95: f64 = 611.654_771e-6;
 /// Highest temperature accepted by `saturation_t`, K: close enough to T_c for every use, far
 /// enough that the Newton solution stays well conditioned in double precision.
 pub const T_SAT_MAX: f64 = 647.095;
+/// Saturation pressure at `T_SAT_MAX`, MPa (this module's result, rounded down in the 14th
+/// digit): the highest pressure accepted by `saturation_p`.
+pub const P_SAT_MAX: f64 = 22.063_732_706_652;
 
 const NAME: &str = "IAPWS-95 saturation";
 
@@ -202,7 +205,7 @@ pub fn saturation_p(p: f64) -> Result<Saturation> {
             NAME,
         ));
     }
-    let p_max = saturation_t(T_SAT_MAX)?.psat;
+    let p_max = P_SAT_MAX;
     if p > p_max {
         return Err(Error::out_of_range(
             "p",
