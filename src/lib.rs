@@ -4,7 +4,9 @@
 //! Layers (see DEVELOPERS.md): `water` is pure physics (no serde, no I/O); `units` converts at
 //! the edges; `api` holds every wire type; `server` wires transports; `main.rs` parses the
 //! command line.
+pub mod api;
 pub mod error;
+pub mod server;
 pub mod water;
 
 pub use error::{Error, Result};
