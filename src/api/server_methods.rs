@@ -86,9 +86,39 @@ pub struct ServerInfo {
 }
 
 /// An OpenRPC 1.2.6 document describing every method, its params, result and errors.
-#[derive(Debug, Clone, Serialize, JsonSchema)]
+#[derive(Debug, Clone, Serialize)]
 #[serde(transparent)]
 pub struct OpenRpcDocument(pub serde_json::Value);
+
+impl JsonSchema for OpenRpcDocument {
+    fn schema_name() -> String {
+        "OpenRpcDocument".to_string()
+    }
+
+    fn json_schema(_: &mut schemars::gen::SchemaGenerator) -> schemars::schema::Schema {
+        use schemars::schema::{InstanceType, Metadata, ObjectValidation, SchemaObject};
+        SchemaObject {
+            metadata: Some(Box::new(Metadata {
+                description: Some(
+                    "An OpenRPC 1.2.6 document (see the OpenRPC specification) describing every \
+                     method, its params, result and errors."
+                        .to_string(),
+                ),
+                ..Default::default()
+            })),
+            instance_type: Some(InstanceType::Object.into()),
+            object: Some(Box::new(ObjectValidation {
+                required: ["openrpc", "info", "methods"]
+                    .iter()
+                    .map(|s| s.to_string())
+                    .collect(),
+                ..Default::default()
+            })),
+            ..Default::default()
+        }
+        .into()
+    }
+}
 
 /// The `server.info` body.
 pub fn info(_: NoParams) -> crate::Result<ServerInfo> {
