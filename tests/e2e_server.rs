@@ -248,7 +248,7 @@ async fn websocket_calls() {
             assert_eq!(
                 e.data().map(|d| d.get()),
                 Some(
-                    r#"{"kind":"invalid_input","message":"unknown unit preset 'furlongs'; accepted: engineering, si, us"}"#
+                    r#"{"kind":"invalid_input","message":"unknown unit preset 'furlongs'; accepted: si, engineering, us"}"#
                 )
             );
         }

@@ -14,14 +14,21 @@ pub const FORMULATIONS: &[(&str, &str)] = &[(
     "IAPWS R7-97(2012) with SR2-01, SR3-03, SR4-04, SR5-05",
 )];
 
-/// Unit presets accepted by the `units` param: (name, description).
+/// Unit presets accepted by the `units` param: (name, description). Mirrors `units::Preset`
+/// on the lead's branch (which can replace this list by `Preset::ALL`).
 pub const UNIT_PRESETS: &[(&str, &str)] = &[
     (
-        "engineering",
-        "Plant engineering units (pressure in bar, temperature in degC, energy per mass in kJ/kg); the default",
+        "si",
+        "Coherent SI: Pa, K, J/kg, J/(kg K), m3/kg, kg/m3, m/s, Pa s, W/(m K), N/m, kg/s, W",
     ),
-    ("si", "The internal SI-based units: MPa, K, kJ/kg, kJ/(kg K), m3/kg, kg/m3, m/s"),
-    ("us", "US customary units: psia, degF, Btu/lb, Btu/(lb degF), ft3/lb, lb/ft3, ft/s"),
+    (
+        "engineering",
+        "The default: MPa, degC, kJ/kg, kJ/(kg K), m3/kg, kg/m3, m/s, uPa s, mW/(m K), mN/m, kg/s, kW",
+    ),
+    (
+        "us",
+        "US customary: psia, degF, Btu/lb, Btu/(lb F), ft3/lb, lb/ft3, ft/s, lb/(ft h), lb/h, kW",
+    ),
 ];
 
 /// No parameters; send `{}`, `[]` or omit params.

@@ -78,12 +78,12 @@ fn value_of(name: &str, v: &GivenValue) -> crate::Result<f64> {
 fn state(p: StateParams) -> crate::Result<StateResult> {
     let preset = p.units.as_deref().unwrap_or("engineering");
     let units = match preset {
-        "engineering" => [("p", "bar"), ("T", "degC"), ("h", "kJ/kg")],
-        "si" => [("p", "MPa"), ("T", "K"), ("h", "kJ/kg")],
+        "engineering" => [("p", "MPa"), ("T", "degC"), ("h", "kJ/kg")],
+        "si" => [("p", "Pa"), ("T", "K"), ("h", "J/kg")],
         "us" => [("p", "psia"), ("T", "degF"), ("h", "Btu/lb")],
         other => {
             return Err(Error::invalid(format!(
-                "unknown unit preset '{other}'; accepted: engineering, si, us"
+                "unknown unit preset '{other}'; accepted: si, engineering, us"
             )))
         }
     };
