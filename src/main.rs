@@ -83,10 +83,7 @@ fn main() -> ExitCode {
         }
         Command::Call { method, params } => {
             match steamcell::api::call_text(&method, params.as_deref().unwrap_or("{}")) {
-                Ok(pretty) => {
-                    println!("{pretty}");
-                    ExitCode::SUCCESS
-                }
+                Ok(pretty) => print_out(&pretty),
                 Err(e) => {
                     eprintln!("error {}: {}", e.code, e.message);
                     ExitCode::from(2)
@@ -97,10 +94,7 @@ fn main() -> ExitCode {
             let answer = steamcell::api::cell::pairs_from_args(&pairs)
                 .and_then(|p| steamcell::api::cell::cell(&quantity, &p));
             match answer {
-                Ok(text) => {
-                    println!("{text}");
-                    ExitCode::SUCCESS
-                }
+                Ok(text) => print_out(&text),
                 Err(e) => {
                     eprintln!("{}", e.reason);
                     ExitCode::from(2)
@@ -126,6 +120,20 @@ fn main() -> ExitCode {
                     ExitCode::from(1)
                 }
             }
+        }
+    }
+}
+
+/// Prints a result line; a closed pipe (e.g. `| head`) ends quietly instead of panicking.
+fn print_out(text: &str) -> ExitCode {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    match writeln!(out, "{text}").and_then(|_| out.flush()) {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => ExitCode::SUCCESS,
+        Err(e) => {
+            eprintln!("steamcell: cannot write the result: {e}");
+            ExitCode::from(1)
         }
     }
 }

@@ -264,9 +264,11 @@ impl SolveFlags {
             Some("vapour") | Some("vapor") => Some(Phase::Vapour),
             Some("wet") => Some(Phase::Wet),
             Some("supercritical") => Some(Phase::Supercritical),
-            Some(other) => return Err(Error::invalid(format!(
+            Some(other) => {
+                return Err(Error::invalid(format!(
                 "prefer = '{other}' is not a phase; accepted: liquid, vapour, wet, supercritical"
-            ))),
+            )))
+            }
         };
         Ok(Options {
             backward_only: self.backward_only,
