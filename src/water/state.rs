@@ -538,10 +538,47 @@ fn newton2(
     ))
 }
 
-/// 1-D Newton on T at fixed p in a Gibbs region: q(p, T) = target.
+/// 1-D Newton on T at fixed p in a Gibbs region: q(p, T) = target, with dq/dT = cp (h) or
+/// cp/T (s).
 fn newton_t(region: Region, p: f64, q: Q, target: f64, t0: f64, opts: &Options) -> Result<State> {
-    let (pr, it) = newton2(region, Q::P, p, q, target, p, t0, opts)?;
-    Ok(single(pr, region, it))
+    let eval = |t: f64| match region {
+        Region::R1 => region1::props(p, t),
+        Region::R5 => region5::props(p, t),
+        _ => region2::props(p, t),
+    };
+    let scale = q.scale(target);
+    let mut t = t0;
+    let mut pr = eval(t);
+    for it in 0..opts.max_iter {
+        let f = q.of(&pr) - target;
+        if f.abs() <= opts.tol * scale {
+            return Ok(single(pr, region, it));
+        }
+        let d = d_pt(q, &pr).1;
+        if !(d.is_finite() && d > 0.0) {
+            break;
+        }
+        let step = (f / d).clamp(-0.2 * t, 0.2 * t);
+        t -= step;
+        pr = eval(t);
+        if step.abs() <= 4.0 * f64::EPSILON * t {
+            // At the rounding floor: accept if within the documented promise.
+            if (q.of(&pr) - target).abs() <= 1e-9 * scale {
+                return Ok(single(pr, region, it + 1));
+            }
+        }
+    }
+    if (q.of(&pr) - target).abs() <= 1e-9 * scale {
+        return Ok(single(pr, region, opts.max_iter));
+    }
+    Err(Error::not_converged(
+        format!(
+            "IF97 region {} Newton iteration for (p = {p}, {} = {target})",
+            region.number(),
+            q.name()
+        ),
+        opts.max_iter as usize,
+    ))
 }
 
 fn limits_t_for_p(p: f64) -> f64 {
@@ -552,86 +589,114 @@ fn limits_t_for_p(p: f64) -> f64 {
     }
 }
 
-/// State from (p, h) or (p, s): `q` is H or S.
+/// Saturation pressure at 623.15 K (the lowest pressure of region 3), MPa, computed once.
+fn p_sat_13() -> f64 {
+    static P: std::sync::OnceLock<f64> = std::sync::OnceLock::new();
+    *P.get_or_init(|| region4::psat(T_13))
+}
+
+fn backward_t(region: Region, p: f64, q: Q, target: f64) -> f64 {
+    match (region, q) {
+        (Region::R1, Q::H) => backward::region1::t_ph(p, target),
+        (Region::R1, _) => backward::region1::t_ps(p, target),
+        (_, Q::H) => backward::region2::t_ph(p, target),
+        _ => backward::region2::t_ps(p, target),
+    }
+}
+
+fn below_range(p: f64, q: Q, target: f64) -> Result<()> {
+    let lo = q.of(&region1::props(p, T_MIN));
+    if target < lo {
+        return Err(oor(q.name(), target, lo, q.unit(), Bound::Below));
+    }
+    Ok(())
+}
+
+/// Region 2 or, above 1073.15 K, region 5 for a target above the saturated vapour / B23 value.
+fn vapour_side(p: f64, q: Q, target: f64, t_low: f64, opts: &Options) -> Result<State> {
+    let t0 = backward_t(Region::R2, p, q, target);
+    if t0 > T_MAX_123 - 10.0 {
+        let t_top = limits_t_for_p(p);
+        let hi_state = if t_top > T_MAX_123 {
+            region5::props(p, t_top)
+        } else {
+            region2::props(p, t_top)
+        };
+        if target > q.of(&hi_state) {
+            return Err(oor(
+                q.name(),
+                target,
+                q.of(&hi_state),
+                q.unit(),
+                Bound::Above,
+            ));
+        }
+        // Region 5 when the target reaches region 5's own value at 1073.15 K (the two
+        // equations differ slightly there; a target in that tiny gap is taken in region 2).
+        if p <= P_MAX_5 {
+            let b5 = region5::props(p, T_MAX_123);
+            if target >= q.of(&b5) {
+                let slope = if q == Q::S { b5.cp / b5.t } else { b5.cp };
+                let t0 = (T_MAX_123 + (target - q.of(&b5)) / slope).clamp(T_MAX_123, T_MAX_5);
+                return newton_t(Region::R5, p, q, target, t0, opts);
+            }
+        }
+    }
+    let st = finish_gibbs(Region::R2, p, q, target, t0.clamp(t_low, T_MAX_123), opts)?;
+    if st.props.t > T_MAX_123 && !opts.backward_only {
+        // The backward equation was extrapolated beyond region 2 (far into region 5, where it
+        // is not valid); decide again with the region-5 boundary value.
+        if p <= P_MAX_5 {
+            let b5 = region5::props(p, T_MAX_123);
+            if target >= q.of(&b5) {
+                return newton_t(Region::R5, p, q, target, st.props.t.min(T_MAX_5), opts);
+            }
+        }
+        if st.props.t > T_MAX_123 * (1.0 + 1e-6) {
+            let top = region2::props(p, T_MAX_123);
+            return Err(oor(q.name(), target, q.of(&top), q.unit(), Bound::Above));
+        }
+    }
+    Ok(st)
+}
+
+/// State from (p, h) or (p, s): `q` is H or S. The saturation line and the region boundaries
+/// are evaluated only as far as the decision needs them.
 fn at_p_q(p: f64, q: Q, target: f64, opts: &Options) -> Result<State> {
     check_p(p)?;
     Error::check_finite(q.name(), target)?;
-    let p_sat_13 = region4::psat(T_13);
-    let lo_state = region1::props(p, T_MIN);
-    if target < q.of(&lo_state) {
-        return Err(oor(
-            q.name(),
-            target,
-            q.of(&lo_state),
-            q.unit(),
-            Bound::Below,
-        ));
-    }
-    let t_top = limits_t_for_p(p);
-    let hi_state = if t_top > T_MAX_123 {
-        region5::props(p, t_top)
-    } else {
-        region2::props(p, t_top)
-    };
-    if target > q.of(&hi_state) {
-        return Err(oor(
-            q.name(),
-            target,
-            q.of(&hi_state),
-            q.unit(),
-            Bound::Above,
-        ));
-    }
-    // Region 5?
-    // Region 5 when the target reaches region 5's own value at 1073.15 K (the two equations
-    // differ slightly there; a target in that tiny gap is taken in region 2).
-    if p <= P_MAX_5 {
-        let b5 = region5::props(p, T_MAX_123);
-        if target >= q.of(&b5) {
-            let slope = if q == Q::S { b5.cp / b5.t } else { b5.cp };
-            let t0 = (T_MAX_123 + (target - q.of(&b5)) / slope).clamp(T_MAX_123, T_MAX_5);
-            return newton_t(Region::R5, p, q, target, t0, opts);
-        }
-    }
-    if p <= p_sat_13 {
+    if p <= p_sat_13() {
         let ts = region4::tsat(p);
         let l = region1::props(p, ts);
-        let v = region2::props(p, ts);
-        let (ql, qv) = (q.of(&l), q.of(&v));
+        let ql = q.of(&l);
         if target < ql {
-            let t0 = match q {
-                Q::H => backward::region1::t_ph(p, target),
-                _ => backward::region1::t_ps(p, target),
-            };
+            let t0 = backward_t(Region::R1, p, q, target);
+            if t0 < T_MIN + 5.0 {
+                below_range(p, q, target)?;
+            }
             return finish_gibbs(Region::R1, p, q, target, t0.clamp(T_MIN, ts), opts);
         }
-        if target > qv {
-            let t0 = match q {
-                Q::H => backward::region2::t_ph(p, target),
-                _ => backward::region2::t_ps(p, target),
-            };
-            return finish_gibbs(Region::R2, p, q, target, t0.clamp(ts, T_MAX_123), opts);
+        let v = region2::props(p, ts);
+        let qv = q.of(&v);
+        if target <= qv {
+            let x = (target - ql) / (qv - ql);
+            return Ok(wet(p, ts, x.clamp(0.0, 1.0), &l, &v));
         }
-        let x = (target - ql) / (qv - ql);
-        return Ok(wet(p, ts, x.clamp(0.0, 1.0), &l, &v));
+        return vapour_side(p, q, target, ts, opts);
     }
     // p above psat(623.15 K): region 1 below 623.15 K, region 3 up to B23, region 2 above.
     let b13 = region1::props(p, T_13);
     if target <= q.of(&b13) {
-        let t0 = match q {
-            Q::H => backward::region1::t_ph(p, target),
-            _ => backward::region1::t_ps(p, target),
-        };
+        let t0 = backward_t(Region::R1, p, q, target);
+        if t0 < T_MIN + 5.0 {
+            below_range(p, q, target)?;
+        }
         return finish_gibbs(Region::R1, p, q, target, t0.clamp(T_MIN, T_13), opts);
     }
     let t23 = crate::water::if97::b23::t_b23(p);
     let b23 = region2::props(p, t23);
     if target >= q.of(&b23) {
-        let t0 = match q {
-            Q::H => backward::region2::t_ph(p, target),
-            _ => backward::region2::t_ps(p, target),
-        };
-        return finish_gibbs(Region::R2, p, q, target, t0.clamp(t23, T_MAX_123), opts);
+        return vapour_side(p, q, target, t23, opts);
     }
     // Region 3, possibly two-phase below the critical pressure.
     if p < P_C {
@@ -787,7 +852,11 @@ fn wet_hs(h: f64, s: f64, t0: f64, opts: &Options) -> Result<State> {
         for w in [0.05, 0.5, 5.0] {
             let (a, b) = ((t0 - w).max(lo), (t0 + w).min(hi));
             if fs(a)?.signum() != fs(b)?.signum() {
-                t_found = Some(brent(fs, a, b, Some(t0), opts)?);
+                let t = brent(fs, a, b, Some(t0), opts)?;
+                let x = f(t)?.1.x.unwrap_or(-1.0);
+                if (-1e-9..=1.0 + 1e-9).contains(&x) {
+                    t_found = Some(t);
+                }
                 break;
             }
         }
@@ -1005,40 +1074,51 @@ fn solve_branch(br: &Branch, q: Q, target: f64, opts: &Options) -> Result<Vec<St
             brackets.push((xs[i], xs[i + 1]));
         }
     }
-    for i in 1..N {
-        let (Some(fa), Some(fm), Some(fb)) = (vals[i - 1], vals[i], vals[i + 1]) else {
+    // Interior grid points where |f| has a local minimum, and the two end cells when |f| is
+    // smallest at the end of the branch (the extremum may hide inside the end cell).
+    let mut cells: Vec<(usize, usize, usize)> = (1..N).map(|i| (i - 1, i, i + 1)).collect();
+    cells.push((0, 0, 1));
+    cells.push((N - 1, N, N));
+    for (ia, im, ib) in cells {
+        let (Some(fa), Some(fm), Some(fb)) = (vals[ia], vals[im], vals[ib]) else {
             continue;
         };
-        if fa.signum() == fm.signum()
-            && fm.signum() == fb.signum()
-            && fm.abs() < fa.abs()
-            && fm.abs() < fb.abs()
-        {
-            // Golden-section search for the extremum of |f| in [x_{i-1}, x_{i+1}].
-            let (mut a, mut b) = (xs[i - 1], xs[i + 1]);
-            let r = 0.618_033_988_749_894_9;
-            for _ in 0..80 {
-                let c = b - r * (b - a);
-                let d = a + r * (b - a);
-                match (eval(c), eval(d)) {
-                    (Ok(fc), Ok(fd)) => {
-                        if fc.abs() < fd.abs() {
-                            b = d;
-                        } else {
-                            a = c;
-                        }
+        let candidate = if ia != im && im != ib {
+            fm.abs() < fa.abs() && fm.abs() < fb.abs()
+        } else if im == ia {
+            fm.abs() < fb.abs()
+        } else {
+            fm.abs() < fa.abs()
+        };
+        if !(candidate && fa.signum() == fm.signum() && fm.signum() == fb.signum()) {
+            continue;
+        }
+        // Golden-section search for the extremum of f toward zero (the minimum of
+        // sign(f_m) f) in [x_a, x_b]; if f changes sign there, the cell holds two roots.
+        let sg = fm.signum();
+        let (mut a, mut b) = (xs[ia], xs[ib]);
+        let r = 0.618_033_988_749_894_9;
+        for _ in 0..80 {
+            let c = b - r * (b - a);
+            let d = a + r * (b - a);
+            match (eval(c), eval(d)) {
+                (Ok(fc), Ok(fd)) => {
+                    if sg * fc < sg * fd {
+                        b = d;
+                    } else {
+                        a = c;
                     }
-                    _ => break,
                 }
+                _ => break,
             }
-            let xm = 0.5 * (a + b);
-            if let Ok(fx) = eval(xm) {
-                if fx.signum() != fm.signum() {
-                    brackets.push((xs[i - 1], xm));
-                    brackets.push((xm, xs[i + 1]));
-                } else if fx.abs() <= 1e-9 * q.scale(target) {
-                    brackets.push((xm, xm));
-                }
+        }
+        let xm = 0.5 * (a + b);
+        if let Ok(fx) = eval(xm) {
+            if fx.signum() != fm.signum() {
+                brackets.push((xs[ia], xm));
+                brackets.push((xm, xs[ib]));
+            } else if fx.abs() <= 1e-9 * q.scale(target) {
+                brackets.push((xm, xm));
             }
         }
     }
@@ -1078,8 +1158,14 @@ fn choose(cands: Vec<State>, what: &str, opts: &Options) -> Result<State> {
                 }
             }
             let list: Vec<String> = cands.iter().map(describe).collect();
+            let same_phase = cands.iter().all(|c| c.phase == cands[0].phase);
+            let hint = if same_phase {
+                "give another pair, e.g. p and T"
+            } else {
+                "give another pair, or prefer = \"liquid\", \"vapour\", \"wet\" or \"supercritical\""
+            };
             Err(Error::no_unique(format!(
-                "{what} admits {} states: {}; give a third property or the option prefer",
+                "{what} admits {} states: {}; {hint}",
                 cands.len(),
                 list.join(" or ")
             )))
