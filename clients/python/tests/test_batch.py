@@ -76,7 +76,7 @@ def test_chunking_120000_rows(client, monkeypatch, capsys):
     assert len(out) == n
     # a few rows against single calls, at the start, across chunk borders and the end
     for i in (0, 49999, 50000, 100001, n - 1):
-        assert out["errors"].iloc[i] is None, out["errors"].iloc[i]
+        assert pd.isna(out["errors"].iloc[i]), out["errors"].iloc[i]
         assert out["h"].iloc[i] == real("water.state", {"given": {"p": p[i], "T": t[i]}})["h"], i
     # the grid is all single-phase: no row fails, and every h is a number
     assert out["errors"].isna().all() and out["h"].notna().all()

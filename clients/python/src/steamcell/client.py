@@ -253,7 +253,9 @@ def _result_table(out, errs, want_list, index, is_frame):
     table["errors"] = errs
     if is_frame:
         import pandas as pd  # type: ignore
-        return pd.DataFrame(table, index=index)
+        frame = pd.DataFrame({w: table[w] for w in want_list}, index=index)
+        frame["errors"] = pd.Series(errs, index=index, dtype=object)  # None stays None
+        return frame
     return table
 
 
