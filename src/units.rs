@@ -414,6 +414,15 @@ impl Preset {
         }
     }
 
+    /// What the preset selects, for `server.info`.
+    pub fn description(self) -> &'static str {
+        match self {
+            Preset::Si => "Coherent SI: Pa, K, J/kg, J/(kg K), m3/kg, kg/m3, m/s, Pa s, W/(m K), N/m, kg/s, W",
+            Preset::Engineering => "The default: MPa, degC, kJ/kg, kJ/(kg K), m3/kg, kg/m3, m/s, uPa s, mW/(m K), mN/m, kg/s, kW",
+            Preset::Us => "US customary: psia, degF, Btu/lb, Btu/(lb F), ft3/lb, lb/ft3, ft/s, lb/(ft h), lb/h, kW (power), MMBtu/h (heat)",
+        }
+    }
+
     /// All presets.
     pub const ALL: [Preset; 3] = [Preset::Si, Preset::Engineering, Preset::Us];
 

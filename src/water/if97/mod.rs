@@ -1,3 +1,11 @@
 //! IAPWS-IF97 (IAPWS R7-97(2012)): basic equations of regions 1 to 5, the region boundaries and
 //! the supplementary backward equations. Internal units: MPa, K, kJ/kg, kJ/(kg K), m3/kg.
+pub mod b23;
 pub mod backward;
+mod powers;
+pub mod region1;
+pub mod region2;
+pub mod region3;
+pub mod region4;
+pub mod region5;
+pub mod regions;

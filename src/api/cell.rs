@@ -1,0 +1,207 @@
+//! The one-number interface: `GET /cell/{quantity}?{given...}` and `steamcell get`, for
+//! spreadsheet cells that want a bare number rather than JSON.
+//!
+//! The query pairs become the `given` object of `water.state` (values are URL-decoded by the
+//! caller; a value that is a plain finite number goes as a JSON number, anything else such as
+//! "10 MPa" as a string), except the reserved names in [`RESERVED`] which become top-level
+//! params. The answer is the field `{quantity}` of the result, written as the shortest text that
+//! parses back to the same f64 (Rust `{}` of f64). Units are those of the request.
+//!
+//! Invariant: every failure is a [`CellError`] with an HTTP status and a one-line reason.
+
+use super::{codes, find, ApiError};
+use schemars::gen::SchemaSettings;
+use serde_json::{Map, Value};
+use std::sync::OnceLock;
+
+/// The method the cell interface calls.
+pub const STATE_METHOD: &str = "water.state";
+
+/// Query names that are top-level params of `water.state` rather than given quantities.
+pub const RESERVED: &[&str] = &[
+    "units",
+    "ambient",
+    "formulation",
+    "prefer",
+    "backward_only",
+    "metastable",
+];
+
+/// A failed cell request: an HTTP status and a one-line human-readable reason.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct CellError {
+    /// 400 bad input, 404 unknown quantity or method, 422 no value for this state, 500 fault.
+    pub status: u16,
+    /// One line, no trailing newline.
+    pub reason: String,
+}
+
+impl CellError {
+    fn new(status: u16, reason: impl Into<String>) -> CellError {
+        CellError {
+            status,
+            reason: reason.into(),
+        }
+    }
+}
+
+/// The HTTP status for an API error code: 400 for bad input, 422 for a state that has no
+/// answer, 404 for an unknown method, 500 otherwise.
+pub fn http_status(code: i64) -> u16 {
+    match code {
+        codes::INVALID_PARAMS
+        | codes::INVALID_REQUEST
+        | codes::PARSE_ERROR
+        | codes::NOT_FINITE
+        | codes::UNKNOWN_UNIT
+        | codes::WRONG_DIMENSION
+        | codes::INVALID_INPUT
+        | codes::LIMIT_EXCEEDED => 400,
+        codes::OUT_OF_RANGE | codes::NO_UNIQUE_STATE | codes::NOT_CONVERGED | codes::INFEASIBLE => {
+            422
+        }
+        codes::METHOD_NOT_FOUND => 404,
+        _ => 500,
+    }
+}
+
+impl From<ApiError> for CellError {
+    fn from(e: ApiError) -> CellError {
+        CellError::new(http_status(e.code), one_line(&e.message))
+    }
+}
+
+fn one_line(s: &str) -> String {
+    s.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+/// The top-level result fields of the state method (the quantities a cell may ask for).
+pub fn known_quantities() -> &'static [String] {
+    static KNOWN: OnceLock<Vec<String>> = OnceLock::new();
+    KNOWN.get_or_init(|| {
+        let Some(m) = find(STATE_METHOD) else {
+            return Vec::new();
+        };
+        let mut gen = SchemaSettings::draft07().into_generator();
+        let schema = serde_json::to_value((m.result_schema)(&mut gen)).unwrap_or(Value::Null);
+        let defs: Map<String, Value> = gen
+            .definitions()
+            .iter()
+            .map(|(k, v)| (k.clone(), serde_json::to_value(v).unwrap_or(Value::Null)))
+            .collect();
+        let resolved = match schema.get("$ref").and_then(Value::as_str) {
+            Some(r) => defs
+                .get(r.rsplit('/').next().unwrap_or(""))
+                .cloned()
+                .unwrap_or(Value::Null),
+            None => schema,
+        };
+        resolved
+            .get("properties")
+            .and_then(Value::as_object)
+            .map(|p| p.keys().filter(|k| *k != "units").cloned().collect())
+            .unwrap_or_default()
+    })
+}
+
+fn wire_value(text: &str) -> Value {
+    match text.trim().parse::<f64>() {
+        Ok(x) if x.is_finite() => serde_json::Number::from_f64(x)
+            .map(Value::Number)
+            .unwrap_or_else(|| Value::String(text.to_string())),
+        _ => Value::String(text.to_string()),
+    }
+}
+
+/// Builds the `water.state` params from decoded query pairs.
+pub fn params_from_pairs(pairs: &[(String, String)]) -> Result<Value, CellError> {
+    let mut given = Map::new();
+    let mut top = Map::new();
+    for (k, v) in pairs {
+        if k.is_empty() {
+            return Err(CellError::new(400, format!("empty name in '={v}'")));
+        }
+        let (target, value) = if RESERVED.contains(&k.as_str()) {
+            let value = if k == "ambient" {
+                wire_value(v)
+            } else if k == "backward_only" || k == "metastable" {
+                match v.as_str() {
+                    "true" | "1" | "yes" => Value::Bool(true),
+                    "false" | "0" | "no" => Value::Bool(false),
+                    _ => {
+                        return Err(CellError::new(
+                            400,
+                            format!("{k} = '{v}' is not a switch; accepted: true, false"),
+                        ))
+                    }
+                }
+            } else {
+                Value::String(v.clone())
+            };
+            (&mut top, value)
+        } else {
+            (&mut given, wire_value(v))
+        };
+        if target.insert(k.clone(), value).is_some() {
+            return Err(CellError::new(400, format!("'{k}' is given twice")));
+        }
+    }
+    top.insert("given".to_string(), Value::Object(given));
+    Ok(Value::Object(top))
+}
+
+/// Answers one cell: the field `quantity` of `water.state` for the decoded `pairs`, as text.
+pub fn cell(quantity: &str, pairs: &[(String, String)]) -> Result<String, CellError> {
+    let known = known_quantities();
+    if find(STATE_METHOD).is_none() {
+        return Err(CellError::new(
+            404,
+            format!("method {STATE_METHOD} is not available"),
+        ));
+    }
+    if !known.iter().any(|k| k == quantity) {
+        return Err(CellError::new(
+            404,
+            format!("unknown quantity '{quantity}'; known: {}", known.join(", ")),
+        ));
+    }
+    let params = params_from_pairs(pairs)?;
+    let result = super::call(STATE_METHOD, params)?;
+    match result.get(quantity) {
+        Some(Value::Number(n)) => match n.as_f64() {
+            Some(x) => Ok(format!("{x}")),
+            None => Ok(n.to_string()),
+        },
+        Some(Value::Null) | None => {
+            let why = result["undefined"][quantity]
+                .as_str()
+                .unwrap_or("not defined for this state");
+            Err(CellError::new(422, format!("{quantity}: {why}")))
+        }
+        Some(Value::String(s)) => Ok(one_line(s)),
+        Some(Value::Bool(b)) => Ok(b.to_string()),
+        Some(_) => Err(CellError::new(
+            404,
+            format!("{quantity} is not a single value; use the JSON-RPC method {STATE_METHOD}"),
+        )),
+    }
+}
+
+/// Splits command-line `key=value` words into pairs (the value may contain '=' and spaces).
+pub fn pairs_from_args<S: AsRef<str>>(args: &[S]) -> Result<Vec<(String, String)>, CellError> {
+    args.iter()
+        .map(|a| {
+            let a = a.as_ref();
+            a.split_once('=')
+                .map(|(k, v)| (k.trim().to_string(), v.trim().to_string()))
+                .ok_or_else(|| CellError::new(400, format!("'{a}' is not of the form name=value")))
+        })
+        .collect()
+}
+
+/// Decodes a URL query string (`a=1&b=10%20MPa`, '+' as space) into pairs.
+pub fn pairs_from_query(query: &str) -> Vec<(String, String)> {
+    form_urlencoded::parse(query.as_bytes())
+        .map(|(k, v)| (k.into_owned(), v.into_owned()))
+        .collect()
+}

@@ -1,0 +1,170 @@
+//! The `server.*` methods: what this server is (`server.info`) and how to call it
+//! (`server.schema`, the OpenRPC document).
+//!
+//! No units here. Invariant: `server.info` never fails and its non-volatile part (everything but
+//! `uptime_s` and `requests_served`) depends only on the build.
+
+use super::{limits, openrpc, registry, MethodSpec};
+use schemars::JsonSchema;
+use serde::{Deserialize, Serialize};
+
+/// Formulations this build offers: (name, release text).
+pub const FORMULATIONS: &[(&str, &str)] = &[(
+    "IAPWS-IF97",
+    "IAPWS R7-97(2012) with SR2-01, SR3-03, SR4-04, SR5-05",
+)];
+
+/// No parameters; send `{}`, `[]` or omit params.
+#[derive(Debug, Clone, Default, Deserialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct NoParams {}
+
+/// A property formulation offered by this server.
+#[derive(Debug, Clone, Serialize, JsonSchema)]
+pub struct Formulation {
+    /// Short name, e.g. "IAPWS-IF97".
+    pub name: String,
+    /// The release and supplementary releases implemented.
+    pub release: String,
+}
+
+/// A unit preset.
+#[derive(Debug, Clone, Serialize, JsonSchema)]
+pub struct UnitPreset {
+    /// Preset name, as accepted by the `units` param.
+    pub name: String,
+    /// What units it selects.
+    pub description: String,
+}
+
+/// Limits this server enforces.
+#[derive(Debug, Clone, Serialize, JsonSchema)]
+pub struct Limits {
+    /// Largest request body (HTTP body, WebSocket message or stdio line), bytes.
+    pub max_request_body_bytes: u32,
+    /// Largest response body, bytes.
+    pub max_response_body_bytes: u32,
+    /// Most calls in one JSON-RPC batch array.
+    pub max_batch_requests: u32,
+    /// Most rows in one table-style method call.
+    pub max_batch_rows: u32,
+    /// Most simultaneous connections.
+    pub max_connections: u32,
+}
+
+/// What this server is and how it is doing.
+#[derive(Debug, Clone, Serialize, JsonSchema)]
+pub struct ServerInfo {
+    /// Program name, "steamcell".
+    pub name: String,
+    /// steamcell version (semantic versioning).
+    pub version: String,
+    /// Formulations offered.
+    pub formulations: Vec<Formulation>,
+    /// Unit presets accepted by the `units` param.
+    pub unit_presets: Vec<UnitPreset>,
+    /// Limits enforced.
+    pub limits: Limits,
+    /// Names of all methods.
+    pub methods: Vec<String>,
+    /// Digest of the built-in validation run; identifies the validated build.
+    pub digest: String,
+    /// Seconds since the server started.
+    pub uptime_s: f64,
+    /// Method calls served since start (all transports, this one included).
+    pub requests_served: u64,
+}
+
+/// An OpenRPC 1.2.6 document describing every method, its params, result and errors.
+#[derive(Debug, Clone, Serialize)]
+#[serde(transparent)]
+pub struct OpenRpcDocument(pub serde_json::Value);
+
+impl JsonSchema for OpenRpcDocument {
+    fn schema_name() -> String {
+        "OpenRpcDocument".to_string()
+    }
+
+    fn json_schema(_: &mut schemars::gen::SchemaGenerator) -> schemars::schema::Schema {
+        use schemars::schema::{InstanceType, Metadata, ObjectValidation, SchemaObject};
+        SchemaObject {
+            metadata: Some(Box::new(Metadata {
+                description: Some(
+                    "An OpenRPC 1.2.6 document (see the OpenRPC specification) describing every \
+                     method, its params, result and errors."
+                        .to_string(),
+                ),
+                ..Default::default()
+            })),
+            instance_type: Some(InstanceType::Object.into()),
+            object: Some(Box::new(ObjectValidation {
+                required: ["openrpc", "info", "methods"]
+                    .iter()
+                    .map(|s| s.to_string())
+                    .collect(),
+                ..Default::default()
+            })),
+            ..Default::default()
+        }
+        .into()
+    }
+}
+
+/// The `server.info` body.
+pub fn info(_: NoParams) -> crate::Result<ServerInfo> {
+    Ok(ServerInfo {
+        name: "steamcell".to_string(),
+        version: env!("CARGO_PKG_VERSION").to_string(),
+        formulations: FORMULATIONS
+            .iter()
+            .map(|(n, r)| Formulation {
+                name: n.to_string(),
+                release: r.to_string(),
+            })
+            .collect(),
+        unit_presets: crate::units::Preset::ALL
+            .iter()
+            .map(|p| UnitPreset {
+                name: p.name().to_string(),
+                description: p.description().to_string(),
+            })
+            .collect(),
+        limits: Limits {
+            max_request_body_bytes: limits::MAX_REQUEST_BODY_BYTES,
+            max_response_body_bytes: limits::MAX_RESPONSE_BODY_BYTES,
+            max_batch_requests: limits::MAX_BATCH_REQUESTS,
+            max_batch_rows: limits::MAX_BATCH_ROWS,
+            max_connections: limits::MAX_CONNECTIONS,
+        },
+        methods: registry().iter().map(|m| m.name.to_string()).collect(),
+        digest: super::validation_digest(),
+        uptime_s: super::uptime_s(),
+        requests_served: super::requests_served(),
+    })
+}
+
+/// The `server.schema` body.
+pub fn schema(_: NoParams) -> crate::Result<OpenRpcDocument> {
+    Ok(OpenRpcDocument(openrpc::document()))
+}
+
+/// The server methods.
+pub fn methods() -> Vec<MethodSpec> {
+    vec![
+        MethodSpec::new::<NoParams, ServerInfo>(
+            "server.info",
+            "What this server is: version, formulations, unit presets, limits, uptime",
+            "Returns the program version, the formulations and unit presets offered, the limits \
+             enforced, the method names, the validation digest, the uptime in seconds and the \
+             number of method calls served. Never fails.",
+            info,
+        ),
+        MethodSpec::new::<NoParams, OpenRpcDocument>(
+            "server.schema",
+            "The OpenRPC document describing every method",
+            "Returns the OpenRPC 1.2.6 document of this server (the same as GET /schema and \
+             `steamcell schema`): every method with its by-name params, result and error codes.",
+            schema,
+        ),
+    ]
+}

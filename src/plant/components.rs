@@ -1,0 +1,1084 @@
+//! Single components: turbine expansion and turbine trains, pumps, let-down valves,
+//! desuperheaters, flash vessels, mixing headers, two-stream heat exchangers, boilers and
+//! deaerators.
+//!
+//! Units: p MPa, T K, h kJ/kg, s kJ/(kg K), flow kg/s, power and duty kW. Specific results are
+//! per kg of the component's reference stream.
+//!
+//! Invariant: every result carries its [`Balance`]; a test checks closure to 1e-9 for each.
+
+use super::{ph, ps, pt, sat_liquid, sat_vapour, Balance, MOISTURE_WARNING};
+use crate::error::{Bound, Error, Result};
+use crate::water::state::{self, Phase, State, P_C, T_C};
+
+/// Standard acceleration of gravity for heads, m/s2 (CGPM 1901; common practice, no source).
+pub const G0: f64 = 9.80665;
+
+fn check_flow(name: &str, flow: f64) -> Result<f64> {
+    Error::check_finite(name, flow)?;
+    if flow < 0.0 {
+        return Err(Error::out_of_range(
+            name,
+            flow,
+            0.0,
+            "kg/s",
+            Bound::Below,
+            "mass balance",
+        ));
+    }
+    Ok(flow)
+}
+
+fn check_efficiency(name: &str, eta: f64) -> Result<f64> {
+    Error::check_finite(name, eta)?;
+    if eta <= 0.0 {
+        return Err(Error::out_of_range(
+            name,
+            eta,
+            0.0,
+            "1",
+            Bound::Below,
+            "an efficiency",
+        ));
+    }
+    if eta > 1.0 {
+        return Err(Error::out_of_range(
+            name,
+            eta,
+            1.0,
+            "1",
+            Bound::Above,
+            "an efficiency",
+        ));
+    }
+    Ok(eta)
+}
+
+/// Moisture (1 - x) of a state: 0 for single-phase states.
+pub fn moisture(st: &State) -> f64 {
+    st.x.map(|x| 1.0 - x).unwrap_or(0.0)
+}
+
+fn near_critical(st: &State) -> bool {
+    (st.props.p / P_C - 1.0).abs() < 0.05 && (st.props.t / T_C - 1.0).abs() < 0.02
+}
+
+/// How a turbine's outlet is fixed.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum TurbineSpec {
+    /// Isentropic efficiency (0, 1].
+    Efficiency(f64),
+    /// The measured outlet state (at the outlet pressure).
+    Outlet(State),
+}
+
+/// Result of a turbine expansion.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Expansion {
+    /// Inlet state.
+    pub inlet: State,
+    /// Actual outlet state.
+    pub outlet: State,
+    /// Outlet of the isentropic expansion to the same pressure.
+    pub isentropic_outlet: State,
+    /// Specific work h_in - h_out, kJ/kg.
+    pub specific_work: f64,
+    /// Isentropic specific work h_in - h_out,s, kJ/kg.
+    pub isentropic_work: f64,
+    /// Isentropic efficiency (given or derived).
+    pub efficiency: f64,
+    /// Exhaust moisture 1 - x (0 for superheated exhaust).
+    pub moisture: f64,
+    /// Power, kW, when a flow was given.
+    pub power: Option<f64>,
+    /// Balance (per kg/s when no flow was given).
+    pub balance: Balance,
+    /// Practitioner warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Expands steam through a turbine to `outlet_p` (MPa).
+pub fn turbine_expand(
+    inlet: &State,
+    outlet_p: f64,
+    spec: TurbineSpec,
+    flow: Option<f64>,
+) -> Result<Expansion> {
+    Error::check_finite("outlet_p", outlet_p)?;
+    if outlet_p >= inlet.props.p {
+        return Err(Error::out_of_range(
+            "outlet_p",
+            outlet_p,
+            inlet.props.p,
+            "MPa",
+            Bound::Above,
+            "a turbine (the outlet pressure must be below the inlet pressure)",
+        ));
+    }
+    if let Some(f) = flow {
+        check_flow("flow", f)?;
+    }
+    let iso = ps(outlet_p, inlet.props.s)?;
+    let dh_s = inlet.props.h - iso.props.h;
+    let (outlet, eta) = match spec {
+        TurbineSpec::Efficiency(eta) => {
+            let eta = check_efficiency("efficiency", eta)?;
+            let h2 = inlet.props.h - eta * dh_s;
+            (ph(outlet_p, h2)?, eta)
+        }
+        TurbineSpec::Outlet(out) => {
+            if (out.props.p - outlet_p).abs() > 1e-9 * outlet_p {
+                return Err(Error::invalid(format!(
+                    "the measured outlet is at p = {} MPa, not at outlet_p = {outlet_p} MPa",
+                    out.props.p
+                )));
+            }
+            let eta = (inlet.props.h - out.props.h) / dh_s;
+            (out, eta)
+        }
+    };
+    let mut warnings = Vec::new();
+    if outlet.props.s < inlet.props.s - 1e-9 * inlet.props.s.abs().max(1.0) {
+        return Err(Error::infeasible(format!(
+            "the outlet entropy {:.6} kJ/(kg K) is below the inlet entropy {:.6} kJ/(kg K): a measured efficiency of {:.4} above 1 is impossible; check the measurements",
+            outlet.props.s, inlet.props.s, eta
+        )));
+    }
+    let m = moisture(&outlet);
+    if m > MOISTURE_WARNING {
+        warnings.push(format!(
+            "exhaust moisture {:.1} % exceeds about 12 % (common practice): expect blade erosion; consider reheat or a higher exhaust pressure",
+            100.0 * m
+        ));
+    }
+    if outlet.region.number() == 3 || near_critical(&outlet) {
+        warnings.push(
+            "the outlet lies in IF97 region 3 / near the critical point, where properties change steeply".into(),
+        );
+    }
+    if inlet.phase == Phase::Wet || inlet.phase == Phase::Liquid {
+        warnings.push(format!(
+            "the inlet is {} (not superheated steam)",
+            inlet.phase.name()
+        ));
+    }
+    let w = inlet.props.h - outlet.props.h;
+    let mflow = flow.unwrap_or(1.0);
+    Ok(Expansion {
+        inlet: *inlet,
+        outlet,
+        isentropic_outlet: iso,
+        specific_work: w,
+        isentropic_work: dh_s,
+        efficiency: eta,
+        moisture: m,
+        power: flow.map(|f| f * w),
+        balance: Balance {
+            mass_in: mflow,
+            mass_out: mflow,
+            energy_in: mflow * inlet.props.h,
+            energy_out: mflow * outlet.props.h + mflow * w,
+        },
+        warnings,
+    })
+}
+
+/// One stage of a turbine train.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct StageSpec {
+    /// Stage outlet pressure, MPa.
+    pub outlet_p: f64,
+    /// Stage isentropic efficiency.
+    pub efficiency: f64,
+    /// Steam extracted at the stage outlet, kg/s (0 for none).
+    pub extraction: f64,
+}
+
+/// Result of one stage of a train.
+#[derive(Debug, Clone, PartialEq)]
+pub struct StageResult {
+    /// The stage's expansion (power for the stage flow).
+    pub expansion: Expansion,
+    /// Flow through the stage, kg/s.
+    pub flow: f64,
+    /// Extraction at the stage outlet, kg/s.
+    pub extraction: f64,
+}
+
+/// Result of a turbine train.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Train {
+    /// Stages in order.
+    pub stages: Vec<StageResult>,
+    /// Total power, kW.
+    pub power: f64,
+    /// Exhaust flow, kg/s.
+    pub exhaust_flow: f64,
+    /// Overall isentropic efficiency from inlet to final exhaust.
+    pub overall_efficiency: f64,
+    /// Balance.
+    pub balance: Balance,
+    /// Warnings of all stages.
+    pub warnings: Vec<String>,
+}
+
+/// Expands through stages in series with extractions.
+pub fn turbine_train(inlet: &State, flow: f64, stages: &[StageSpec]) -> Result<Train> {
+    check_flow("flow", flow)?;
+    if stages.is_empty() {
+        return Err(Error::invalid("a turbine train needs at least one stage"));
+    }
+    let mut st = *inlet;
+    let mut m = flow;
+    let mut out = Vec::new();
+    let mut power = 0.0;
+    let mut energy_out = 0.0;
+    let mut warnings = Vec::new();
+    for (i, spec) in stages.iter().enumerate() {
+        check_flow(&format!("stages[{i}].extraction"), spec.extraction)?;
+        let ex = turbine_expand(
+            &st,
+            spec.outlet_p,
+            TurbineSpec::Efficiency(spec.efficiency),
+            Some(m),
+        )
+        .map_err(|e| Error::invalid(format!("stage {}: {e}", i + 1)))?;
+        power += ex.power.unwrap_or(0.0);
+        if spec.extraction > m {
+            return Err(Error::infeasible(format!(
+                "stage {}: extraction {} kg/s exceeds the stage flow {} kg/s",
+                i + 1,
+                spec.extraction,
+                m
+            )));
+        }
+        energy_out += spec.extraction * ex.outlet.props.h;
+        for w in &ex.warnings {
+            warnings.push(format!("stage {}: {w}", i + 1));
+        }
+        st = ex.outlet;
+        let stage_flow = m;
+        m -= spec.extraction;
+        out.push(StageResult {
+            expansion: ex,
+            flow: stage_flow,
+            extraction: spec.extraction,
+        });
+    }
+    energy_out += m * st.props.h + power;
+    let iso = ps(st.props.p, inlet.props.s)?;
+    let overall = (inlet.props.h - st.props.h) / (inlet.props.h - iso.props.h);
+    Ok(Train {
+        stages: out,
+        power,
+        exhaust_flow: m,
+        overall_efficiency: overall,
+        balance: Balance {
+            mass_in: flow,
+            mass_out: m + stages.iter().map(|s| s.extraction).sum::<f64>(),
+            energy_in: flow * inlet.props.h,
+            energy_out,
+        },
+        warnings,
+    })
+}
+
+/// How a pump efficiency is meant.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PumpEfficiencyKind {
+    /// Isentropic: w = (h(p2, s1) - h1) / eta.
+    Isentropic,
+    /// Hydraulic (incompressible): w = v1 (p2 - p1) / eta.
+    Hydraulic,
+}
+
+/// Result of a pump.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PumpResult {
+    /// Inlet state.
+    pub inlet: State,
+    /// Outlet state.
+    pub outlet: State,
+    /// Outlet of the isentropic compression.
+    pub isentropic_outlet: State,
+    /// Specific work added, kJ/kg.
+    pub specific_work: f64,
+    /// Power, kW, when a flow is given.
+    pub power: Option<f64>,
+    /// Efficiency used.
+    pub efficiency: f64,
+    /// Differential head, m of the inlet liquid.
+    pub head: f64,
+    /// Net positive suction head available at the inlet, m: (p1 - psat(T1)) / (rho1 g).
+    pub npsh_available: Option<f64>,
+    /// Balance.
+    pub balance: Balance,
+    /// Warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Raises liquid to `outlet_p` (MPa).
+pub fn pump_raise(
+    inlet: &State,
+    outlet_p: f64,
+    efficiency: f64,
+    kind: PumpEfficiencyKind,
+    flow: Option<f64>,
+) -> Result<PumpResult> {
+    Error::check_finite("outlet_p", outlet_p)?;
+    let eta = check_efficiency("efficiency", efficiency)?;
+    if outlet_p <= inlet.props.p {
+        return Err(Error::out_of_range(
+            "outlet_p",
+            outlet_p,
+            inlet.props.p,
+            "MPa",
+            Bound::Below,
+            "a pump (the outlet pressure must be above the inlet pressure)",
+        ));
+    }
+    if let Some(f) = flow {
+        check_flow("flow", f)?;
+    }
+    if inlet.phase != Phase::Liquid && !(inlet.phase == Phase::Wet && inlet.x == Some(0.0)) {
+        return Err(Error::invalid(format!(
+            "a pump needs liquid at its inlet; the inlet is {}",
+            inlet.phase.name()
+        )));
+    }
+    let iso = ps(outlet_p, inlet.props.s)?;
+    let w = match kind {
+        PumpEfficiencyKind::Isentropic => (iso.props.h - inlet.props.h) / eta,
+        PumpEfficiencyKind::Hydraulic => inlet.props.v * (outlet_p - inlet.props.p) * 1e3 / eta,
+    };
+    let outlet = ph(outlet_p, inlet.props.h + w)?;
+    let rho = inlet.props.rho;
+    let head = (outlet_p - inlet.props.p) * 1e6 / (rho * G0);
+    let mut warnings = Vec::new();
+    let npsh = if inlet.props.t < T_C {
+        let (psat, _, _) = state::saturation_t(inlet.props.t)?;
+        let n = (inlet.props.p - psat) * 1e6 / (rho * G0);
+        if n < 3.0 {
+            warnings.push(format!(
+                "NPSH available is only {n:.2} m: compare with the pump maker's NPSH required plus a margin"
+            ));
+        }
+        Some(n)
+    } else {
+        None
+    };
+    let m = flow.unwrap_or(1.0);
+    Ok(PumpResult {
+        inlet: *inlet,
+        outlet,
+        isentropic_outlet: iso,
+        specific_work: w,
+        power: flow.map(|f| f * w),
+        efficiency: eta,
+        head,
+        npsh_available: npsh,
+        balance: Balance {
+            mass_in: m,
+            mass_out: m,
+            energy_in: m * inlet.props.h + m * w,
+            energy_out: m * outlet.props.h,
+        },
+        warnings,
+    })
+}
+
+/// Result of a throttling valve.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ValveResult {
+    /// Inlet state.
+    pub inlet: State,
+    /// Outlet state (same enthalpy).
+    pub outlet: State,
+    /// Superheat after the valve, K (None when the outlet is wet or liquid).
+    pub superheat: Option<f64>,
+    /// Temperature drop across the valve, K.
+    pub temperature_drop: f64,
+    /// Balance.
+    pub balance: Balance,
+    /// Warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Superheat of a vapour state, K.
+pub fn superheat_of(st: &State) -> Option<f64> {
+    if st.phase == Phase::Vapour && st.props.p < P_C {
+        state::saturation_p(st.props.p)
+            .ok()
+            .map(|(ts, _, _)| st.props.t - ts)
+    } else {
+        None
+    }
+}
+
+/// Isenthalpic let-down to `outlet_p` (MPa).
+pub fn valve_throttle(inlet: &State, outlet_p: f64, flow: Option<f64>) -> Result<ValveResult> {
+    Error::check_finite("outlet_p", outlet_p)?;
+    if outlet_p > inlet.props.p {
+        return Err(Error::out_of_range(
+            "outlet_p",
+            outlet_p,
+            inlet.props.p,
+            "MPa",
+            Bound::Above,
+            "a let-down valve (flow runs from high to low pressure)",
+        ));
+    }
+    let outlet = ph(outlet_p, inlet.props.h)?;
+    let mut warnings = Vec::new();
+    if outlet.phase == Phase::Wet && inlet.phase == Phase::Liquid {
+        warnings.push(format!(
+            "the liquid flashes in the valve: {:.1} % leaves as steam (consider a flash vessel and erosion-resistant trim)",
+            100.0 * outlet.x.unwrap_or(0.0)
+        ));
+    }
+    let m = flow.unwrap_or(1.0);
+    Ok(ValveResult {
+        inlet: *inlet,
+        superheat: superheat_of(&outlet),
+        temperature_drop: inlet.props.t - outlet.props.t,
+        outlet,
+        balance: Balance {
+            mass_in: m,
+            mass_out: m,
+            energy_in: m * inlet.props.h,
+            energy_out: m * outlet.props.h,
+        },
+        warnings,
+    })
+}
+
+/// What a desuperheater aims for.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum SprayTarget {
+    /// Outlet temperature, K.
+    Temperature(f64),
+    /// Outlet superheat above saturation at the outlet pressure, K.
+    Superheat(f64),
+}
+
+/// Result of a desuperheater.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SprayResult {
+    /// Steam inlet.
+    pub steam: State,
+    /// Spray water.
+    pub water: State,
+    /// Outlet state.
+    pub outlet: State,
+    /// Spray water flow, kg/s (per kg/s of steam when no steam flow is given).
+    pub spray_flow: f64,
+    /// Spray per kg of inlet steam.
+    pub spray_ratio: f64,
+    /// Outlet flow, kg/s.
+    pub outlet_flow: f64,
+    /// Outlet superheat, K.
+    pub superheat: f64,
+    /// Balance.
+    pub balance: Balance,
+    /// Warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Sprays water into steam to reach a target temperature or superheat at `outlet_p` (MPa; the
+/// steam pressure when None).
+pub fn desuperheater_spray(
+    steam: &State,
+    steam_flow: Option<f64>,
+    water: &State,
+    outlet_p: Option<f64>,
+    target: SprayTarget,
+) -> Result<SprayResult> {
+    let p = outlet_p.unwrap_or(steam.props.p);
+    Error::check_finite("outlet_p", p)?;
+    if p > steam.props.p * (1.0 + 1e-12) {
+        return Err(Error::out_of_range(
+            "outlet_p",
+            p,
+            steam.props.p,
+            "MPa",
+            Bound::Above,
+            "a desuperheater (the outlet cannot exceed the steam pressure)",
+        ));
+    }
+    if let Some(f) = steam_flow {
+        check_flow("steam flow", f)?;
+    }
+    let (ts, _, _) = if p < P_C {
+        state::saturation_p(p)?
+    } else {
+        return Err(Error::invalid(
+            "a desuperheater outlet above the critical pressure has no superheat",
+        ));
+    };
+    let t_out = match target {
+        SprayTarget::Temperature(t) => t,
+        SprayTarget::Superheat(dt) => {
+            Error::check_finite("superheat", dt)?;
+            ts + dt
+        }
+    };
+    Error::check_finite("target T", t_out)?;
+    if t_out <= ts {
+        return Err(Error::infeasible(format!(
+            "the target outlet temperature {:.3} K is not above the saturation temperature {:.3} K at {} MPa: a desuperheater cannot produce wet steam; aim for some superheat (typically 5 to 10 K; common practice, no source)",
+            t_out, ts, p
+        )));
+    }
+    let outlet = pt(p, t_out)?;
+    let h_in = steam.props.h;
+    let h_out = outlet.props.h;
+    let h_w = water.props.h;
+    if h_out > h_in {
+        return Err(Error::infeasible(format!(
+            "the target outlet enthalpy {h_out:.3} kJ/kg is above the steam enthalpy {h_in:.3} kJ/kg: spray water cannot heat the steam"
+        )));
+    }
+    if h_w >= h_out {
+        return Err(Error::infeasible(format!(
+            "the spray water enthalpy {h_w:.3} kJ/kg is not below the target {h_out:.3} kJ/kg"
+        )));
+    }
+    let ratio = (h_in - h_out) / (h_out - h_w);
+    let ms = steam_flow.unwrap_or(1.0);
+    let mw = ms * ratio;
+    let mut warnings = Vec::new();
+    if water.props.p < p {
+        warnings.push(format!(
+            "the spray water pressure {:.4} MPa is below the outlet pressure {:.4} MPa: it cannot enter without a pump",
+            water.props.p, p
+        ));
+    }
+    if t_out - ts < 5.0 {
+        warnings.push(format!(
+            "outlet superheat {:.1} K is small: spray may not evaporate fully (common practice, no source)",
+            t_out - ts
+        ));
+    }
+    Ok(SprayResult {
+        steam: *steam,
+        water: *water,
+        outlet,
+        spray_flow: mw,
+        spray_ratio: ratio,
+        outlet_flow: ms + mw,
+        superheat: t_out - ts,
+        balance: Balance {
+            mass_in: ms + mw,
+            mass_out: ms + mw,
+            energy_in: ms * h_in + mw * h_w,
+            energy_out: (ms + mw) * h_out,
+        },
+        warnings,
+    })
+}
+
+/// Result of a flash vessel.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FlashResult {
+    /// Inlet.
+    pub inlet: State,
+    /// Mixture just after the pressure drop.
+    pub mixture: State,
+    /// Flash steam (saturated vapour).
+    pub vapour: State,
+    /// Remaining condensate (saturated liquid).
+    pub liquid: State,
+    /// Flash-steam mass fraction.
+    pub flash_fraction: f64,
+    /// Flash-steam flow, kg/s.
+    pub vapour_flow: f64,
+    /// Liquid flow, kg/s.
+    pub liquid_flow: f64,
+    /// Balance.
+    pub balance: Balance,
+    /// Warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Flashes hot condensate to `p` (MPa).
+pub fn flash_separate(inlet: &State, p: f64, flow: Option<f64>) -> Result<FlashResult> {
+    Error::check_finite("p", p)?;
+    if p > inlet.props.p {
+        return Err(Error::out_of_range(
+            "p",
+            p,
+            inlet.props.p,
+            "MPa",
+            Bound::Above,
+            "a flash vessel (the vessel pressure must be below the inlet pressure)",
+        ));
+    }
+    if p >= P_C {
+        return Err(Error::out_of_range(
+            "p",
+            p,
+            P_C,
+            "MPa",
+            Bound::Above,
+            "a flash vessel (two phases exist only below the critical pressure)",
+        ));
+    }
+    let mix = ph(p, inlet.props.h)?;
+    let l = sat_liquid(p)?;
+    let v = sat_vapour(p)?;
+    let mut warnings = Vec::new();
+    let x = match mix.phase {
+        Phase::Wet => mix.x.unwrap_or(0.0),
+        Phase::Liquid => {
+            warnings.push("the inlet is too cold to flash at this pressure: no flash steam".into());
+            0.0
+        }
+        _ => {
+            warnings.push(
+                "the inlet is superheated at the vessel pressure: all of it leaves as vapour"
+                    .into(),
+            );
+            1.0
+        }
+    };
+    let m = flow.unwrap_or(1.0);
+    let liquid = if x == 0.0 && mix.phase == Phase::Liquid {
+        mix
+    } else {
+        l
+    };
+    let vapour = if x == 1.0 && mix.phase != Phase::Wet {
+        mix
+    } else {
+        v
+    };
+    Ok(FlashResult {
+        inlet: *inlet,
+        mixture: mix,
+        vapour_flow: m * x,
+        liquid_flow: m * (1.0 - x),
+        flash_fraction: x,
+        balance: Balance {
+            mass_in: m,
+            mass_out: m * x + m * (1.0 - x),
+            energy_in: m * inlet.props.h,
+            energy_out: m * x * vapour.props.h + m * (1.0 - x) * liquid.props.h,
+        },
+        vapour,
+        liquid,
+        warnings,
+    })
+}
+
+/// Result of a mixing header.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MixResult {
+    /// Outlet state.
+    pub outlet: State,
+    /// Outlet flow, kg/s.
+    pub flow: f64,
+    /// Balance.
+    pub balance: Balance,
+    /// Warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Mixes streams (state, flow kg/s) adiabatically into one at `p` (MPa).
+pub fn header_mix(inlets: &[(State, f64)], p: f64) -> Result<MixResult> {
+    Error::check_finite("p", p)?;
+    if inlets.is_empty() {
+        return Err(Error::invalid("a header needs at least one inlet stream"));
+    }
+    let mut m = 0.0;
+    let mut e = 0.0;
+    let mut warnings = Vec::new();
+    for (i, (st, f)) in inlets.iter().enumerate() {
+        check_flow(&format!("inlets[{i}].flow"), *f)?;
+        m += f;
+        e += f * st.props.h;
+        if st.props.p < p * (1.0 - 1e-9) {
+            warnings.push(format!(
+                "inlet {i} is at {:.4} MPa, below the header pressure {:.4} MPa: it cannot flow in",
+                st.props.p, p
+            ));
+        }
+    }
+    if m <= 0.0 {
+        return Err(Error::invalid("the inlet flows sum to zero"));
+    }
+    let outlet = ph(p, e / m)?;
+    if outlet.phase == Phase::Wet {
+        warnings.push(format!(
+            "the mixed header steam is wet (x = {:.4}): provide drainage and traps",
+            outlet.x.unwrap_or(0.0)
+        ));
+    }
+    Ok(MixResult {
+        flow: m,
+        balance: Balance {
+            mass_in: m,
+            mass_out: m,
+            energy_in: e,
+            energy_out: m * outlet.props.h,
+        },
+        outlet,
+        warnings,
+    })
+}
+
+/// One side of a heat exchanger: inlet, optional outlet (p defaults to the inlet's), flow.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Side {
+    /// Inlet state.
+    pub inlet: State,
+    /// Outlet state, when known.
+    pub outlet: Option<State>,
+    /// Mass flow, kg/s, when known.
+    pub flow: Option<f64>,
+}
+
+/// Result of a two-stream heat exchanger.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ExchangerResult {
+    /// Hot inlet.
+    pub hot_in: State,
+    /// Hot outlet.
+    pub hot_out: State,
+    /// Hot flow, kg/s.
+    pub hot_flow: f64,
+    /// Cold inlet.
+    pub cold_in: State,
+    /// Cold outlet.
+    pub cold_out: State,
+    /// Cold flow, kg/s.
+    pub cold_flow: f64,
+    /// Duty, kW.
+    pub duty: f64,
+    /// Log-mean temperature difference for counterflow, K.
+    pub lmtd: f64,
+    /// Hot-end temperature difference (hot in - cold out), K.
+    pub hot_end_difference: f64,
+    /// Cold-end temperature difference (hot out - cold in), K.
+    pub cold_end_difference: f64,
+    /// Smallest temperature difference found along the exchanger (pinch), K.
+    pub pinch: f64,
+    /// Feedwater-heater terminal temperature difference Tsat(hot p) - cold out, K (hot side
+    /// condensing below the critical pressure).
+    pub terminal_temperature_difference: Option<f64>,
+    /// Feedwater-heater drain-cooler approach: hot out - cold in, K.
+    pub drain_cooler_approach: f64,
+    /// Balance.
+    pub balance: Balance,
+    /// Warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Temperatures along one side at n+1 equal enthalpy steps from inlet to outlet.
+fn profile(inlet: &State, outlet: &State, n: usize) -> Result<Vec<f64>> {
+    let mut ts = Vec::with_capacity(n + 1);
+    for i in 0..=n {
+        let f = i as f64 / n as f64;
+        let p = inlet.props.p + f * (outlet.props.p - inlet.props.p);
+        let h = inlet.props.h + f * (outlet.props.h - inlet.props.h);
+        ts.push(ph(p, h)?.props.t);
+    }
+    Ok(ts)
+}
+
+/// Balances a counterflow two-stream exchanger: exactly one of hot outlet, cold outlet, hot
+/// flow, cold flow must be unknown (outlets are given as states; see the API for partial
+/// outlet specs).
+pub fn exchanger_balance(hot: &Side, cold: &Side) -> Result<ExchangerResult> {
+    let unknown = [
+        hot.outlet.is_none(),
+        cold.outlet.is_none(),
+        hot.flow.is_none(),
+        cold.flow.is_none(),
+    ];
+    let n_unknown = unknown.iter().filter(|u| **u).count();
+    if n_unknown != 1 {
+        return Err(Error::invalid(format!(
+            "give exactly three of: hot outlet, cold outlet, hot flow, cold flow ({} unknown)",
+            n_unknown
+        )));
+    }
+    let (hot_out, cold_out, mh, mc) = match (hot.outlet, cold.outlet, hot.flow, cold.flow) {
+        (None, Some(co), Some(mh), Some(mc)) => {
+            check_flow("hot flow", mh)?;
+            check_flow("cold flow", mc)?;
+            let q = mc * (co.props.h - cold.inlet.props.h);
+            let h = hot.inlet.props.h - q / mh;
+            (ph(hot.inlet.props.p, h)?, co, mh, mc)
+        }
+        (Some(ho), None, Some(mh), Some(mc)) => {
+            check_flow("hot flow", mh)?;
+            check_flow("cold flow", mc)?;
+            let q = mh * (hot.inlet.props.h - ho.props.h);
+            let h = cold.inlet.props.h + q / mc;
+            (ho, ph(cold.inlet.props.p, h)?, mh, mc)
+        }
+        (Some(ho), Some(co), None, Some(mc)) => {
+            check_flow("cold flow", mc)?;
+            let q = mc * (co.props.h - cold.inlet.props.h);
+            let dh = hot.inlet.props.h - ho.props.h;
+            if dh <= 0.0 {
+                return Err(Error::infeasible("the hot stream does not give up heat (its outlet enthalpy is not below its inlet)"));
+            }
+            (ho, co, q / dh, mc)
+        }
+        (Some(ho), Some(co), Some(mh), None) => {
+            check_flow("hot flow", mh)?;
+            let q = mh * (hot.inlet.props.h - ho.props.h);
+            let dh = co.props.h - cold.inlet.props.h;
+            if dh <= 0.0 {
+                return Err(Error::infeasible("the cold stream does not take up heat (its outlet enthalpy is not above its inlet)"));
+            }
+            (ho, co, mh, q / dh)
+        }
+        _ => unreachable!("exactly one unknown checked above"),
+    };
+    let duty = mh * (hot.inlet.props.h - hot_out.props.h);
+    if duty < 0.0 {
+        return Err(Error::infeasible(
+            "heat would flow from the cold stream to the hot stream: swap the sides",
+        ));
+    }
+    // Second law: along counterflow, hot at enthalpy step i meets cold at the mirrored step.
+    const N: usize = 20;
+    let th = profile(&hot.inlet, &hot_out, N)?;
+    let tc = profile(&cold_out, &cold.inlet, N)?; // from cold outlet (hot end) to cold inlet
+    let mut pinch = f64::INFINITY;
+    for i in 0..=N {
+        pinch = pinch.min(th[i] - tc[i]);
+    }
+    if pinch <= 0.0 {
+        return Err(Error::infeasible(format!(
+            "temperature cross: the hot stream would be {:.3} K colder than the cold stream inside the exchanger (second law); lower the cold outlet or raise the hot flow",
+            -pinch
+        )));
+    }
+    let dt1 = hot.inlet.props.t - cold_out.props.t;
+    let dt2 = hot_out.props.t - cold.inlet.props.t;
+    let lmtd = if (dt1 - dt2).abs() < 1e-9 * dt1.abs().max(1e-12) {
+        dt1
+    } else {
+        (dt1 - dt2) / (dt1 / dt2).ln()
+    };
+    let ttd = if hot.inlet.props.p < P_C {
+        state::saturation_p(hot.inlet.props.p)
+            .ok()
+            .map(|(ts, _, _)| ts - cold_out.props.t)
+    } else {
+        None
+    };
+    let mut warnings = Vec::new();
+    if pinch < 3.0 {
+        warnings.push(format!(
+            "the pinch is only {pinch:.2} K: a very large surface would be needed"
+        ));
+    }
+    Ok(ExchangerResult {
+        hot_in: hot.inlet,
+        hot_out,
+        hot_flow: mh,
+        cold_in: cold.inlet,
+        cold_out,
+        cold_flow: mc,
+        duty,
+        lmtd,
+        hot_end_difference: dt1,
+        cold_end_difference: dt2,
+        pinch,
+        terminal_temperature_difference: ttd,
+        drain_cooler_approach: dt2,
+        balance: Balance {
+            mass_in: mh + mc,
+            mass_out: mh + mc,
+            energy_in: mh * hot.inlet.props.h + mc * cold.inlet.props.h,
+            energy_out: mh * hot_out.props.h + mc * cold_out.props.h,
+        },
+        warnings,
+    })
+}
+
+/// Result of a boiler.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BoilerResult {
+    /// Feedwater.
+    pub feedwater: State,
+    /// Steam produced.
+    pub steam: State,
+    /// Blowdown (saturated liquid at the steam pressure).
+    pub blowdown: State,
+    /// Steam flow, kg/s.
+    pub steam_flow: f64,
+    /// Feedwater flow, kg/s.
+    pub feedwater_flow: f64,
+    /// Blowdown flow, kg/s.
+    pub blowdown_flow: f64,
+    /// Heat to the water and steam, kW.
+    pub heat_to_steam: f64,
+    /// Energy leaving in the blowdown above the feedwater's, kW.
+    pub blowdown_energy: f64,
+    /// Fuel heat input, kW.
+    pub fuel_heat_input: f64,
+    /// Losses (fuel input - heat to steam), kW.
+    pub losses: f64,
+    /// Balance.
+    pub balance: Balance,
+    /// Warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Boiler: feedwater in, steam and blowdown out. `blowdown_fraction` is of the feedwater flow.
+pub fn boiler_fire(
+    feedwater: &State,
+    steam: &State,
+    steam_flow: f64,
+    blowdown_fraction: f64,
+    efficiency: f64,
+) -> Result<BoilerResult> {
+    check_flow("steam_flow", steam_flow)?;
+    Error::check_finite("blowdown_fraction", blowdown_fraction)?;
+    if !(0.0..0.5).contains(&blowdown_fraction) {
+        return Err(Error::out_of_range(
+            "blowdown_fraction",
+            blowdown_fraction,
+            if blowdown_fraction < 0.0 { 0.0 } else { 0.5 },
+            "1",
+            if blowdown_fraction < 0.0 {
+                Bound::Below
+            } else {
+                Bound::Above
+            },
+            "a boiler blowdown",
+        ));
+    }
+    let eta = check_efficiency("efficiency", efficiency)?;
+    if steam.props.h <= feedwater.props.h {
+        return Err(Error::infeasible(
+            "the steam enthalpy is not above the feedwater enthalpy",
+        ));
+    }
+    let p_drum = steam.props.p.min(P_C * (1.0 - 1e-9));
+    let bd_state = sat_liquid(p_drum)?;
+    let mfw = steam_flow / (1.0 - blowdown_fraction);
+    let mbd = mfw - steam_flow;
+    let q_steam = steam_flow * (steam.props.h - feedwater.props.h);
+    let q_bd = mbd * (bd_state.props.h - feedwater.props.h);
+    let q = q_steam + q_bd;
+    let fuel = q / eta;
+    let mut warnings = Vec::new();
+    if feedwater.props.p < steam.props.p {
+        warnings.push(
+            "the feedwater pressure is below the steam pressure: a feed pump is needed upstream"
+                .into(),
+        );
+    }
+    if steam.phase == Phase::Wet {
+        warnings.push("the steam leaving is wet".into());
+    }
+    Ok(BoilerResult {
+        feedwater: *feedwater,
+        steam: *steam,
+        blowdown: bd_state,
+        steam_flow,
+        feedwater_flow: mfw,
+        blowdown_flow: mbd,
+        heat_to_steam: q,
+        blowdown_energy: q_bd,
+        fuel_heat_input: fuel,
+        losses: fuel - q,
+        balance: Balance {
+            mass_in: mfw,
+            mass_out: steam_flow + mbd,
+            energy_in: mfw * feedwater.props.h + fuel,
+            energy_out: steam_flow * steam.props.h + mbd * bd_state.props.h + (fuel - q),
+        },
+        warnings,
+    })
+}
+
+/// Result of a deaerator.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DeaeratorResult {
+    /// Heating steam.
+    pub steam: State,
+    /// Outlet (saturated liquid at the deaerator pressure).
+    pub outlet: State,
+    /// Heating-steam flow, kg/s.
+    pub steam_flow: f64,
+    /// Outlet flow, kg/s.
+    pub outlet_flow: f64,
+    /// Vent flow, kg/s.
+    pub vent_flow: f64,
+    /// Balance.
+    pub balance: Balance,
+    /// Warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Deaerator: water streams (state, flow) and heating steam to a saturated liquid at `p`;
+/// `vent_fraction` of the heating steam leaves through the vent (saturated vapour).
+pub fn deaerator_balance(
+    p: f64,
+    steam: &State,
+    waters: &[(State, f64)],
+    vent_fraction: f64,
+) -> Result<DeaeratorResult> {
+    Error::check_finite("p", p)?;
+    Error::check_finite("vent_fraction", vent_fraction)?;
+    if !(0.0..0.5).contains(&vent_fraction) {
+        return Err(Error::invalid(format!(
+            "vent_fraction = {vent_fraction} is outside 0..0.5"
+        )));
+    }
+    if waters.is_empty() {
+        return Err(Error::invalid(
+            "a deaerator needs at least one water stream",
+        ));
+    }
+    let out = sat_liquid(p)?;
+    let vent = sat_vapour(p)?;
+    let mut mw = 0.0;
+    let mut ew = 0.0;
+    let mut warnings = Vec::new();
+    for (i, (st, f)) in waters.iter().enumerate() {
+        check_flow(&format!("waters[{i}].flow"), *f)?;
+        mw += f;
+        ew += f * st.props.h;
+    }
+    // m_s h_s + E_w = (m_s (1 - f) + m_w) h_out + m_s f h_vent
+    let denom = steam.props.h - (1.0 - vent_fraction) * out.props.h - vent_fraction * vent.props.h;
+    if denom <= 0.0 {
+        return Err(Error::infeasible(
+            "the heating steam is not hotter than the deaerator outlet: it cannot heat the water",
+        ));
+    }
+    let ms = (mw * out.props.h - ew) / denom;
+    if ms < 0.0 {
+        return Err(Error::infeasible(format!(
+            "the water entering is already hotter than saturation at {p} MPa: the deaerator would need {:.4} kg/s of steam removed; lower the inflow temperatures or raise the pressure",
+            -ms
+        )));
+    }
+    if steam.props.p < p {
+        warnings.push("the heating steam pressure is below the deaerator pressure".into());
+    }
+    let mv = ms * vent_fraction;
+    let mo = mw + ms - mv;
+    Ok(DeaeratorResult {
+        steam: *steam,
+        outlet: out,
+        steam_flow: ms,
+        outlet_flow: mo,
+        vent_flow: mv,
+        balance: Balance {
+            mass_in: mw + ms,
+            mass_out: mo + mv,
+            energy_in: ew + ms * steam.props.h,
+            energy_out: mo * out.props.h + mv * vent.props.h,
+        },
+        warnings,
+    })
+}

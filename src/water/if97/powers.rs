@@ -1,0 +1,218 @@
+//! Power tables and power-series sums shared by the IF97 basic equations (regions 1, 2, 3, 5 and
+//! the metastable-vapour equation). Dimensionless numbers only; no units here.
+//!
+//! Invariant: integer powers are built by repeated multiplication once per call into a fixed-size
+//! array on the stack (no allocation, no `powf`); the bounds of each array are computed at compile
+//! time from the coefficient table it serves, so every lookup is in range.
+
+use crate::water::tables::{IJn, Jn};
+
+/// Smallest exponent I of a two-variable table (compile time).
+pub(crate) const fn i_min(t: &[IJn]) -> i32 {
+    let mut k = 0;
+    let mut m = i32::MAX;
+    while k < t.len() {
+        if t[k].i < m {
+            m = t[k].i;
+        }
+        k += 1;
+    }
+    m
+}
+
+/// Largest exponent I of a two-variable table (compile time).
+pub(crate) const fn i_max(t: &[IJn]) -> i32 {
+    let mut k = 0;
+    let mut m = i32::MIN;
+    while k < t.len() {
+        if t[k].i > m {
+            m = t[k].i;
+        }
+        k += 1;
+    }
+    m
+}
+
+/// Smallest exponent J of a two-variable table (compile time).
+pub(crate) const fn j_min(t: &[IJn]) -> i32 {
+    let mut k = 0;
+    let mut m = i32::MAX;
+    while k < t.len() {
+        if t[k].j < m {
+            m = t[k].j;
+        }
+        k += 1;
+    }
+    m
+}
+
+/// Largest exponent J of a two-variable table (compile time).
+pub(crate) const fn j_max(t: &[IJn]) -> i32 {
+    let mut k = 0;
+    let mut m = i32::MIN;
+    while k < t.len() {
+        if t[k].j > m {
+            m = t[k].j;
+        }
+        k += 1;
+    }
+    m
+}
+
+/// Smallest exponent J of a one-variable table (compile time).
+pub(crate) const fn jn_min(t: &[Jn]) -> i32 {
+    let mut k = 0;
+    let mut m = i32::MAX;
+    while k < t.len() {
+        if t[k].j < m {
+            m = t[k].j;
+        }
+        k += 1;
+    }
+    m
+}
+
+/// Largest exponent J of a one-variable table (compile time).
+pub(crate) const fn jn_max(t: &[Jn]) -> i32 {
+    let mut k = 0;
+    let mut m = i32::MIN;
+    while k < t.len() {
+        if t[k].j > m {
+            m = t[k].j;
+        }
+        k += 1;
+    }
+    m
+}
+
+/// `[x^lo, x^(lo+1), ..., x^(lo+N-1)]`, built by multiplication outward from x^0 = 1 (exactly).
+/// For `lo > 0` the first entry is `x.powi(lo)`. Negative powers of `x = 0` are infinite.
+#[inline(always)]
+pub(crate) fn powers<const N: usize>(x: f64, lo: i32) -> [f64; N] {
+    let mut out = [0.0; N];
+    if N == 0 {
+        return out;
+    }
+    if lo > 0 {
+        out[0] = x.powi(lo);
+        let mut k = 1;
+        while k < N {
+            out[k] = out[k - 1] * x;
+            k += 1;
+        }
+        return out;
+    }
+    let z = (-lo) as usize; // index of x^0
+    if z < N {
+        out[z] = 1.0;
+        let mut k = z + 1;
+        while k < N {
+            out[k] = out[k - 1] * x;
+            k += 1;
+        }
+    }
+    let xi = 1.0 / x;
+    // Downward from x^0 (or from beyond the end when the whole table is negative powers).
+    let mut acc = 1.0;
+    let mut e = 0i32;
+    while e > lo {
+        acc *= xi;
+        e -= 1;
+        let idx = (e - lo) as usize;
+        if idx < N {
+            out[idx] = acc;
+        }
+    }
+    out
+}
+
+/// A sum S(x, y) = sum n x^I y^J and its first and second partial derivatives.
+#[derive(Debug, Clone, Copy, Default)]
+pub(crate) struct Sum2 {
+    pub s: f64,
+    pub s_x: f64,
+    pub s_xx: f64,
+    pub s_y: f64,
+    pub s_yy: f64,
+    pub s_xy: f64,
+}
+
+/// Evaluates sum n x^I y^J with its derivatives. Requires `x_lo <= min I - 2`,
+/// `x_lo + NX > max I`, and the same for `y` with J (the callers derive these at compile time).
+#[inline(always)]
+pub(crate) fn sum2<const NX: usize, const NY: usize>(
+    terms: &[IJn],
+    x: f64,
+    x_lo: i32,
+    y: f64,
+    y_lo: i32,
+) -> Sum2 {
+    let xp: [f64; NX] = powers(x, x_lo);
+    let yp: [f64; NY] = powers(y, y_lo);
+    let mut r = Sum2::default();
+    for t in terms {
+        let a = (t.i - x_lo) as usize;
+        let b = (t.j - y_lo) as usize;
+        let fi = t.i as f64;
+        let fj = t.j as f64;
+        let (x0, x1, x2) = (xp[a], xp[a - 1], xp[a - 2]);
+        let (y0, y1, y2) = (yp[b], yp[b - 1], yp[b - 2]);
+        let nx0 = t.n * x0;
+        let nx1 = t.n * fi * x1;
+        r.s += nx0 * y0;
+        r.s_x += nx1 * y0;
+        r.s_xx += t.n * fi * (fi - 1.0) * x2 * y0;
+        r.s_y += nx0 * fj * y1;
+        r.s_yy += nx0 * fj * (fj - 1.0) * y2;
+        r.s_xy += nx1 * fj * y1;
+    }
+    r
+}
+
+/// A sum S(x) = sum n x^J and its first two derivatives.
+#[derive(Debug, Clone, Copy, Default)]
+pub(crate) struct Sum1 {
+    pub s: f64,
+    pub s_x: f64,
+    pub s_xx: f64,
+}
+
+/// Evaluates sum n x^J with its derivatives; `lo <= min J - 2`, `lo + N > max J`.
+#[inline(always)]
+pub(crate) fn sum1<const N: usize>(terms: &[Jn], x: f64, lo: i32) -> Sum1 {
+    let xp: [f64; N] = powers(x, lo);
+    let mut r = Sum1::default();
+    for t in terms {
+        let b = (t.j - lo) as usize;
+        let fj = t.j as f64;
+        r.s += t.n * xp[b];
+        r.s_x += t.n * fj * xp[b - 1];
+        r.s_xx += t.n * fj * (fj - 1.0) * xp[b - 2];
+    }
+    r
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn powers_match_powi() {
+        let x = 1.37_f64;
+        let p: [f64; 12] = powers(x, -5);
+        for (k, v) in p.iter().enumerate() {
+            let e = k as i32 - 5;
+            assert!((v / x.powi(e) - 1.0).abs() < 1e-14, "x^{e}");
+        }
+        let q: [f64; 4] = powers(x, 2);
+        for (k, v) in q.iter().enumerate() {
+            let e = k as i32 + 2;
+            assert!((v / x.powi(e) - 1.0).abs() < 1e-14, "x^{e}");
+        }
+        let r: [f64; 3] = powers(x, -7);
+        for (k, v) in r.iter().enumerate() {
+            let e = k as i32 - 7;
+            assert!((v / x.powi(e) - 1.0).abs() < 1e-14, "x^{e}");
+        }
+    }
+}
