@@ -35,12 +35,13 @@ def test_dataframe_round_trip_with_bad_rows(client):
 
 
 def test_dict_in_dict_out_and_units_tuple(client):
-    data = {"p_bar": [30.0, 10.0], "T_K": [300.0, 453.15]}
+    data = {"p_bar": [30.0, 10.0], "T_K": [300.0, 423.15]}
     out = client.batch(data, given={"p": ("p_bar", "bar"), "T": ("T_K", "K")}, want=["h", "region"],
                        progress=False)
     assert isinstance(out, dict) and set(out) == {"h", "region", "errors"}
     # IAPWS R7-97(2012) Table 5: 300 K, 3 MPa
     assert out["h"][0] == pytest.approx(115.331273, abs=tol(115.331273, 9))
+    # 150 degC at 1 MPa is below the saturation temperature (about 180 degC): liquid, region 1
     assert out["region"] == [1, 1] and out["errors"] == [None, None]
 
 
