@@ -1,0 +1,337 @@
+"""The steamcell client: ``connect()``, generic ``call()``, ``state()``, ``batch()`` and one
+generated method per OpenRPC method (``c.turbine_expand(...)`` or ``c.turbine.expand(...)``).
+
+Numbers go to the server as given; they are read in the request's unit preset (``units``,
+default "engineering": MPa, degC, kJ/kg, kJ/(kg K), kg/s, kW). Strings carry their own unit
+("42 barg", "410 degC"). Results are in the preset and list their units.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import sys
+import urllib.parse
+from typing import Any, Dict, Iterable, List, Optional, Sequence, Tuple, Union
+
+from . import errors, openrpc, transport
+from .records import State, wrap
+
+STATE_KEYS = ("p", "T", "h", "s", "u", "v", "rho", "x")
+DEFAULT_WANT = ["T", "p", "h", "s", "v", "x"]
+
+
+class _Namespace:
+    """``c.turbine`` -> object whose ``expand(...)`` calls ``turbine.expand``."""
+
+    def __init__(self, client: "Client", prefix: str):
+        self._client, self._prefix = client, prefix
+
+    def __getattr__(self, name: str):
+        full = f"{self._prefix}.{name}"
+        fn = WRAPPERS.get(full)
+        if fn is None:
+            raise AttributeError(f"no method {full} in the OpenRPC document")
+        return fn.__get__(self._client, Client)
+
+    def __dir__(self):
+        return [m.split(".", 1)[1] for m in WRAPPERS if m.startswith(self._prefix + ".")]
+
+
+class Client:
+    """A connection to a steamcell server (HTTP or stdio). Use :func:`connect`."""
+
+    def __init__(self, tr):
+        self._tr = tr
+        self.url: Optional[str] = getattr(tr, "url", None)
+        self.banner: Optional[str] = getattr(tr, "banner", None)
+
+    # -- life cycle
+    def close(self) -> None:
+        """Closes the connection and stops a server this client started."""
+        self._tr.close()
+
+    def __enter__(self) -> "Client":
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+    def __repr__(self) -> str:
+        where = self.url or "stdio"
+        return f"<steamcell.Client {where}>"
+
+    def __getattr__(self, name: str):
+        if any(m.startswith(name + ".") for m in WRAPPERS):
+            return _Namespace(self, name)
+        raise AttributeError(name)
+
+    # -- generic
+    def call(self, method: str, /, **params: Any) -> Any:
+        """Calls any JSON-RPC method with keyword params; returns the decoded result.
+
+        Objects come back as Records (dicts with attribute access), states as State objects.
+        Raises a :class:`steamcell.Error` subclass for an error answer.
+        """
+        return wrap(self.call_raw(method, params))
+
+    def call_raw(self, method: str, params: Optional[Dict[str, Any]] = None) -> Any:
+        """Like call() but with a params dict and a plain JSON result."""
+        req = {"jsonrpc": "2.0", "id": transport.next_id(), "method": method,
+               "params": _jsonable(params or {})}
+        resp = self._tr.send(req)
+        if "error" in resp and resp["error"] is not None:
+            raise errors.from_rpc(resp["error"])
+        if "result" not in resp:
+            raise errors.TransportError(f"answer without result or error: {resp!r}")
+        return resp["result"]
+
+    # -- conveniences
+    def state(self, units: Optional[str] = None, ambient: Any = None, **kwargs: Any) -> State:
+        """One state from two properties, e.g. ``c.state(p="42 barg", T="410 degC")``.
+
+        State keys (p, T, h, s, u, v, rho, x) form ``given``; other keywords (formulation,
+        backward_only, metastable, prefer) are passed on. Bare numbers are in ``units``.
+        """
+        given = {k: v for k, v in kwargs.items() if k in STATE_KEYS}
+        params: Dict[str, Any] = {k: v for k, v in kwargs.items() if k not in STATE_KEYS}
+        params["given"] = given
+        if units is not None:
+            params["units"] = units
+        if ambient is not None:
+            params["ambient"] = ambient
+        result = self.call_raw("water.state", params)
+        return State(wrap(result))
+
+    def info(self) -> Any:
+        """``server.info``."""
+        return self.call("server.info")
+
+    def schema(self) -> Any:
+        """The server's OpenRPC document (``server.schema``) as plain JSON."""
+        return self.call_raw("server.schema", {})
+
+    def health(self) -> str:
+        """``GET /health`` text (HTTP transports only)."""
+        status, text = self._http().get("/health")
+        if status != 200:
+            raise errors.TransportError(f"/health answered {status}: {text}")
+        return text.strip()
+
+    def cell(self, quantity: str, units: Optional[str] = None, **given: Any) -> float:
+        """One number from the spreadsheet endpoint ``GET /cell/{quantity}?...``."""
+        query = dict(given)
+        if units:
+            query["units"] = units
+        path = f"/cell/{urllib.parse.quote(quantity)}?" + urllib.parse.urlencode(
+            {k: str(v) for k, v in query.items()}, quote_via=urllib.parse.quote)
+        status, text = self._http().get(path)
+        if status != 200:
+            raise errors.Error(text.strip() or f"HTTP {status}", code=None, data={"status": status})
+        return float(text)
+
+    def _http(self) -> transport.HttpTransport:
+        if not isinstance(self._tr, transport.HttpTransport):
+            raise errors.TransportError("this needs an HTTP connection, not stdio")
+        return self._tr
+
+    def batch(self, data: Any, given: Optional[Dict[str, Any]] = None, units: Optional[str] = None,
+              want: Optional[Sequence[str]] = None, chunk: int = 50000, progress: bool = True,
+              **opts: Any) -> Any:
+        """Properties for many states (historian columns) through ``water.batch``.
+
+        ``data``: a pandas DataFrame or a dict of lists. ``given`` maps a state key to a column
+        name, e.g. ``{"p": "p_bar", "T": "T_C"}``, or to ``(column, unit)`` to send every value as
+        "<number> <unit>". Without ``given`` the columns named like state keys are used. Numbers
+        are read in ``units`` (default engineering). Rows go in chunks of ``chunk`` with a
+        progress bar (tqdm if installed, else a line on stderr) when ``progress``.
+
+        Returns a DataFrame (when pandas is installed and ``data`` is one; else a dict of lists)
+        with one column per ``want`` plus ``errors`` (None or the row's message). A bad row gives
+        NaN and its error; only a bad request as a whole raises.
+        """
+        columns, index, is_frame = _columns_of(data)
+        if given is None:
+            given = {k: k for k in STATE_KEYS if k in columns}
+        if len(given) != 2:
+            raise errors.InvalidInput(
+                f"batch needs exactly two state columns in `given`, got {list(given)}")
+        inputs: Dict[str, List[Any]] = {}
+        bad: Dict[int, str] = {}
+        n: Optional[int] = None
+        for key, spec in given.items():
+            col_name, unit = (spec if isinstance(spec, tuple) else (spec, None))
+            if col_name not in columns:
+                raise errors.InvalidInput(f"column {col_name!r} (for {key}) is not in the data")
+            col = columns[col_name]
+            if n is None:
+                n = len(col)
+            elif len(col) != n:
+                raise errors.InvalidInput("the input columns differ in length")
+            vals: List[Any] = []
+            for i, v in enumerate(col):
+                item, why = _cell(v, unit)
+                if why:
+                    bad.setdefault(i, f"row {i}: {key} ({col_name}) {why}")
+                vals.append(item)
+            inputs[key] = vals
+        n = n or 0
+        want_list = list(want) if want is not None else list(DEFAULT_WANT)
+        out: Dict[str, List[Any]] = {w: [None] * n for w in want_list}
+        errs: List[Optional[str]] = [None] * n
+        for i, why in bad.items():
+            errs[i] = why
+        good = [i for i in range(n) if i not in bad]
+        chunk = max(1, int(chunk))
+        bar = _Progress(len(good), enabled=progress and len(good) > 0)
+        base: Dict[str, Any] = dict(opts)
+        base["want"] = want_list
+        if units is not None:
+            base["units"] = units
+        row_re = re.compile(r"^row (\d+):\s*")
+        try:
+            for start in range(0, len(good), chunk):
+                rows = good[start:start + chunk]
+                params = dict(base)
+                params["given"] = {k: [inputs[k][i] for i in rows] for k in inputs}
+                res = self.call_raw("water.batch", params)
+                cols = res.get("columns", {})
+                for w in want_list:
+                    values = cols.get(w, [])
+                    dest = out[w]
+                    for j, i in enumerate(rows):
+                        dest[i] = values[j] if j < len(values) else None
+                for j, e in enumerate(res.get("errors", [])):
+                    if e:
+                        i = rows[j]
+                        msg = row_re.sub("", str(e.get("message", "")))
+                        errs[i] = f"row {i}: [{e.get('code')}] {msg}"
+                bar.update(len(rows))
+        finally:
+            bar.close()
+        return _result_table(out, errs, want_list, index, is_frame)
+
+
+def _cell(v: Any, unit: Optional[str]) -> Tuple[Any, Optional[str]]:
+    """(wire value, reason it is bad or None) for one input cell."""
+    if v is None:
+        return 0.0, "is empty"
+    if isinstance(v, str):
+        return (v, None) if v.strip() else (0.0, "is empty")
+    try:
+        x = float(v)
+    except (TypeError, ValueError):
+        return 0.0, f"is not a number: {v!r}"
+    if not math.isfinite(x):
+        return 0.0, f"is not finite ({x})"
+    if unit:
+        return f"{x!r} {unit}", None
+    return x, None
+
+
+def _columns_of(data: Any) -> Tuple[Dict[str, Sequence[Any]], Any, bool]:
+    try:
+        import pandas as pd  # type: ignore
+    except ImportError:
+        pd = None
+    if pd is not None and isinstance(data, pd.DataFrame):
+        return {c: data[c].tolist() for c in data.columns}, data.index, True
+    if isinstance(data, dict):
+        return {k: list(v) for k, v in data.items()}, None, False
+    raise TypeError("batch() takes a pandas DataFrame or a dict of lists")
+
+
+def _result_table(out, errs, want_list, index, is_frame):
+    nan = float("nan")
+
+    def fix(w, col):
+        if w == "phase":
+            return col
+        return [nan if v is None else v for v in col]
+
+    table = {w: fix(w, out[w]) for w in want_list}
+    table["errors"] = errs
+    if is_frame:
+        import pandas as pd  # type: ignore
+        frame = pd.DataFrame({w: table[w] for w in want_list}, index=index)
+        frame["errors"] = pd.Series(errs, index=index, dtype=object)  # None stays None
+        return frame
+    return table
+
+
+class _Progress:
+    """tqdm when installed, else a line on stderr per chunk."""
+
+    def __init__(self, total: int, enabled: bool):
+        self.total, self.done, self.bar, self.enabled = total, 0, None, enabled
+        if enabled:
+            try:
+                from tqdm.auto import tqdm  # type: ignore
+                self.bar = tqdm(total=total, unit="row", desc="water.batch")
+            except ImportError:
+                self.bar = None
+
+    def update(self, k: int) -> None:
+        self.done += k
+        if not self.enabled:
+            return
+        if self.bar is not None:
+            self.bar.update(k)
+        else:
+            print(f"water.batch: {self.done}/{self.total} rows", file=sys.stderr, flush=True)
+
+    def close(self) -> None:
+        if self.bar is not None:
+            self.bar.close()
+
+
+def _jsonable(obj: Any) -> Any:
+    """Plain JSON types for numpy scalars, tuples and Records."""
+    if isinstance(obj, dict):
+        return {str(k): _jsonable(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_jsonable(v) for v in obj]
+    if isinstance(obj, (str, bool, int, float)) or obj is None:
+        return obj
+    if hasattr(obj, "tolist"):  # numpy arrays and scalars
+        return _jsonable(obj.tolist())
+    if hasattr(obj, "__float__"):
+        return float(obj)
+    return obj
+
+
+def _load_wrappers() -> Dict[str, Any]:
+    try:
+        doc = openrpc.load_document()
+    except FileNotFoundError:
+        return {}
+    return openrpc.make_wrappers(doc)
+
+
+WRAPPERS: Dict[str, Any] = _load_wrappers()
+for _name, _fn in WRAPPERS.items():
+    if not hasattr(Client, _fn.__name__):
+        setattr(Client, _fn.__name__, _fn)
+
+
+def connect(url: Optional[str] = None, binary: Optional[str] = None, *,
+            transport: Optional[str] = None, timeout: float = 600.0) -> Client:
+    """Connects to a steamcell server.
+
+    ``connect("http://127.0.0.1:8790")`` talks to a running server. ``connect()`` finds the binary
+    (``binary``, env STEAMCELL_BIN, PATH, the repository's target/ directory) and starts
+    ``steamcell serve --listen 127.0.0.1:0``, stopped again by ``close()``, a ``with`` block's
+    end or interpreter exit. ``connect(transport="stdio")`` starts ``steamcell stdio`` instead.
+    """
+    kind = transport or ("http" if url else "spawn")
+    if kind == "stdio":
+        return Client(_transport_mod.StdioTransport(_transport_mod.find_binary(binary)))
+    if url:
+        return Client(_transport_mod.HttpTransport(url, timeout=timeout))
+    if kind not in ("spawn", "http"):
+        raise ValueError(f"transport must be 'http' or 'stdio', not {kind!r}")
+    return Client(_transport_mod.SpawnedHttpTransport(_transport_mod.find_binary(binary),
+                                                      timeout=timeout))
+
+
+_transport_mod = transport

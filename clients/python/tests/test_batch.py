@@ -1,0 +1,84 @@
+"""Client.batch(): pandas round trip, bad rows as NaN plus an error, chunking, dict input."""
+
+import math
+
+import pandas as pd
+import pytest
+
+import steamcell
+from conftest import tol
+
+
+def test_dataframe_round_trip_with_bad_rows(client):
+    df = pd.DataFrame(
+        {"p_MPa": [3.0, 4.301325, 3.0, float("nan"), 1.0],
+         "T_C": [26.85, 410.0, 5000.0, 100.0, 150.0]},
+        index=["a", "b", "c", "d", "e"])
+    out = client.batch(df, given={"p": "p_MPa", "T": "T_C"}, want=["h", "s", "phase"],
+                       progress=False)
+    assert isinstance(out, pd.DataFrame)
+    assert list(out.index) == ["a", "b", "c", "d", "e"]
+    assert list(out.columns) == ["h", "s", "phase", "errors"]
+    # IAPWS R7-97(2012) Table 5: T = 300 K (26.85 degC), p = 3 MPa: h = 0.115331273e3 kJ/kg
+    assert out.loc["a", "h"] == pytest.approx(115.331273, abs=tol(115.331273, 9))
+    # the same numbers as one water.state call
+    st = client.state(p=4.301325, T=410.0)
+    assert out.loc["b", "h"] == st.h and out.loc["b", "s"] == st.s
+    assert out.loc["b", "phase"] == "vapour"
+    # row c is out of range: NaN and an error naming the row, the code and the reason
+    assert math.isnan(out.loc["c", "h"]) and math.isnan(out.loc["c", "s"])
+    assert out.loc["c", "errors"].startswith("row 2: [1001]")
+    # row d has no pressure: never sent, NaN and an error
+    assert math.isnan(out.loc["d", "h"]) and "not finite" in out.loc["d", "errors"]
+    assert out.loc["a", "errors"] is None and out.loc["e", "errors"] is None
+    assert out["errors"].notna().sum() == 2
+
+
+def test_dict_in_dict_out_and_units_tuple(client):
+    data = {"p_bar": [30.0, 10.0], "T_K": [300.0, 423.15]}
+    out = client.batch(data, given={"p": ("p_bar", "bar"), "T": ("T_K", "K")}, want=["h", "region"],
+                       progress=False)
+    assert isinstance(out, dict) and set(out) == {"h", "region", "errors"}
+    # IAPWS R7-97(2012) Table 5: 300 K, 3 MPa
+    assert out["h"][0] == pytest.approx(115.331273, abs=tol(115.331273, 9))
+    # 150 degC at 1 MPa is below the saturation temperature (about 180 degC): liquid, region 1
+    assert out["region"] == [1, 1] and out["errors"] == [None, None]
+
+
+def test_default_columns_and_want(client):
+    out = client.batch({"p": [3.0], "T": [26.85]}, progress=False)
+    assert set(out) == {"T", "p", "h", "s", "v", "x", "errors"}
+    assert math.isnan(out["x"][0])  # x is undefined for a single-phase state
+
+
+def test_bad_request_raises(client):
+    with pytest.raises(steamcell.InvalidInput):
+        client.batch({"p": [3.0]}, progress=False)
+    with pytest.raises(steamcell.Error):
+        client.batch({"p": [3.0], "T": [20.0]}, want=["colour"], progress=False)
+
+
+def test_chunking_120000_rows(client, monkeypatch, capsys):
+    n = 120000
+    p = [0.5 + (i % 200) * 0.1 for i in range(n)]          # 0.5 .. 20.4 MPa
+    t = [20.0 + (i % 331) * 1.5 for i in range(n)]         # 20 .. 515 degC
+    df = pd.DataFrame({"p": p, "T": t})
+    sizes = []
+    real = client.call_raw
+
+    def counting(method, params=None):
+        if method == "water.batch":
+            sizes.append(len(params["given"]["p"]))
+        return real(method, params)
+
+    monkeypatch.setattr(client, "call_raw", counting)
+    out = client.batch(df, want=["h"], chunk=50000, progress=True)
+    assert sizes == [50000, 50000, 20000]
+    assert len(out) == n
+    # a few rows against single calls, at the start, across chunk borders and the end
+    for i in (0, 49999, 50000, 100001, n - 1):
+        assert pd.isna(out["errors"].iloc[i]), out["errors"].iloc[i]
+        assert out["h"].iloc[i] == real("water.state", {"given": {"p": p[i], "T": t[i]}})["h"], i
+    # the grid is all single-phase: no row fails, and every h is a number
+    assert out["errors"].isna().all() and out["h"].notna().all()
+    assert "water.batch" in capsys.readouterr().err  # the progress bar (tqdm or the fallback)

@@ -1,0 +1,97 @@
+"""The generated wrappers must match the OpenRPC document, and the package's copy of the document
+must match what the server says (server.schema) and the repository's schema file.
+
+When the server's methods change, these tests fail until `python3 clients/python/sync_schema.py`
+refreshes src/steamcell/openrpc.json.
+"""
+
+import inspect
+import json
+
+import pytest
+
+import steamcell
+from steamcell import openrpc
+from conftest import REPO
+
+# The params of every method as the API contract (src/api/*.rs serde types) defines them; a
+# second, hand-kept view so that a bug in reading the document cannot hide.
+CONTRACT = {
+    "water.state": {"given", "units", "ambient", "formulation", "backward_only", "metastable", "prefer"},
+    "water.batch": {"given", "want", "units", "ambient", "formulation", "backward_only", "metastable",
+                    "prefer"},
+    "water.saturation": {"T", "p", "units", "ambient"},
+    "water.curve": {"kind", "p", "T", "s", "from", "to", "points", "units"},
+    "turbine.expand": {"inlet", "outlet_p", "efficiency", "outlet", "units", "ambient"},
+    "turbine.train": {"inlet", "stages", "units", "ambient"},
+    "pump.raise": {"inlet", "outlet_p", "efficiency", "efficiency_kind", "units", "ambient"},
+    "valve.throttle": {"inlet", "outlet_p", "units", "ambient"},
+    "desuperheater.spray": {"steam", "water", "outlet_p", "target_T", "target_superheat", "units",
+                            "ambient"},
+    "flash.separate": {"inlet", "p", "units", "ambient"},
+    "header.mix": {"inlets", "p", "units", "ambient"},
+    "exchanger.balance": {"hot", "cold", "units", "ambient"},
+    "boiler.fire": {"feedwater", "steam", "steam_flow", "blowdown_fraction", "efficiency", "units",
+                    "ambient"},
+    "deaerator.balance": {"p", "steam", "waters", "vent_fraction", "units", "ambient"},
+    "cycle.rankine": {"boiler_p", "boiler_T", "reheat_p", "reheat_T", "condenser_p", "condenser_T",
+                      "turbine_efficiency", "pump_efficiency", "heaters", "flow", "net_power", "units",
+                      "ambient"},
+}
+
+
+@pytest.fixture(scope="module")
+def live_doc(client):
+    return client.schema()
+
+
+def sig_keywords(fn):
+    return {p.name for p in inspect.signature(fn).parameters.values()
+            if p.kind is inspect.Parameter.KEYWORD_ONLY}
+
+
+def test_package_copy_equals_server_schema(live_doc):
+    packaged = openrpc.load_document()
+    live = {m["name"]: m for m in live_doc["methods"]}
+    mine = {m["name"]: m for m in packaged["methods"]}
+    assert set(mine) == set(live), "run clients/python/sync_schema.py"
+    for name in live:
+        assert mine[name].get("params") == live[name].get("params"), name
+        assert mine[name].get("summary") == live[name].get("summary"), name
+
+
+def test_package_copy_equals_repository_schema_file():
+    path = REPO / "schema" / "steamcell.openrpc.json"
+    if not path.exists():
+        pytest.skip("schema/steamcell.openrpc.json is not in this checkout")
+    repo_doc = json.loads(path.read_text(encoding="utf-8"))
+    assert [m["name"] for m in repo_doc["methods"]] == [m["name"] for m in openrpc.load_document()["methods"]]
+
+
+def test_every_method_has_a_wrapper_with_its_params(live_doc):
+    for m in live_doc["methods"]:
+        fn = steamcell.methods.get(m["name"])
+        assert fn is not None, f"no wrapper for {m['name']}"
+        params = openrpc.method_params(live_doc, m)
+        assert fn.rpc_params == {p.name for p in params}, m["name"]
+        assert fn.rpc_required == {p.name for p in params if p.required}, m["name"]
+        # the Python keywords are the wire names (a Python keyword such as `from` gets a "_")
+        assert sig_keywords(fn) == {p.pyname for p in params}, m["name"]
+        required = {p.name for p in inspect.signature(fn).parameters.values()
+                    if p.kind is inspect.Parameter.KEYWORD_ONLY and p.default is inspect.Parameter.empty}
+        assert required == {p.pyname for p in params if p.required}, m["name"]
+        assert getattr(steamcell.Client, fn.__name__) is fn
+        assert (m.get("summary") or m["name"]) in fn.__doc__
+
+
+def test_wrappers_match_the_contract():
+    for name, params in CONTRACT.items():
+        assert name in steamcell.methods, name
+        assert steamcell.methods[name].rpc_params == params, name
+
+
+def test_from_is_sent_as_from(client):
+    # water.curve's `from` is a Python keyword: the wrapper takes from_ and sends "from"
+    r = client.water_curve(kind="isobar", p=1, from_=150, to=250, points=5)
+    ts = r.series[0]["T"]
+    assert min(ts) >= 150 - 1e-9 and max(ts) <= 250 + 1e-9

@@ -1,0 +1,41 @@
+#!/usr/bin/env bash
+# Tests of the clients: the Python package (pytest, in a venv at .venv) and the spreadsheet
+# end-to-end test (LibreOffice Calc headless through Debian's python3-uno).
+# Usage: STEAMCELL_BIN=target/debug/steamcell bash clients/run-tests.sh   (from anywhere)
+# Works on a fresh Debian machine as root: installs the Debian packages it needs.
+set -euo pipefail
+cd "$(dirname "$0")/.."
+ROOT=$(pwd)
+export STEAMCELL_BIN="${STEAMCELL_BIN:-$ROOT/target/debug/steamcell}"
+case "$STEAMCELL_BIN" in /*) ;; *) STEAMCELL_BIN="$ROOT/$STEAMCELL_BIN" ;; esac
+if [ ! -x "$STEAMCELL_BIN" ]; then
+  echo "steamcell binary not found at $STEAMCELL_BIN (run cargo build first)" >&2
+  exit 1
+fi
+export DEBIAN_FRONTEND=noninteractive
+apt_updated=0
+apt_install() {
+  if [ "$apt_updated" = 0 ]; then apt-get update -q; apt_updated=1; fi
+  apt-get install -y -q --no-install-recommends "$@"
+}
+
+echo "== clients: python package (venv .venv)"
+PY=${PYTHON:-python3}
+if ! "$PY" -c "import venv, ensurepip" >/dev/null 2>&1; then
+  apt_install python3-venv
+  PY=/usr/bin/python3
+fi
+[ -x .venv/bin/python ] || "$PY" -m venv .venv
+.venv/bin/python -m pip install -q "./clients/python[all]" pytest
+set +e
+(cd clients/python && "$ROOT/.venv/bin/python" -m pytest -q -p no:cacheprovider tests)
+rc=$?
+set -e
+if [ "$rc" = 5 ]; then echo "pytest ran no test: failure" >&2; exit 1; fi
+if [ "$rc" != 0 ]; then echo "python client tests failed (pytest exit $rc)" >&2; exit "$rc"; fi
+
+echo "== clients: spreadsheet end-to-end (LibreOffice Calc headless)"
+if ! command -v soffice >/dev/null 2>&1 || ! /usr/bin/python3 -c "import uno" >/dev/null 2>&1; then
+  apt_install libreoffice-calc-nogui python3-uno
+fi
+timeout 300 /usr/bin/python3 clients/spreadsheet/test_workbook.py
