@@ -498,24 +498,77 @@ fn water_state(p: StateParams) -> Result<StateResult> {
     Ok(state_result(&st, &ctx))
 }
 
-/// A column of inputs.
+/// A column of inputs: a JSON array, or a packed column of little-endian doubles.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
 #[serde(untagged)]
 pub enum Column {
     /// One value per row: numbers in the preset's units or strings with units.
     Values(Vec<Input>),
+    /// Packed numbers in the preset's units.
+    Packed(PackedColumn),
+}
+
+/// A packed column: `{"f64le": "<base64>"}`, the base64 text (standard alphabet, with padding)
+/// of the column's IEEE-754 doubles in little-endian byte order, 8 bytes per row. NaN marks a
+/// missing value (in results: a row whose value is undefined or failed).
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct PackedColumn {
+    /// Base64 of little-endian f64 values.
+    pub f64le: String,
+}
+
+impl PackedColumn {
+    /// Packs values (NaN for missing).
+    pub fn pack(values: &[f64]) -> PackedColumn {
+        use base64::Engine;
+        let mut bytes = Vec::with_capacity(values.len() * 8);
+        for v in values {
+            bytes.extend_from_slice(&v.to_le_bytes());
+        }
+        PackedColumn {
+            f64le: base64::engine::general_purpose::STANDARD.encode(bytes),
+        }
+    }
+
+    /// Unpacks, naming the column in errors.
+    pub fn unpack(&self, name: &str) -> Result<Vec<f64>> {
+        use base64::Engine;
+        let bytes = base64::engine::general_purpose::STANDARD
+            .decode(self.f64le.as_bytes())
+            .map_err(|e| {
+                Error::invalid(format!(
+                    "given.{name}: the f64le column is not valid base64 ({e})"
+                ))
+            })?;
+        if bytes.len() % 8 != 0 {
+            return Err(Error::invalid(format!(
+                "given.{name}: the f64le column has {} bytes, not a multiple of 8 (one little-endian double per row)",
+                bytes.len()
+            )));
+        }
+        Ok(bytes
+            .chunks_exact(8)
+            .map(|c| f64::from_le_bytes(c.try_into().expect("chunks of 8")))
+            .collect())
+    }
 }
 
 /// Parameters of `water.batch`.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct BatchParams {
-    /// Exactly two columns of equal length, keyed by property name (p, T, h, s, u, v, rho, x).
+    /// Exactly two columns of equal length, keyed by property name (p, T, h, s, u, v, rho, x):
+    /// JSON arrays, or packed columns `{"f64le": "<base64>"}`.
     pub given: BTreeMap<String, Column>,
     /// Properties wanted, e.g. ["h", "s"]. Any numeric field of `water.state` plus "phase"
     /// and "region". Default: ["T", "p", "h", "s", "v", "x"].
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub want: Option<Vec<String>>,
+    /// Encoding of the result columns: "json" (default: arrays with null where undefined) or
+    /// "f64le" (packed columns, NaN where undefined; "phase" then comes as a JSON array).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub encoding: Option<String>,
     /// Unit preset (see `water.state`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub units: Option<String>,
@@ -539,29 +592,165 @@ pub struct RowError {
     pub message: String,
 }
 
+/// An error of one batch row, with its row index (0-based).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct RowErrorAt {
+    /// Row index, 0-based.
+    pub row: usize,
+    /// The error code (see the error table).
+    pub code: i64,
+    /// One-line message.
+    pub message: String,
+}
+
+/// A result column.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(untagged)]
+pub enum ColumnOut {
+    /// Numbers, null where undefined or failed.
+    Numbers(Vec<Option<f64>>),
+    /// Texts ("phase"), null where failed.
+    Texts(Vec<Option<String>>),
+    /// Packed numbers (encoding "f64le"), NaN where undefined or failed.
+    Packed(PackedColumn),
+}
+
 /// Result of `water.batch`: one column per wanted property, plus per-row errors.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct BatchResult {
-    /// Result columns keyed by property: numbers (null where undefined or failed); "phase"
-    /// holds strings and "region" integers.
-    pub columns: BTreeMap<String, Vec<serde_json::Value>>,
-    /// One entry per row: null, or the row's error.
+    /// Result columns keyed by property, in the preset's units; "phase" holds texts and
+    /// "region" the IF97 region numbers.
+    pub columns: BTreeMap<String, ColumnOut>,
+    /// With encoding "json": one entry per row, null or the row's error. Empty with "f64le".
     pub errors: Vec<Option<RowError>>,
+    /// The failed rows only (both encodings), in row order.
+    pub failed_rows: Vec<RowErrorAt>,
     /// Number of rows.
     pub rows: usize,
     /// Number of failed rows.
     pub failed: usize,
     /// The unit of every result column.
     pub units: BTreeMap<String, String>,
+    /// The encoding of the numeric result columns: "json" or "f64le".
+    pub encoding: String,
 }
 
 /// Most rows in one `water.batch` call.
 pub const MAX_BATCH_ROWS: usize = 1_000_000;
 
+/// Rows above which a batch is computed on all cores. Each row is computed by the same code
+/// either way, so the results are identical bit for bit.
+pub const PARALLEL_THRESHOLD: usize = 2048;
+
+type PairCtor = fn(f64, f64) -> Result<Given>;
+
+fn inv_rho(rho: f64) -> Result<f64> {
+    if rho > 0.0 {
+        Ok(1.0 / rho)
+    } else {
+        Err(Error::out_of_range(
+            "rho",
+            rho,
+            0.0,
+            "kg/m3",
+            crate::error::Bound::Below,
+            "IAPWS-IF97",
+        ))
+    }
+}
+
+/// Every supported pair with its constructor, in the order of [`PAIRS`].
+const PAIR_CTORS: [(&str, &str, PairCtor); 15] = [
+    ("p", "T", |a, b| Ok(Given::PT(a, b))),
+    ("p", "h", |a, b| Ok(Given::PH(a, b))),
+    ("p", "s", |a, b| Ok(Given::PS(a, b))),
+    ("h", "s", |a, b| Ok(Given::HS(a, b))),
+    ("T", "x", |a, b| Ok(Given::TX(a, b))),
+    ("p", "x", |a, b| Ok(Given::PX(a, b))),
+    ("T", "h", |a, b| Ok(Given::TH(a, b))),
+    ("T", "s", |a, b| Ok(Given::TS(a, b))),
+    ("p", "v", |a, b| Ok(Given::PV(a, b))),
+    ("p", "rho", |a, b| Ok(Given::PV(a, inv_rho(b)?))),
+    ("T", "v", |a, b| Ok(Given::TV(a, b))),
+    ("T", "rho", |a, b| Ok(Given::TV(a, inv_rho(b)?))),
+    ("u", "v", |a, b| Ok(Given::UV(a, b))),
+    ("u", "rho", |a, b| Ok(Given::UV(a, inv_rho(b)?))),
+    ("p", "u", |a, b| Ok(Given::PU(a, b))),
+];
+
+/// Which two properties a batch gives, decided once for all rows.
+#[derive(Clone, Copy)]
+struct PairKind {
+    ctor: PairCtor,
+    swap: bool,
+}
+
+impl PairKind {
+    fn new(a: &str, b: &str) -> Result<PairKind> {
+        for (x, y, ctor) in PAIR_CTORS {
+            if (x, y) == (a, b) {
+                return Ok(PairKind { ctor, swap: false });
+            }
+            if (x, y) == (b, a) {
+                return Ok(PairKind { ctor, swap: true });
+            }
+        }
+        Err(Error::invalid(format!(
+            "the pair ({a},{b}) is not supported; accepted pairs: {PAIRS}"
+        )))
+    }
+
+    fn given(&self, va: f64, vb: f64) -> Result<Given> {
+        if self.swap {
+            (self.ctor)(vb, va)
+        } else {
+            (self.ctor)(va, vb)
+        }
+    }
+}
+
+fn static_name(name: &str) -> Option<(&'static str, Dim)> {
+    Some(match name {
+        "p" => ("p", Dim::Pressure),
+        "T" => ("T", Dim::Temperature),
+        "h" => ("h", Dim::SpecificEnergy),
+        "u" => ("u", Dim::SpecificEnergy),
+        "s" => ("s", Dim::SpecificEntropy),
+        "v" => ("v", Dim::SpecificVolume),
+        "rho" => ("rho", Dim::Density),
+        "x" => ("x", Dim::Dimensionless),
+        _ => return None,
+    })
+}
+
+/// One input column converted to internal units (per-row conversion errors kept).
+fn column_internal(ctx: &Ctx, name: &str, dim: Dim, col: &Column) -> Result<Vec<Result<f64>>> {
+    Ok(match col {
+        Column::Values(v) => v.iter().map(|x| ctx.value(name, dim, x)).collect(),
+        Column::Packed(pc) => pc
+            .unpack(name)?
+            .into_iter()
+            .map(|x| {
+                Error::check_finite(name, x)?;
+                Ok(ctx.preset.to_internal(dim, x))
+            })
+            .collect(),
+    })
+}
+
 fn water_batch(p: BatchParams) -> Result<BatchResult> {
     check_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
     let opts = p.flags.options()?;
+    let packed_out = match p.encoding.as_deref() {
+        None | Some("json") => false,
+        Some("f64le") => true,
+        Some(other) => {
+            return Err(Error::invalid(format!(
+                "encoding = '{other}'; accepted: json, f64le"
+            )))
+        }
+    };
     if p.given.len() != 2 {
         return Err(Error::invalid(format!(
             "give exactly two input columns in `given` (got {}); accepted pairs: {PAIRS}",
@@ -585,83 +774,105 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
             )));
         }
     }
-    let cols: Vec<(&str, Dim, &Vec<Input>)> = p
-        .given
-        .iter()
-        .map(|(k, Column::Values(v))| {
-            let dim = match k.as_str() {
-                "p" => Ok(Dim::Pressure),
-                "T" => Ok(Dim::Temperature),
-                "h" | "u" => Ok(Dim::SpecificEnergy),
-                "s" => Ok(Dim::SpecificEntropy),
-                "v" => Ok(Dim::SpecificVolume),
-                "rho" => Ok(Dim::Density),
-                "x" => Ok(Dim::Dimensionless),
-                other => Err(Error::invalid(format!(
-                    "given: '{other}' is not an input property; accepted: p, T, h, s, u, v, rho, x"
-                ))),
-            }?;
-            Ok((k.as_str(), dim, v))
-        })
-        .collect::<Result<_>>()?;
-    let n = cols[0].2.len();
-    if cols[1].2.len() != n {
+    let mut cols = Vec::with_capacity(2);
+    for (k, col) in &p.given {
+        let (name, dim) = static_name(k).ok_or_else(|| {
+            Error::invalid(format!(
+                "given: '{k}' is not an input property; accepted: p, T, h, s, u, v, rho, x"
+            ))
+        })?;
+        let n = match col {
+            Column::Values(v) => v.len(),
+            Column::Packed(pc) => pc.f64le.len() / 4 * 3 / 8,
+        };
+        if n > MAX_BATCH_ROWS {
+            return Err(Error::LimitExceeded {
+                what: "rows in one water.batch call".into(),
+                limit: MAX_BATCH_ROWS as f64,
+                value: n as f64,
+            });
+        }
+        cols.push((name, column_internal(&ctx, name, dim, col)?));
+    }
+    let (na, ca) = (cols[0].0, &cols[0].1);
+    let (nb, cb) = (cols[1].0, &cols[1].1);
+    let n = ca.len();
+    if cb.len() != n {
         return Err(Error::invalid(format!(
-            "the input columns differ in length: {} has {} rows, {} has {}",
-            cols[0].0,
-            n,
-            cols[1].0,
-            cols[1].2.len()
+            "the input columns differ in length: {na} has {n} rows, {nb} has {}",
+            cb.len()
         )));
     }
-    if n > MAX_BATCH_ROWS {
-        return Err(Error::LimitExceeded {
-            what: "rows in one water.batch call".into(),
-            limit: MAX_BATCH_ROWS as f64,
-            value: n as f64,
-        });
-    }
-    let mut columns: BTreeMap<String, Vec<serde_json::Value>> = want
-        .iter()
-        .map(|w| (w.clone(), Vec::with_capacity(n)))
-        .collect();
-    let mut errors = Vec::with_capacity(n);
-    let mut failed = 0;
-    for i in 0..n {
-        let row = (|| -> Result<State> {
-            let mut vals = BTreeMap::new();
-            for (name, dim, col) in &cols {
-                vals.insert(*name, ctx.value(name, *dim, &col[i])?);
-            }
-            state::solve(pair_from_values(&vals)?, &opts)
-        })();
-        match row {
-            Ok(st) => {
-                for w in &want {
-                    let v = match w.as_str() {
-                        "phase" => serde_json::Value::from(st.phase.name()),
-                        "region" => serde_json::Value::from(st.region.number()),
-                        name => match field_internal(&st, name)
+    // The pair is checked once, so a bad pair fails the call rather than every row.
+    let kind = PairKind::new(na, nb)?;
+    let solve_row = |i: usize| -> Result<State> {
+        let va = ca[i].clone()?;
+        let vb = cb[i].clone()?;
+        state::solve(kind.given(va, vb)?, &opts)
+    };
+    let states: Vec<Result<State>> = if n >= PARALLEL_THRESHOLD {
+        use rayon::prelude::*;
+        (0..n).into_par_iter().map(solve_row).collect()
+    } else {
+        (0..n).map(solve_row).collect()
+    };
+    let mut columns = BTreeMap::new();
+    for w in &want {
+        let col = match w.as_str() {
+            "phase" => ColumnOut::Texts(
+                states
+                    .iter()
+                    .map(|r| r.as_ref().ok().map(|st| st.phase.name().to_string()))
+                    .collect(),
+            ),
+            name => {
+                let values: Vec<f64> = states
+                    .iter()
+                    .map(|r| match r {
+                        Ok(st) if name == "region" => st.region.number() as f64,
+                        Ok(st) => field_internal(st, name)
                             .and_then(|x| ctx.out(dim_of(name).unwrap(), x))
-                        {
-                            Some(x) => serde_json::Value::from(x),
-                            None => serde_json::Value::Null,
-                        },
-                    };
-                    columns.get_mut(w).unwrap().push(v);
+                            .unwrap_or(f64::NAN),
+                        Err(_) => f64::NAN,
+                    })
+                    .collect();
+                if packed_out {
+                    ColumnOut::Packed(PackedColumn::pack(&values))
+                } else {
+                    ColumnOut::Numbers(
+                        values
+                            .into_iter()
+                            .map(|x| if x.is_nan() { None } else { Some(x) })
+                            .collect(),
+                    )
                 }
-                errors.push(None);
+            }
+        };
+        columns.insert(w.clone(), col);
+    }
+    let mut failed_rows = Vec::new();
+    let mut errors = Vec::with_capacity(if packed_out { 0 } else { n });
+    for (i, r) in states.into_iter().enumerate() {
+        match r {
+            Ok(_) => {
+                if !packed_out {
+                    errors.push(None);
+                }
             }
             Err(e) => {
-                failed += 1;
-                for w in &want {
-                    columns.get_mut(w).unwrap().push(serde_json::Value::Null);
-                }
                 let api: super::ApiError = e.into();
-                errors.push(Some(RowError {
+                let message = format!("row {i}: {}", api.message);
+                if !packed_out {
+                    errors.push(Some(RowError {
+                        code: api.code,
+                        message: message.clone(),
+                    }));
+                }
+                failed_rows.push(RowErrorAt {
+                    row: i,
                     code: api.code,
-                    message: format!("row {i}: {}", api.message),
-                }));
+                    message,
+                });
             }
         }
     }
@@ -675,9 +886,11 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
     Ok(BatchResult {
         columns,
         errors,
+        failed: failed_rows.len(),
+        failed_rows,
         rows: n,
-        failed,
         units: units_map,
+        encoding: if packed_out { "f64le" } else { "json" }.to_string(),
     })
 }
 
