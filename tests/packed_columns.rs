@@ -161,3 +161,38 @@ fn a_million_rows_round_trip() {
     .unwrap_err();
     assert_eq!(e.code, 1008, "{}", e.message);
 }
+
+/// The bulk route's codec (`POST /columns`) gives exactly the numbers of `water.batch`.
+#[test]
+fn columns_route_codec_matches_batch() {
+    use steamcell::api::columns::{columns, frame, split_frame};
+    let (p, t) = rows(3000);
+    let header = json!({"given": ["p", "T"], "rows": p.len(), "want": ["h", "s", "v"]});
+    let body = frame(&header, &[p.clone(), t.clone()]);
+    let answer = columns(&body).unwrap();
+    let (head, data) = split_frame(&answer).unwrap();
+    assert_eq!(head["rows"], 3000);
+    assert_eq!(head["failed"], 2);
+    assert_eq!(head["units"]["h"], "kJ/kg");
+    let batch = call(
+        "water.batch",
+        json!({"given": {"p": pack(&p), "T": pack(&t)}, "want": ["h", "s", "v"], "encoding": "f64le"}),
+    )
+    .unwrap();
+    for (k, q) in ["h", "s", "v"].iter().enumerate() {
+        let a = unpack(&batch["columns"][q]);
+        let b: Vec<f64> = data[k * 3000 * 8..(k + 1) * 3000 * 8]
+            .chunks_exact(8)
+            .map(|c| f64::from_le_bytes(c.try_into().unwrap()))
+            .collect();
+        assert!(
+            a.iter().zip(&b).all(|(x, y)| x.to_bits() == y.to_bits()),
+            "{q}"
+        );
+    }
+    // Framing errors are clear.
+    let e = columns(&body[..body.len() - 3]).unwrap_err();
+    assert!(e.message.contains("data bytes"), "{}", e.message);
+    let e = columns(&[1, 0]).unwrap_err();
+    assert!(e.message.contains("4-byte header"), "{}", e.message);
+}

@@ -15,6 +15,7 @@
 //! into the `methods()` list of its module (`water::methods()` or `server_methods::methods()`).
 
 pub mod cell;
+pub mod columns;
 pub mod openrpc;
 pub mod plant;
 pub mod selftest;
@@ -364,6 +365,11 @@ impl MethodSpec {
         REQUESTS.fetch_add(1, Ordering::Relaxed);
         (self.call)(params)
     }
+}
+
+/// Counts one served request (for routes that do not go through a [`MethodSpec`]).
+pub fn count_request() {
+    REQUESTS.fetch_add(1, Ordering::Relaxed);
 }
 
 /// Decodes a params value into `P`. Absent params (`null`) and an empty array count as `{}`;

@@ -738,6 +738,80 @@ fn column_internal(ctx: &Ctx, name: &str, dim: Dim, col: &Column) -> Result<Vec<
     })
 }
 
+/// Solves every row of two input columns (internal units; a row's conversion error is kept),
+/// on all cores above [`PARALLEL_THRESHOLD`] rows. The pair is checked once, so a bad pair fails
+/// the call rather than every row.
+pub fn solve_rows(
+    opts: &Options,
+    na: &str,
+    ca: &[Result<f64>],
+    nb: &str,
+    cb: &[Result<f64>],
+) -> Result<Vec<Result<State>>> {
+    let kind = PairKind::new(na, nb)?;
+    let n = ca.len();
+    let solve_row = |i: usize| -> Result<State> {
+        let va = ca[i].clone()?;
+        let vb = cb[i].clone()?;
+        state::solve(kind.given(va, vb)?, opts)
+    };
+    Ok(if n >= PARALLEL_THRESHOLD {
+        use rayon::prelude::*;
+        (0..n).into_par_iter().map(solve_row).collect()
+    } else {
+        (0..n).map(solve_row).collect()
+    })
+}
+
+/// A numeric result column in the preset's units: NaN where undefined or failed; "region" as
+/// the IF97 region number.
+pub fn numeric_column(ctx: &Ctx, states: &[Result<State>], name: &str) -> Vec<f64> {
+    let dim = dim_of(name);
+    states
+        .iter()
+        .map(|r| match (r, dim) {
+            (Ok(st), _) if name == "region" => st.region.number() as f64,
+            (Ok(st), Some(d)) => field_internal(st, name)
+                .and_then(|x| ctx.out(d, x))
+                .unwrap_or(f64::NAN),
+            _ => f64::NAN,
+        })
+        .collect()
+}
+
+/// The dimension of an input column name, or an error listing the accepted names.
+pub fn input_dim(name: &str) -> Result<(&'static str, Dim)> {
+    static_name(name).ok_or_else(|| {
+        Error::invalid(format!(
+            "given: '{name}' is not an input property; accepted: p, T, h, s, u, v, rho, x"
+        ))
+    })
+}
+
+/// The unit of a result column in the preset, if it has one.
+pub fn column_unit(ctx: &Ctx, name: &str) -> Option<&'static str> {
+    dim_of(name).map(|d| ctx.unit(d))
+}
+
+/// Checks a `want` list: numeric fields of `water.state`, "region", and "phase" when texts are
+/// allowed.
+pub fn check_want(want: &[String], texts: bool) -> Result<()> {
+    if want.is_empty() {
+        return Err(Error::invalid("want is empty: name at least one property"));
+    }
+    for w in want {
+        let ok = dim_of(w).is_some() || w == "region" || (texts && w == "phase");
+        if !ok {
+            return Err(Error::invalid(format!(
+                "want: '{w}' is not a property; accepted: {}, region{}",
+                STATE_FIELDS.map(|f| f.0).join(", "),
+                if texts { ", phase" } else { "" }
+            )));
+        }
+    }
+    Ok(())
+}
+
 fn water_batch(p: BatchParams) -> Result<BatchResult> {
     check_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
@@ -763,17 +837,7 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
             .map(|s| s.to_string())
             .collect()
     });
-    if want.is_empty() {
-        return Err(Error::invalid("want is empty: name at least one property"));
-    }
-    for w in &want {
-        if dim_of(w).is_none() && w != "phase" && w != "region" {
-            return Err(Error::invalid(format!(
-                "want: '{w}' is not a property; accepted: {}, phase, region",
-                STATE_FIELDS.map(|f| f.0).join(", ")
-            )));
-        }
-    }
+    check_want(&want, true)?;
     let mut cols = Vec::with_capacity(2);
     for (k, col) in &p.given {
         let (name, dim) = static_name(k).ok_or_else(|| {
@@ -803,19 +867,7 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
             cb.len()
         )));
     }
-    // The pair is checked once, so a bad pair fails the call rather than every row.
-    let kind = PairKind::new(na, nb)?;
-    let solve_row = |i: usize| -> Result<State> {
-        let va = ca[i].clone()?;
-        let vb = cb[i].clone()?;
-        state::solve(kind.given(va, vb)?, &opts)
-    };
-    let states: Vec<Result<State>> = if n >= PARALLEL_THRESHOLD {
-        use rayon::prelude::*;
-        (0..n).into_par_iter().map(solve_row).collect()
-    } else {
-        (0..n).map(solve_row).collect()
-    };
+    let states = solve_rows(&opts, na, ca, nb, cb)?;
     let mut columns = BTreeMap::new();
     for w in &want {
         let col = match w.as_str() {
@@ -826,16 +878,7 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
                     .collect(),
             ),
             name => {
-                let values: Vec<f64> = states
-                    .iter()
-                    .map(|r| match r {
-                        Ok(st) if name == "region" => st.region.number() as f64,
-                        Ok(st) => field_internal(st, name)
-                            .and_then(|x| ctx.out(dim_of(name).unwrap(), x))
-                            .unwrap_or(f64::NAN),
-                        Err(_) => f64::NAN,
-                    })
-                    .collect();
+                let values = numeric_column(&ctx, &states, name);
                 if packed_out {
                     ColumnOut::Packed(PackedColumn::pack(&values))
                 } else {

@@ -1,0 +1,178 @@
+//! The bulk column route `POST /columns`: the same computation as `water.batch`, with the
+//! numbers travelling as raw little-endian doubles instead of JSON text.
+//!
+//! Layout of a request body (and, the same way, of a response body):
+//!
+//! ```text
+//! u32 little-endian   H, the length of the header in bytes
+//! H bytes             a UTF-8 JSON header
+//! N * 8 bytes         column 1: N IEEE-754 doubles, little-endian
+//! N * 8 bytes         column 2, ...
+//! ```
+//!
+//! Request header: `{"given": ["p", "T"], "rows": N, "want": ["h", "s"], "units"?,
+//! "ambient"?, "formulation"?, "prefer"?, "backward_only"?, "metastable"?}`, followed by the
+//! two `given` columns in that order, in the preset's units (NaN marks a missing value).
+//! Response header: `{"columns": ["h", "s"], "rows": N, "units": {...}, "failed": k,
+//! "failed_rows": [{"row", "code", "message"}, ...], "formulation"}`, followed by one column per
+//! wanted property (NaN where undefined or failed). Errors of the whole request answer a
+//! non-200 status with a JSON body `{"code", "message", "data"}` (the JSON-RPC error object).
+//!
+//! Invariant: results are bit-identical to `water.batch` with `encoding: "f64le"`.
+
+use super::water::{self, check_want, column_unit, input_dim, numeric_column, solve_rows, Ctx};
+use super::ApiError;
+use crate::error::{Error, Result};
+use serde::Deserialize;
+use serde_json::{json, Value};
+
+/// Content type of request and response bodies.
+pub const CONTENT_TYPE: &str = "application/x-steamcell-columns";
+
+/// Largest header accepted, bytes.
+pub const MAX_HEADER: usize = 64 * 1024;
+
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct Header {
+    given: Vec<String>,
+    rows: usize,
+    want: Vec<String>,
+    #[serde(default)]
+    units: Option<String>,
+    #[serde(default)]
+    ambient: Option<water::Input>,
+    #[serde(default)]
+    formulation: Option<String>,
+    #[serde(flatten)]
+    flags: water::SolveFlags,
+}
+
+fn bad(msg: impl Into<String>) -> Error {
+    Error::invalid(msg.into())
+}
+
+/// Splits a framed body into its JSON header and the bytes after it.
+pub fn split_frame(body: &[u8]) -> Result<(Value, &[u8])> {
+    if body.len() < 4 {
+        return Err(bad(
+            "columns body: shorter than the 4-byte header length (u32 little-endian)",
+        ));
+    }
+    let h = u32::from_le_bytes(body[..4].try_into().expect("4 bytes")) as usize;
+    if h > MAX_HEADER || 4 + h > body.len() {
+        return Err(bad(format!(
+            "columns body: header length {h} exceeds the body ({} bytes) or the limit {MAX_HEADER}",
+            body.len()
+        )));
+    }
+    let header: Value = serde_json::from_slice(&body[4..4 + h])
+        .map_err(|e| bad(format!("columns header is not JSON: {e}")))?;
+    Ok((header, &body[4 + h..]))
+}
+
+/// Builds a framed body from a header and columns.
+pub fn frame(header: &Value, columns: &[Vec<f64>]) -> Vec<u8> {
+    let head = serde_json::to_vec(header).expect("a JSON value serialises");
+    let n: usize = columns.iter().map(|c| c.len() * 8).sum();
+    let mut out = Vec::with_capacity(4 + head.len() + n);
+    out.extend_from_slice(&(head.len() as u32).to_le_bytes());
+    out.extend_from_slice(&head);
+    for c in columns {
+        for x in c {
+            out.extend_from_slice(&x.to_le_bytes());
+        }
+    }
+    out
+}
+
+fn compute(body: &[u8]) -> Result<Vec<u8>> {
+    let (header, data) = split_frame(body)?;
+    let h: Header =
+        serde_json::from_value(header).map_err(|e| bad(format!("columns header: {e}")))?;
+    if h.given.len() != 2 {
+        return Err(bad(format!(
+            "columns header: give exactly two input columns in `given` (got {})",
+            h.given.len()
+        )));
+    }
+    if h.rows > water::MAX_BATCH_ROWS {
+        return Err(Error::LimitExceeded {
+            what: "rows in one /columns call".into(),
+            limit: water::MAX_BATCH_ROWS as f64,
+            value: h.rows as f64,
+        });
+    }
+    check_want(&h.want, false)?;
+    match h.formulation.as_deref() {
+        None | Some("if97") | Some("IAPWS-IF97") => {}
+        Some(other) => {
+            return Err(bad(format!(
+                "formulation '{other}' is not available on /columns; accepted: if97"
+            )))
+        }
+    }
+    let want_bytes = h.rows * 8 * 2;
+    if data.len() != want_bytes {
+        return Err(bad(format!(
+            "columns body: {} data bytes after the header, expected {want_bytes} (2 columns of {} rows, 8 bytes each)",
+            data.len(),
+            h.rows
+        )));
+    }
+    let ctx = Ctx::new(h.units.as_deref(), h.ambient.as_ref())?;
+    let opts = h.flags.options()?;
+    let mut cols = Vec::with_capacity(2);
+    for (k, name) in h.given.iter().enumerate() {
+        let (name, dim) = input_dim(name)?;
+        let bytes = &data[k * h.rows * 8..(k + 1) * h.rows * 8];
+        let values: Vec<Result<f64>> = bytes
+            .chunks_exact(8)
+            .map(|c| {
+                let x = f64::from_le_bytes(c.try_into().expect("chunks of 8"));
+                Error::check_finite(name, x)?;
+                Ok(ctx.preset.to_internal(dim, x))
+            })
+            .collect();
+        cols.push((name, values));
+    }
+    let states = solve_rows(&opts, cols[0].0, &cols[0].1, cols[1].0, &cols[1].1)?;
+    let out: Vec<Vec<f64>> = h
+        .want
+        .iter()
+        .map(|w| numeric_column(&ctx, &states, w))
+        .collect();
+    let mut failed_rows = Vec::new();
+    for (i, r) in states.iter().enumerate() {
+        if let Err(e) = r {
+            let api: ApiError = e.clone().into();
+            failed_rows.push(
+                json!({"row": i, "code": api.code, "message": format!("row {i}: {}", api.message)}),
+            );
+        }
+    }
+    let units: serde_json::Map<String, Value> = h
+        .want
+        .iter()
+        .filter_map(|w| column_unit(&ctx, w).map(|u| (w.clone(), Value::from(u))))
+        .chain(std::iter::once((
+            "preset".to_string(),
+            Value::from(ctx.preset.name()),
+        )))
+        .collect();
+    let header = json!({
+        "columns": h.want,
+        "rows": h.rows,
+        "units": units,
+        "failed": failed_rows.len(),
+        "failed_rows": failed_rows,
+        "formulation": "IAPWS-IF97",
+    });
+    Ok(frame(&header, &out))
+}
+
+/// Answers a `/columns` body, counted like a method call.
+pub fn columns(body: &[u8]) -> std::result::Result<Vec<u8>, ApiError> {
+    super::count_request();
+    compute(body).map_err(ApiError::from)
+}
