@@ -209,9 +209,40 @@ pub enum UnitIn {
 #[serde(deny_unknown_fields)]
 pub struct NetworkIn {
     /// Units by name.
-    pub units: BTreeMap<String, UnitIn>,
+    pub units: BTreeMap<String, UnitSpec>,
     /// Streams by name.
     pub streams: BTreeMap<String, StreamIn>,
+}
+
+/// A unit of a site network: an object with `kind` and that kind's fields (see [`UnitIn`]).
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
+#[serde(transparent)]
+pub struct UnitSpec(pub UnitIn);
+
+impl JsonSchema for UnitSpec {
+    fn schema_name() -> String {
+        "Unit".into()
+    }
+    fn json_schema(g: &mut schemars::gen::SchemaGenerator) -> schemars::schema::Schema {
+        use schemars::schema::Schema;
+        let mut s = UnitIn::json_schema(g);
+        if let Schema::Object(o) = &mut s {
+            if let Some(sub) = o.subschemas.as_mut() {
+                for v in sub.one_of.iter_mut().flatten() {
+                    if let Schema::Object(vo) = v {
+                        if let Some(obj) = vo.object.as_mut() {
+                            if let Some(Schema::Object(k)) = obj.properties.get_mut("kind") {
+                                k.metadata().description = Some(
+                                    "Unit kind: boiler, turbine, valve, desuperheater, header, deaerator, flash, pump, condenser, exchanger, user, vent or makeup.".into(),
+                                );
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        s
+    }
 }
 
 fn opt(ctx: &Ctx, q: &str, dim: Dim, v: &Option<Input>) -> Result<Option<f64>> {
@@ -223,7 +254,7 @@ impl NetworkIn {
     pub fn to_network(&self, ctx: &Ctx) -> Result<Network> {
         use Dim::*;
         let mut units = BTreeMap::new();
-        for (n, u) in &self.units {
+        for (n, UnitSpec(u)) in &self.units {
             let q = |f: &str| format!("units.{n}.{f}");
             let unit = match u {
                 UnitIn::Boiler {
