@@ -19,6 +19,8 @@ pub struct Row {
     pub owner: String,
     /// What it says, e.g. "mass balance" or "fixed flow".
     pub what: &'static str,
+    /// A specification (fixed flow, demand, power...) rather than a unit balance.
+    pub spec: bool,
 }
 
 impl Row {
@@ -28,6 +30,13 @@ impl Row {
             rhs: 0.0,
             owner,
             what,
+            spec: false,
+        }
+    }
+    pub fn spec(owner: String, what: &'static str) -> Row {
+        Row {
+            spec: true,
+            ..Row::new(owner, what)
         }
     }
     pub fn add(&mut self, i: usize, c: f64) {
@@ -63,8 +72,11 @@ pub struct Analysis {
     pub free: Vec<usize>,
     /// Streams whose flows are not fixed (nonzero in some null vector).
     pub undetermined: Vec<usize>,
-    /// Sets of rows (indices) that are dependent: each set cannot hold independently.
+    /// Sets of rows (indices) that are dependent and involve a specification: each set
+    /// cannot hold independently.
     pub clashes: Vec<Vec<usize>>,
+    /// Unit balances that follow from the others (a closed loop's last mass balance): dropped.
+    pub redundant: Vec<usize>,
 }
 
 const RANK_TOL: f64 = 1e-10;
@@ -75,6 +87,7 @@ pub fn analyse(rows: &[Row], n: usize) -> Analysis {
     // basis: (reduced row, pivot column, combination of original rows)
     let mut basis: Vec<(Vec<f64>, usize, Vec<f64>)> = Vec::new();
     let mut clashes = Vec::new();
+    let mut redundant = Vec::new();
     for (k, row) in rows.iter().enumerate() {
         let (mut r, _) = row.dense(n);
         let mut comb = vec![0.0; m];
@@ -100,7 +113,11 @@ pub fn analyse(rows: &[Row], n: usize) -> Analysis {
         if big < RANK_TOL {
             let cmax = comb.iter().fold(0.0f64, |a, x| a.max(x.abs()));
             let set: Vec<usize> = (0..m).filter(|&j| comb[j].abs() > 1e-8 * cmax).collect();
-            clashes.push(set);
+            if set.iter().any(|&j| rows[j].spec) {
+                clashes.push(set);
+            } else {
+                redundant.push(k);
+            }
         } else {
             basis.push((r, piv, comb));
         }
@@ -130,6 +147,7 @@ pub fn analyse(rows: &[Row], n: usize) -> Analysis {
         free,
         undetermined,
         clashes,
+        redundant,
     }
 }
 

@@ -907,7 +907,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
                     }
                 }
                 if let Some(v) = steam_flow {
-                    let mut r = Row::new(lab.clone(), "steam flow");
+                    let mut r = Row::spec(lab.clone(), "steam flow");
                     r.add(*steam, 1.0);
                     r.rhs = *v;
                     spec.push(r);
@@ -916,7 +916,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
             (Unit::Turbine { power, .. }, Ports::Turbine { inlet, order }) => {
                 bal.push(mass(&[]));
                 if let Some(pw) = power {
-                    let mut r = Row::new(lab.clone(), "power");
+                    let mut r = Row::spec(lab.clone(), "power");
                     r.add(*inlet, h(st, *inlet));
                     for &o in order {
                         r.add(o, -h(st, o));
@@ -960,7 +960,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
                 }
                 bal.push(r);
                 if let (Some(v), Some(f)) = (vent, vent_fraction) {
-                    let mut r = Row::new(lab.clone(), "vent fraction");
+                    let mut r = Row::spec(lab.clone(), "vent fraction");
                     r.add(*v, 1.0);
                     r.add(*steam, -f);
                     spec.push(r);
@@ -1006,7 +1006,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
                     bal.push(r);
                 }
                 if let Some(d) = demand {
-                    let mut r = Row::new(lab.clone(), "steam demand");
+                    let mut r = Row::spec(lab.clone(), "steam demand");
                     r.add(*inlet, 1.0);
                     r.rhs = *d;
                     spec.push(r);
@@ -1017,7 +1017,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
     }
     for (s, sp) in net.streams.iter().enumerate() {
         if let Some(f) = sp.flow {
-            let mut r = Row::new(format!("stream {}", net.sn[s]), "fixed flow");
+            let mut r = Row::spec(format!("stream {}", net.sn[s]), "fixed flow");
             r.add(s, 1.0);
             r.rhs = f;
             spec.push(r);
@@ -1072,9 +1072,15 @@ fn flow_messages(
                     {
                         uniq(&mut hints, format!("give the steam flow of boiler {nm}, or let a header or user downstream fix it"))
                     }
-                    (Unit::Header { .. }, _) if net.outs[u].len() > 1 && net.outs[u].contains(&s) => {
-                        let os: Vec<&str> = net.outs[u].iter().map(|&o| net.sn[o]).collect();
-                        uniq(&mut hints, format!("header {nm} has {} outlets and no rule to share its steam: give the flow of one of {}, or send the surplus to a vent", os.len(), os.join(", ")))
+                    (Unit::Header { .. }, _) if net.outs[u].contains(&s) => {
+                        let os: Vec<&str> = net.outs[u]
+                            .iter()
+                            .filter(|o| a.undetermined.contains(o))
+                            .map(|&o| net.sn[o])
+                            .collect();
+                        if os.len() > 1 {
+                            uniq(&mut hints, format!("header {nm} has {} outlets with no rule to share its steam ({}): give the flow of one of them, or send the surplus to a vent", os.len(), os.join(", ")))
+                        }
                     }
                     (Unit::Deaerator { vent_fraction: None, .. }, Ports::Deaerator { vent: Some(v), .. })
                         if *v == s =>
@@ -1236,6 +1242,13 @@ pub fn solve_from(network: &Network, guess: Option<&Solution>) -> Result<Solutio
     sweep_states(&mut net, &m, &mut st)?;
     let mut rs = rows(&net, &st);
     let a = dof::analyse(&rs, ns);
+    let keep = |rs: Vec<Row>| -> Vec<Row> {
+        rs.into_iter()
+            .enumerate()
+            .filter(|(i, _)| !a.redundant.contains(i))
+            .map(|(_, r)| r)
+            .collect()
+    };
     if a.rank < ns || !a.clashes.is_empty() {
         flow_messages(&net, &rs, &a, &mut under, &mut over);
         return Err(dof_error(&under, &over));
@@ -1244,7 +1257,8 @@ pub fn solve_from(network: &Network, guess: Option<&Solution>) -> Result<Solutio
     let mut res = f64::INFINITY;
     while iterations < MAX_ITER {
         iterations += 1;
-        m = dof::solve_square(&rs, ns).ok_or_else(|| {
+        let square = keep(rs);
+        m = dof::solve_square(&square, ns).ok_or_else(|| {
             Error::not_converged(
                 "site balance: the flow equations became dependent during the iteration (check the specifications for a degenerate state)",
                 iterations,
