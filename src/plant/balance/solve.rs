@@ -830,10 +830,32 @@ fn unit_states(net: &mut Net, u: usize, m: &[f64], st: &mut [Option<State>]) -> 
 fn sweep_states(net: &mut Net, m: &[f64], st: &mut [Option<State>]) -> Result<()> {
     let nu = net.un.len();
     for _ in 0..(2 * nu + 4) {
-        for u in 0..nu {
-            unit_states(net, u, m, st)?;
+        // passes until no state moves (a recycle through mixing needs several)
+        let mut settled = false;
+        for _ in 0..(nu + 50) {
+            let before: Vec<f64> = st
+                .iter()
+                .map(|s| s.map(|s| s.props.h).unwrap_or(f64::NAN))
+                .collect();
+            for u in 0..nu {
+                unit_states(net, u, m, st)?;
+            }
+            let moved = st.iter().zip(&before).any(|(s, b)| match s {
+                Some(s) => !(b.is_finite() && (s.props.h - b).abs() <= 1e-13 * b.abs().max(1.0)),
+                None => false,
+            });
+            if !moved {
+                settled = true;
+                break;
+            }
         }
         if st.iter().all(Option::is_some) {
+            if !settled {
+                return Err(Error::not_converged(
+                    "site balance: stream states around a recycle",
+                    nu + 50,
+                ));
+            }
             return Ok(());
         }
         // seed the first unknown stream
