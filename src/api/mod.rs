@@ -14,6 +14,7 @@
 //! `MethodSpec::new::<MyParams, MyResult>("group.name", "summary", "description", my_method)`
 //! into the `methods()` list of its module (`water::methods()` or `server_methods::methods()`).
 
+pub mod balance;
 pub mod cell;
 pub mod columns;
 pub mod openrpc;
@@ -429,6 +430,7 @@ pub fn registry() -> &'static [MethodSpec] {
     REGISTRY.get_or_init(|| {
         let mut all = water::methods();
         all.extend(plant::methods());
+        all.extend(balance::methods());
         all.extend(server_methods::methods());
         all.extend(selftest::methods());
         all

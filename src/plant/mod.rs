@@ -11,6 +11,7 @@
 //! Caution: results support engineering work; they are not a substitute for the governing codes,
 //! the equipment maker's data, or a licensed engineer's review.
 
+pub mod balance;
 pub mod components;
 pub mod cycle;
 

@@ -1,0 +1,862 @@
+//! Site steam-balance methods: `balance.solve` and `balance.sweep`.
+//!
+//! Units: every number in the network is in the request's preset (`engineering` by default)
+//! or a string with its unit; every result is in the preset (mass flow, power and heat flow
+//! included) and lists its units.
+//!
+//! Invariant: thin wrappers; the network solver is `crate::plant::balance`.
+
+use super::plant::BalanceOut;
+use super::water::{state_result, Ctx, Input, StateResult};
+use super::MethodSpec;
+use crate::error::{Error, Result};
+use crate::plant::balance::{self as b, Network, StreamSpec, Unit};
+use crate::plant::Balance;
+use crate::units::Dim;
+use schemars::JsonSchema;
+use serde::{Deserialize, Serialize};
+use serde_json::Value;
+use std::collections::BTreeMap;
+
+/// Most points of one `balance.sweep`.
+pub const MAX_SWEEP_POINTS: usize = 1000;
+
+/// The methods of this module, for the registry.
+pub fn methods() -> Vec<MethodSpec> {
+    vec![
+        MethodSpec::new::<SolveParams, SolveResult>(
+            "balance.solve",
+            "Site steam balance: every stream's flow and state, every unit's duty and power, site totals and an energy-flow summary",
+            concat!("Give the network as named `units` (each with `kind`: boiler, turbine, valve, desuperheater, header, deaerator, flash, pump, condenser, exchanger, user, vent, makeup, and its specification) and named `streams` (`from`, `to` and optional fixed flow, p, T, h, x). The degrees of freedom are counted first: an under- or over-specified network is refused with a message naming the streams and units and the usual choice. All mass and energy balances are then solved together (recycles included) to 1e-9 relative. Returns every stream's state and flow, every unit's power, duty, efficiency, balance and warnings, site totals (fuel heat input, net power, steam to process, make-up water, vented steam) and Sankey nodes and links.", " Caution: the model is only as good as its specifications (efficiencies and losses from the plant's own test data); results are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
+            balance_solve,
+        ),
+        MethodSpec::new::<SweepParams, SweepResult>(
+            "balance.sweep",
+            "Vary one specification of a site network over a range and solve each point",
+            concat!("`path` is a dotted path into the network, e.g. `units.LP_users.demand` or `streams.S1.flow`; the value goes from `from` to `to` in `points` equal steps (numbers in the request's preset). Each point is solved from the previous answer; a point that cannot be solved is reported with its error, not dropped. Returns the site totals and the chosen streams' flow, p, T, h and x per point.", " Caution: the model is only as good as its specifications; results are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
+            balance_sweep,
+        ),
+    ]
+}
+
+/// A stream of a site network.
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct StreamIn {
+    /// Name of the unit the stream leaves.
+    pub from: String,
+    /// Name of the unit the stream enters.
+    pub to: String,
+    /// Fixed mass flow.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub flow: Option<Input>,
+    /// Fixed pressure (otherwise set by its source unit or its destination header,
+    /// deaerator, condenser or desuperheater).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub p: Option<Input>,
+    /// Fixed temperature (only where the source unit does not set the state: boiler steam,
+    /// turbine outlets (measured), desuperheater outlet, exchanger outlets, condensate
+    /// returns, make-up).
+    #[serde(rename = "T", default, skip_serializing_if = "Option::is_none")]
+    pub t: Option<Input>,
+    /// Fixed specific enthalpy (same places as T).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub h: Option<Input>,
+    /// Fixed quality (same places as T).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub x: Option<Input>,
+}
+
+/// A unit of a site network, by `kind`.
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(tag = "kind", rename_all = "snake_case", deny_unknown_fields)]
+pub enum UnitIn {
+    /// Boiler: one feedwater inlet; the steam outlet and, optionally, a blowdown outlet.
+    Boiler {
+        /// Steam pressure (or p on the steam stream).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        p: Option<Input>,
+        /// Steam temperature (or T on the steam stream).
+        #[serde(rename = "T", default, skip_serializing_if = "Option::is_none")]
+        t: Option<Input>,
+        /// Boiler efficiency: heat to water and steam over fuel heat input (0..1).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        efficiency: Option<Input>,
+        /// Blowdown as a fraction of the feedwater flow (default 0); saturated liquid at the
+        /// steam pressure.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        blowdown_fraction: Option<Input>,
+        /// Name of the blowdown outlet stream; without one the blowdown leaves the site.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        blowdown: Option<String>,
+        /// Steam flow.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        steam_flow: Option<Input>,
+    },
+    /// Turbine: one inlet; outlets (extractions and exhaust) at their stream pressures,
+    /// expanded section by section in order of falling pressure.
+    Turbine {
+        /// Isentropic efficiency of every section (an outlet stream with a measured T, h or x
+        /// uses that instead).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        efficiency: Option<Input>,
+        /// Shaft power (fixes the steam flow).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        power: Option<Input>,
+    },
+    /// Let-down (pressure-reducing) valve: isenthalpic, one inlet, one outlet.
+    Valve {
+        /// Outlet pressure (default: its outlet's destination, e.g. a desuperheater or header).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        p: Option<Input>,
+    },
+    /// Desuperheater: steam and spray water in, one outlet at a target.
+    Desuperheater {
+        /// Name of the spray-water inlet stream.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        water: Option<String>,
+        /// Outlet pressure (default: its outlet's destination, else the steam pressure).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        p: Option<Input>,
+        /// Target outlet temperature.
+        #[serde(rename = "T", default, skip_serializing_if = "Option::is_none")]
+        t: Option<Input>,
+        /// Target superheat (a temperature difference).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        superheat: Option<Input>,
+    },
+    /// Header: adiabatic mixing at a pressure; any number of inlets and outlets, all outlets
+    /// at the header state.
+    Header {
+        /// Header pressure.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        p: Option<Input>,
+    },
+    /// Deaerator: water inlets and a heating-steam inlet to saturated liquid; optional vent.
+    Deaerator {
+        /// Pressure.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        p: Option<Input>,
+        /// Name of the heating-steam inlet stream.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        steam: Option<String>,
+        /// Name of the vent outlet stream (saturated vapour), if any.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        vent: Option<String>,
+        /// Vent flow as a fraction of the heating steam (default 0; without a vent stream the
+        /// vent leaves the site).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        vent_fraction: Option<Input>,
+    },
+    /// Flash vessel: inlets flashed to saturated vapour and liquid at a pressure.
+    Flash {
+        /// Vessel pressure.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        p: Option<Input>,
+        /// Name of the vapour outlet stream (the other outlet is the liquid).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        vapour: Option<String>,
+    },
+    /// Pump: liquid raised to a pressure (isentropic efficiency).
+    Pump {
+        /// Discharge pressure (default: its outlet's destination).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        p: Option<Input>,
+        /// Isentropic efficiency.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        efficiency: Option<Input>,
+    },
+    /// Condenser: inlets to saturated liquid at a pressure; the duty leaves the site.
+    Condenser {
+        /// Pressure.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        p: Option<Input>,
+    },
+    /// Two-stream exchanger without pressure drop: outlet states from T, h or x on the
+    /// outlet streams; one of the two may be left free.
+    Exchanger {
+        /// Name of the hot inlet stream.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        hot_in: Option<String>,
+        /// Name of the hot outlet stream.
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        hot_out: Option<String>,
+    },
+    /// Process steam user: steam in, optional condensate return out, the rest lost.
+    User {
+        /// Steam demand (mass flow).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        demand: Option<Input>,
+        /// Fraction of the steam returned as condensate (0..1, default 0).
+        #[serde(default, skip_serializing_if = "Option::is_none")]
+        return_fraction: Option<Input>,
+        /// Condensate temperature (returned and lost condensate).
+        #[serde(rename = "return_T", default, skip_serializing_if = "Option::is_none")]
+        return_t: Option<Input>,
+    },
+    /// Vent: boundary sink that takes whatever is left.
+    Vent {},
+    /// Make-up: boundary source of water at a temperature, whatever is needed.
+    Makeup {
+        /// Water temperature.
+        #[serde(rename = "T", default, skip_serializing_if = "Option::is_none")]
+        t: Option<Input>,
+    },
+}
+
+/// A site network.
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct NetworkIn {
+    /// Units by name.
+    pub units: BTreeMap<String, UnitSpec>,
+    /// Streams by name.
+    pub streams: BTreeMap<String, StreamIn>,
+}
+
+/// A unit of a site network: an object with `kind` and that kind's fields (see [`UnitIn`]).
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize)]
+#[serde(transparent)]
+pub struct UnitSpec(pub UnitIn);
+
+impl JsonSchema for UnitSpec {
+    fn schema_name() -> String {
+        "Unit".into()
+    }
+    fn json_schema(g: &mut schemars::gen::SchemaGenerator) -> schemars::schema::Schema {
+        use schemars::schema::Schema;
+        let mut s = UnitIn::json_schema(g);
+        if let Schema::Object(o) = &mut s {
+            if let Some(sub) = o.subschemas.as_mut() {
+                for v in sub.one_of.iter_mut().flatten() {
+                    if let Schema::Object(vo) = v {
+                        if let Some(obj) = vo.object.as_mut() {
+                            if let Some(Schema::Object(k)) = obj.properties.get_mut("kind") {
+                                k.metadata().description = Some(
+                                    "Unit kind: boiler, turbine, valve, desuperheater, header, deaerator, flash, pump, condenser, exchanger, user, vent or makeup.".into(),
+                                );
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        s
+    }
+}
+
+fn opt(ctx: &Ctx, q: &str, dim: Dim, v: &Option<Input>) -> Result<Option<f64>> {
+    v.as_ref().map(|x| ctx.value(q, dim, x)).transpose()
+}
+
+impl NetworkIn {
+    /// Converts to the library network in internal units.
+    pub fn to_network(&self, ctx: &Ctx) -> Result<Network> {
+        use Dim::*;
+        let mut units = BTreeMap::new();
+        for (n, UnitSpec(u)) in &self.units {
+            let q = |f: &str| format!("units.{n}.{f}");
+            let unit = match u {
+                UnitIn::Boiler {
+                    p,
+                    t,
+                    efficiency,
+                    blowdown_fraction,
+                    blowdown,
+                    steam_flow,
+                } => Unit::Boiler {
+                    p: opt(ctx, &q("p"), Pressure, p)?,
+                    t: opt(ctx, &q("T"), Temperature, t)?,
+                    efficiency: opt(ctx, &q("efficiency"), Dimensionless, efficiency)?,
+                    blowdown_fraction: opt(
+                        ctx,
+                        &q("blowdown_fraction"),
+                        Dimensionless,
+                        blowdown_fraction,
+                    )?
+                    .unwrap_or(0.0),
+                    blowdown: blowdown.clone(),
+                    steam_flow: opt(ctx, &q("steam_flow"), MassFlow, steam_flow)?,
+                },
+                UnitIn::Turbine { efficiency, power } => Unit::Turbine {
+                    efficiency: opt(ctx, &q("efficiency"), Dimensionless, efficiency)?,
+                    power: opt(ctx, &q("power"), Power, power)?,
+                },
+                UnitIn::Valve { p } => Unit::Valve {
+                    p: opt(ctx, &q("p"), Pressure, p)?,
+                },
+                UnitIn::Desuperheater {
+                    water,
+                    p,
+                    t,
+                    superheat,
+                } => Unit::Desuperheater {
+                    water: water.clone(),
+                    p: opt(ctx, &q("p"), Pressure, p)?,
+                    t: opt(ctx, &q("T"), Temperature, t)?,
+                    superheat: opt(ctx, &q("superheat"), TemperatureDifference, superheat)?,
+                },
+                UnitIn::Header { p } => Unit::Header {
+                    p: opt(ctx, &q("p"), Pressure, p)?,
+                },
+                UnitIn::Deaerator {
+                    p,
+                    steam,
+                    vent,
+                    vent_fraction,
+                } => Unit::Deaerator {
+                    p: opt(ctx, &q("p"), Pressure, p)?,
+                    steam: steam.clone(),
+                    vent: vent.clone(),
+                    vent_fraction: opt(ctx, &q("vent_fraction"), Dimensionless, vent_fraction)?,
+                },
+                UnitIn::Flash { p, vapour } => Unit::Flash {
+                    p: opt(ctx, &q("p"), Pressure, p)?,
+                    vapour: vapour.clone(),
+                },
+                UnitIn::Pump { p, efficiency } => Unit::Pump {
+                    p: opt(ctx, &q("p"), Pressure, p)?,
+                    efficiency: opt(ctx, &q("efficiency"), Dimensionless, efficiency)?,
+                },
+                UnitIn::Condenser { p } => Unit::Condenser {
+                    p: opt(ctx, &q("p"), Pressure, p)?,
+                },
+                UnitIn::Exchanger { hot_in, hot_out } => Unit::Exchanger {
+                    hot_in: hot_in.clone(),
+                    hot_out: hot_out.clone(),
+                },
+                UnitIn::User {
+                    demand,
+                    return_fraction,
+                    return_t,
+                } => Unit::User {
+                    demand: opt(ctx, &q("demand"), MassFlow, demand)?,
+                    return_fraction: opt(
+                        ctx,
+                        &q("return_fraction"),
+                        Dimensionless,
+                        return_fraction,
+                    )?
+                    .unwrap_or(0.0),
+                    return_t: opt(ctx, &q("return_T"), Temperature, return_t)?,
+                },
+                UnitIn::Vent {} => Unit::Vent,
+                UnitIn::Makeup { t } => Unit::Makeup {
+                    t: opt(ctx, &q("T"), Temperature, t)?,
+                },
+            };
+            units.insert(n.clone(), unit);
+        }
+        let mut streams = BTreeMap::new();
+        for (n, s) in &self.streams {
+            let q = |f: &str| format!("streams.{n}.{f}");
+            streams.insert(
+                n.clone(),
+                StreamSpec {
+                    from: s.from.clone(),
+                    to: s.to.clone(),
+                    flow: opt(ctx, &q("flow"), MassFlow, &s.flow)?,
+                    p: opt(ctx, &q("p"), Pressure, &s.p)?,
+                    t: opt(ctx, &q("T"), Temperature, &s.t)?,
+                    h: opt(ctx, &q("h"), SpecificEnergy, &s.h)?,
+                    x: opt(ctx, &q("x"), Dimensionless, &s.x)?,
+                },
+            );
+        }
+        Ok(Network { units, streams })
+    }
+}
+
+/// Parameters of `balance.solve`.
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct SolveParams {
+    /// The site network.
+    pub network: NetworkIn,
+    /// Unit preset of bare numbers and of the answer (see `water.state`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub units: Option<String>,
+    /// Ambient pressure for gauge units (default 101.325 kPa).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ambient: Option<Input>,
+}
+
+/// A solved stream.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct StreamOut {
+    /// Source unit.
+    pub from: String,
+    /// Destination unit.
+    pub to: String,
+    /// Mass flow (negative when the balance needs it reversed; see the warnings).
+    pub flow: f64,
+    /// Enthalpy flow m h (IAPWS-IF97 reference).
+    pub energy_flow: f64,
+    /// Full state.
+    pub state: StateResult,
+}
+
+/// A solved unit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct UnitOut {
+    /// Unit kind.
+    pub kind: String,
+    /// Shaft power: produced (turbine) or absorbed (pump).
+    pub power: Option<f64>,
+    /// Heat duty: to water and steam (boiler), rejected (condenser), exchanged
+    /// (exchanger), to process (user).
+    pub duty: Option<f64>,
+    /// Fuel heat input (boiler).
+    pub fuel_heat_input: Option<f64>,
+    /// Efficiency: the boiler's or pump's, or the turbine's overall isentropic efficiency
+    /// from its inlet to its lowest-pressure outlet.
+    pub efficiency: Option<f64>,
+    /// Mass leaving the site at this unit (lost condensate, blowdown or vent without a stream).
+    pub mass_lost: f64,
+    /// Enthalpy flow leaving with that mass.
+    pub energy_lost: f64,
+    /// Mass and energy balance of the unit (heat, work and losses included).
+    pub balance: BalanceOut,
+    /// Warnings.
+    pub warnings: Vec<String>,
+}
+
+/// Site totals.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct TotalsOut {
+    /// Fuel heat input of all boilers.
+    pub fuel_heat_input: f64,
+    /// Boiler losses (fuel heat input - heat to water and steam).
+    pub boiler_losses: f64,
+    /// Gross turbine power.
+    pub turbine_power: f64,
+    /// Pump power.
+    pub pump_power: f64,
+    /// Net power: turbine power - pump power.
+    pub net_power: f64,
+    /// Steam to process users (mass flow).
+    pub process_steam: f64,
+    /// Heat to process users.
+    pub process_heat: f64,
+    /// Condenser duty.
+    pub condenser_duty: f64,
+    /// Make-up water (mass flow).
+    pub makeup_water: f64,
+    /// Vented steam (mass flow), deaerator vents without a stream included.
+    pub vented_steam: f64,
+    /// Condensate not returned (mass flow).
+    pub condensate_lost: f64,
+    /// Blowdown leaving the site (mass flow).
+    pub blowdown_lost: f64,
+    /// Site mass in (make-up).
+    pub mass_in: f64,
+    /// Site mass out (vents, lost condensate and blowdown).
+    pub mass_out: f64,
+    /// Site energy in: fuel heat input + make-up enthalpy flow + pump power.
+    pub energy_in: f64,
+    /// Site energy out: turbine power + process heat + condenser duty + boiler losses +
+    /// vented and lost enthalpy flows.
+    pub energy_out: f64,
+    /// |mass in - mass out| / max.
+    pub mass_residual: f64,
+    /// |energy in - energy out| / max.
+    pub energy_residual: f64,
+}
+
+/// A node of the energy-flow summary.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct NodeOut {
+    /// Unit name, or a boundary: "fuel", "power", "process", "losses", "cooling".
+    pub name: String,
+    /// Unit kind, or "boundary".
+    pub kind: String,
+}
+
+/// A link of the energy-flow summary.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct LinkOut {
+    /// Source node name.
+    pub source: String,
+    /// Target node name.
+    pub target: String,
+    /// The stream carried, when the link is a stream (null for heat, work and losses).
+    pub stream: Option<String>,
+    /// Energy flow (m h for a stream, IAPWS-IF97 reference).
+    pub energy: f64,
+    /// Mass flow (0 for heat and work).
+    pub mass: f64,
+}
+
+/// Energy-flow summary for a Sankey chart.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct SankeyOut {
+    /// Nodes: every unit and the boundaries.
+    pub nodes: Vec<NodeOut>,
+    /// Links: every stream, fuel, power, process heat, cooling and losses.
+    pub links: Vec<LinkOut>,
+}
+
+/// Result of `balance.solve`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct SolveResult {
+    /// Streams by name.
+    pub streams: BTreeMap<String, StreamOut>,
+    /// Units by name.
+    pub units: BTreeMap<String, UnitOut>,
+    /// Site totals.
+    pub totals: TotalsOut,
+    /// Energy-flow summary.
+    pub sankey: SankeyOut,
+    /// Outer iterations (state update and flow solve).
+    pub iterations: usize,
+    /// Largest relative residual over all units, the flow equations and the site.
+    pub residual: f64,
+    /// All warnings, each prefixed with its unit.
+    pub warnings: Vec<String>,
+    /// Standing caution.
+    pub caution: String,
+    /// Units of the numeric fields.
+    pub units_used: BTreeMap<String, String>,
+}
+
+fn bal(ctx: &Ctx, x: &Balance) -> BalanceOut {
+    let m = |v: f64| ctx.preset.from_internal(Dim::MassFlow, v);
+    let e = |v: f64| ctx.preset.from_internal(Dim::HeatFlow, v);
+    BalanceOut {
+        mass_in: m(x.mass_in),
+        mass_out: m(x.mass_out),
+        energy_in: e(x.energy_in),
+        energy_out: e(x.energy_out),
+        mass_residual: if x.mass_in == 0.0 && x.mass_out == 0.0 {
+            0.0
+        } else {
+            x.mass_residual()
+        },
+        energy_residual: if x.energy_in == 0.0 && x.energy_out == 0.0 {
+            0.0
+        } else {
+            x.energy_residual()
+        },
+    }
+}
+
+fn totals_out(ctx: &Ctx, t: &b::Totals) -> TotalsOut {
+    let m = |v: f64| ctx.preset.from_internal(Dim::MassFlow, v);
+    let e = |v: f64| ctx.preset.from_internal(Dim::HeatFlow, v);
+    let w = |v: f64| ctx.preset.from_internal(Dim::Power, v);
+    TotalsOut {
+        fuel_heat_input: e(t.fuel_heat_input),
+        boiler_losses: e(t.boiler_losses),
+        turbine_power: w(t.turbine_power),
+        pump_power: w(t.pump_power),
+        net_power: w(t.net_power),
+        process_steam: m(t.process_steam),
+        process_heat: e(t.process_heat),
+        condenser_duty: e(t.condenser_duty),
+        makeup_water: m(t.makeup_water),
+        vented_steam: m(t.vented),
+        condensate_lost: m(t.condensate_lost),
+        blowdown_lost: m(t.blowdown_lost),
+        mass_in: m(t.mass_in),
+        mass_out: m(t.mass_out),
+        energy_in: e(t.energy_in),
+        energy_out: e(t.energy_out),
+        mass_residual: if t.mass_in == 0.0 && t.mass_out == 0.0 {
+            0.0
+        } else {
+            t.mass_residual()
+        },
+        energy_residual: t.energy_residual(),
+    }
+}
+
+fn units_used(ctx: &Ctx) -> BTreeMap<String, String> {
+    let mut u = BTreeMap::new();
+    u.insert("flow".into(), ctx.unit(Dim::MassFlow).into());
+    u.insert("power".into(), ctx.unit(Dim::Power).into());
+    u.insert("heat".into(), ctx.unit(Dim::HeatFlow).into());
+    u.insert("energy".into(), ctx.unit(Dim::HeatFlow).into());
+    u.insert("p".into(), ctx.unit(Dim::Pressure).into());
+    u.insert("T".into(), ctx.unit(Dim::Temperature).into());
+    u.insert("h".into(), ctx.unit(Dim::SpecificEnergy).into());
+    u.insert("preset".into(), ctx.preset.name().into());
+    u
+}
+
+/// Shapes a library solution for the wire.
+pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
+    let m = |v: f64| ctx.preset.from_internal(Dim::MassFlow, v);
+    let e = |v: f64| ctx.preset.from_internal(Dim::HeatFlow, v);
+    let w = |v: f64| ctx.preset.from_internal(Dim::Power, v);
+    SolveResult {
+        streams: s
+            .streams
+            .iter()
+            .map(|(n, r)| {
+                (
+                    n.clone(),
+                    StreamOut {
+                        from: r.from.clone(),
+                        to: r.to.clone(),
+                        flow: m(r.flow),
+                        energy_flow: e(r.flow * r.state.props.h),
+                        state: state_result(&r.state, ctx),
+                    },
+                )
+            })
+            .collect(),
+        units: s
+            .units
+            .iter()
+            .map(|(n, r)| {
+                (
+                    n.clone(),
+                    UnitOut {
+                        kind: r.kind.into(),
+                        power: r.power.map(w),
+                        duty: r.duty.map(e),
+                        fuel_heat_input: r.fuel_heat_input.map(e),
+                        efficiency: r.efficiency,
+                        mass_lost: m(r.mass_lost),
+                        energy_lost: e(r.energy_lost),
+                        balance: bal(ctx, &r.balance),
+                        warnings: r.warnings.clone(),
+                    },
+                )
+            })
+            .collect(),
+        totals: totals_out(ctx, &s.totals),
+        sankey: SankeyOut {
+            nodes: s
+                .nodes
+                .iter()
+                .map(|n| NodeOut {
+                    name: n.name.clone(),
+                    kind: n.kind.clone(),
+                })
+                .collect(),
+            links: s
+                .links
+                .iter()
+                .map(|l| LinkOut {
+                    source: l.source.clone(),
+                    target: l.target.clone(),
+                    stream: l.stream.clone(),
+                    energy: e(l.energy),
+                    mass: m(l.mass),
+                })
+                .collect(),
+        },
+        iterations: s.iterations,
+        residual: s.residual,
+        warnings: s.warnings.clone(),
+        caution: b::CAUTION.into(),
+        units_used: units_used(ctx),
+    }
+}
+
+fn balance_solve(p: SolveParams) -> Result<SolveResult> {
+    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let net = p.network.to_network(&ctx)?;
+    let sol = b::solve(&net)?;
+    Ok(solution_out(&ctx, &sol))
+}
+
+/// Parameters of `balance.sweep`.
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct SweepParams {
+    /// The site network.
+    pub network: NetworkIn,
+    /// Dotted path of the specification to vary, e.g. "units.LP_users.demand" or
+    /// "streams.S1.flow" (the field is created when absent; its parent must exist).
+    pub path: String,
+    /// First value (a number in the request's preset for that quantity).
+    pub from: f64,
+    /// Last value.
+    pub to: f64,
+    /// Number of points, 2 to 1000 (1 gives `from` only).
+    pub points: usize,
+    /// Streams whose flow and state to report per point (default: none).
+    #[serde(default)]
+    pub streams: Vec<String>,
+    /// Unit preset (see `water.state`).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub units: Option<String>,
+    /// Ambient pressure for gauge units.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ambient: Option<Input>,
+}
+
+/// A chosen stream at one sweep point.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct PickOut {
+    /// Mass flow.
+    pub flow: f64,
+    /// Pressure.
+    pub p: Option<f64>,
+    /// Temperature.
+    #[serde(rename = "T")]
+    pub t: Option<f64>,
+    /// Specific enthalpy.
+    pub h: Option<f64>,
+    /// Quality (null when single-phase).
+    pub x: Option<f64>,
+}
+
+/// One sweep point.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct PointOut {
+    /// The value of the varied specification.
+    pub value: f64,
+    /// Whether the point was solved.
+    pub ok: bool,
+    /// Why the point could not be solved (null when solved).
+    pub error: Option<String>,
+    /// Site totals (null when not solved).
+    pub totals: Option<TotalsOut>,
+    /// The chosen streams (empty when not solved).
+    pub streams: BTreeMap<String, PickOut>,
+    /// Outer iterations used.
+    pub iterations: usize,
+    /// Warnings at this point.
+    pub warnings: Vec<String>,
+}
+
+/// Result of `balance.sweep`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct SweepResult {
+    /// The varied path.
+    pub path: String,
+    /// Points in order.
+    pub points: Vec<PointOut>,
+    /// Points that could not be solved.
+    pub failed: usize,
+    /// Standing caution.
+    pub caution: String,
+    /// Units of the numeric fields.
+    pub units_used: BTreeMap<String, String>,
+}
+
+/// Sets the value at a dotted path of a JSON object; the parent must exist.
+pub fn set_path(root: &mut Value, path: &str, v: Value) -> Result<()> {
+    let parts: Vec<&str> = path.split('.').collect();
+    if parts.len() < 2 || parts.iter().any(|p| p.is_empty()) {
+        return Err(Error::invalid(format!(
+            "path '{path}' is not a dotted path such as units.NAME.FIELD"
+        )));
+    }
+    let mut cur = root;
+    for (i, p) in parts[..parts.len() - 1].iter().enumerate() {
+        cur = cur.get_mut(*p).ok_or_else(|| {
+            Error::invalid(format!(
+                "path '{path}': '{}' does not exist in the network",
+                parts[..=i].join(".")
+            ))
+        })?;
+    }
+    match cur {
+        Value::Object(o) => {
+            o.insert(parts[parts.len() - 1].to_string(), v);
+            Ok(())
+        }
+        _ => Err(Error::invalid(format!(
+            "path '{path}': its parent is not an object"
+        ))),
+    }
+}
+
+fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
+    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    if p.points == 0 || p.points > MAX_SWEEP_POINTS {
+        return Err(Error::LimitExceeded {
+            what: "balance.sweep points".into(),
+            limit: MAX_SWEEP_POINTS as f64,
+            value: p.points as f64,
+        });
+    }
+    Error::check_finite("from", p.from)?;
+    Error::check_finite("to", p.to)?;
+    let base =
+        serde_json::to_value(&p.network).map_err(|e| Error::invalid(format!("network: {e}")))?;
+    // check the path once
+    let mut probe = base.clone();
+    set_path(&mut probe, &p.path, Value::from(p.from))?;
+    for s in &p.streams {
+        if !p.network.streams.contains_key(s) {
+            return Err(Error::invalid(format!(
+                "streams: '{s}' is not a stream of the network"
+            )));
+        }
+    }
+    let values: Vec<f64> = (0..p.points)
+        .map(|i| {
+            if p.points == 1 {
+                p.from
+            } else {
+                p.from + (p.to - p.from) * i as f64 / (p.points - 1) as f64
+            }
+        })
+        .collect();
+    let results = b::sweep(&values, |v| {
+        let mut net = base.clone();
+        set_path(&mut net, &p.path, Value::from(v))?;
+        let n: NetworkIn = serde_json::from_value(net)
+            .map_err(|e| Error::invalid(format!("path '{}': {e}", p.path)))?;
+        n.to_network(&ctx)
+    });
+    let mut points = Vec::new();
+    let mut failed = 0;
+    for (v, r) in values.iter().zip(results) {
+        match r {
+            Ok(sol) => {
+                let streams = p
+                    .streams
+                    .iter()
+                    .filter_map(|n| sol.streams.get(n).map(|s| (n, s)))
+                    .map(|(n, s)| {
+                        let st = state_result(&s.state, &ctx);
+                        (
+                            n.clone(),
+                            PickOut {
+                                flow: ctx.preset.from_internal(Dim::MassFlow, s.flow),
+                                p: st.p,
+                                t: st.t,
+                                h: st.h,
+                                x: st.x,
+                            },
+                        )
+                    })
+                    .collect();
+                points.push(PointOut {
+                    value: *v,
+                    ok: true,
+                    error: None,
+                    totals: Some(totals_out(&ctx, &sol.totals)),
+                    streams,
+                    iterations: sol.iterations,
+                    warnings: sol.warnings,
+                });
+            }
+            Err(e) => {
+                failed += 1;
+                points.push(PointOut {
+                    value: *v,
+                    ok: false,
+                    error: Some(e.to_string()),
+                    totals: None,
+                    streams: BTreeMap::new(),
+                    iterations: 0,
+                    warnings: Vec::new(),
+                });
+            }
+        }
+    }
+    Ok(SweepResult {
+        path: p.path,
+        points,
+        failed,
+        caution: b::CAUTION.into(),
+        units_used: units_used(&ctx),
+    })
+}
