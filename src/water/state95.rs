@@ -232,11 +232,11 @@ fn newton_rt(
     t0: f64,
     opts: &Options,
 ) -> Result<(Props, u32)> {
-    // The pressure of a liquid carries an absolute rounding error of about 1e-13 rho R T
+    // The pressure of a liquid carries an absolute rounding error of a few 1e-13 rho R T
     // (p = rho R T (1 + delta phi_r_delta), a small bracket): its scale never goes below that.
     let scale = |q: Q, v: f64, pr: &Props| {
         if q == Q::P {
-            v.abs().max(0.05 * pr.rho * iapws95::R * pr.t * 1e-3)
+            v.abs().max(pr.rho * iapws95::R * pr.t * 1e-3)
         } else {
             q.scale(v)
         }
@@ -424,7 +424,11 @@ pub fn at_pt(p: f64, t: f64) -> Result<State> {
             };
         }
     }
-    let mut rho = iapws95::rho_from_pt(p, t, guess)?;
+    let mut rho = match iapws95::rho_from_pt(p, t, guess) {
+        Ok(r) => r,
+        Err(e @ Error::NotConverged { .. }) => rho_liquid_low_p(p, t, guess).ok_or(e)?,
+        Err(e) => return Err(e),
+    };
     // Polish to the rounding level of p (a liquid at low p has a large (dp/drho)_T, so the
     // density solver's step criterion leaves p about 1e-8 relative off there).
     for _ in 0..3 {
@@ -440,6 +444,24 @@ pub fn at_pt(p: f64, t: f64) -> Result<State> {
     }
     let pr = iapws95::props(rho, t);
     Ok(single(pr, 0))
+}
+
+/// Density of a liquid at low pressure, where `iapws95::rho_from_pt` can stall at the
+/// rounding level of p (a few 1e-13 rho R T): plain Newton on p(rho) to that level.
+fn rho_liquid_low_p(p: f64, t: f64, guess: f64) -> Option<f64> {
+    let mut rho = guess;
+    for _ in 0..50 {
+        let (pc, dp) = iapws95::pressure_and_slope(rho, t);
+        if !(dp > 0.0 && dp.is_finite()) {
+            return None;
+        }
+        let scale = p.max(rho * iapws95::R * t * 1e-3);
+        if (pc - p).abs() <= 1e-12 * scale {
+            return Some(rho);
+        }
+        rho -= (pc - p) / dp;
+    }
+    None
 }
 
 /// A two-phase state at T and quality x.
