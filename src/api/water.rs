@@ -299,6 +299,11 @@ pub fn solve_with(given: Given, opts: &Options, f: Formulation) -> Result<State>
     match f {
         Formulation::Iapws95 => state95::solve(given, opts),
         Formulation::If97 => {
+            if let Given::PT(p, t) = given {
+                if p.is_finite() && t.is_finite() && t < crate::water::melting::T_VII_MAX {
+                    crate::water::melting::check_not_ice(p, t)?;
+                }
+            }
             let st = state::solve(given, opts)?;
             if st.props.t < crate::water::melting::T_TRIPLE {
                 crate::water::melting::check_not_ice(st.props.p, st.props.t)?;
