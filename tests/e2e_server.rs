@@ -111,9 +111,10 @@ fn serve_prints_one_line_with_the_real_port() {
         "{}",
         s.line
     );
-    assert!(s
-        .line
-        .ends_with(&format!("(ws://{}) formulations: IAPWS-IF97", s.addr)));
+    assert!(s.line.ends_with(&format!(
+        "(ws://{}) formulations: IAPWS-IF97, IAPWS-95",
+        s.addr
+    )));
     let port: u16 = s.addr.rsplit(':').next().unwrap().parse().unwrap();
     assert_ne!(port, 0);
 }

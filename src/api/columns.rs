@@ -23,6 +23,7 @@
 use super::water::{self, check_want, column_unit, input_dim, numeric_column, solve_rows, Ctx};
 use super::ApiError;
 use crate::error::{Error, Result};
+use crate::water::Formulation;
 use serde::Deserialize;
 use serde_json::{json, Value};
 
@@ -136,11 +137,18 @@ fn compute(body: &[u8]) -> Result<Vec<u8>> {
             .collect();
         cols.push((name, values));
     }
-    let states = solve_rows(&opts, cols[0].0, &cols[0].1, cols[1].0, &cols[1].1)?;
+    let states = solve_rows(
+        &opts,
+        Formulation::If97,
+        cols[0].0,
+        &cols[0].1,
+        cols[1].0,
+        &cols[1].1,
+    )?;
     let out: Vec<Vec<f64>> = h
         .want
         .iter()
-        .map(|w| numeric_column(&ctx, &states, w))
+        .map(|w| numeric_column(&ctx, &states, w, Formulation::If97))
         .collect();
     let mut failed_rows = Vec::new();
     for (i, r) in states.iter().enumerate() {

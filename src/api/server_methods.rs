@@ -9,10 +9,16 @@ use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 
 /// Formulations this build offers: (name, release text).
-pub const FORMULATIONS: &[(&str, &str)] = &[(
-    "IAPWS-IF97",
-    "IAPWS R7-97(2012) with SR2-01, SR3-03, SR4-04, SR5-05",
-)];
+pub const FORMULATIONS: &[(&str, &str)] = &[
+    (
+        "IAPWS-IF97",
+        "IAPWS R7-97(2012) with SR2-01, SR3-03, SR4-04, SR5-05; transport: IAPWS R12-08 and R15-11 (industrial use), surface tension IAPWS R1-76(2014), ice limits IAPWS R14-08(2011)",
+    ),
+    (
+        "IAPWS-95",
+        "IAPWS R6-95(2018); transport: IAPWS R12-08 and R15-11 (full correlations), surface tension IAPWS R1-76(2014), ice limits IAPWS R14-08(2011)",
+    ),
+];
 
 /// No parameters; send `{}`, `[]` or omit params.
 #[derive(Debug, Clone, Default, Deserialize, JsonSchema)]

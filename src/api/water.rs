@@ -5,12 +5,15 @@
 //! Units: every numeric input is a number in the request's preset (`engineering` by default) or
 //! a string with its unit; every result is in the preset and lists the unit of every field.
 //!
-//! Invariant: this module only converts and shapes; the physics is `crate::water::state`.
+//! Invariant: this module only converts and shapes; the physics is `crate::water::state`
+//! (IAPWS-IF97), `crate::water::state95` (IAPWS-95) and `crate::water::transport`.
 
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::units::{self, Dim, Preset, AMBIENT_DEFAULT_MPA};
 use crate::water::state::{self, Given, Options, Phase, State};
+use crate::water::transport::{self, Transport};
+use crate::water::{iapws95, state95, Formulation};
 use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -279,12 +282,35 @@ impl SolveFlags {
     }
 }
 
-fn check_formulation(f: Option<&str>) -> Result<()> {
+/// The formulation named by a request's `formulation` param (IAPWS-IF97 when absent).
+pub fn parse_formulation(f: Option<&str>) -> Result<Formulation> {
     match f {
-        None | Some("if97") | Some("IAPWS-IF97") => Ok(()),
+        None | Some("if97") | Some("IAPWS-IF97") => Ok(Formulation::If97),
+        Some("iapws95") | Some("IAPWS-95") => Ok(Formulation::Iapws95),
         Some(other) => Err(Error::invalid(format!(
-            "formulation '{other}' is not available; accepted: if97"
+            "formulation '{other}' is not available; accepted: if97 (IAPWS-IF97), iapws95 (IAPWS-95)"
         ))),
+    }
+}
+
+/// Solves a pair with the formulation. IAPWS-IF97 keeps its own range, which starts at
+/// 273.15 K at every pressure (a sliver a few mK inside ice Ih near 0.1 MPa, taken as
+/// metastable liquid, so that "0 degC" at atmospheric pressure works); a (p,T) input below it
+/// that lies in an ice phase is refused with the ice message of IAPWS R14-08.
+pub fn solve_with(given: Given, opts: &Options, f: Formulation) -> Result<State> {
+    match f {
+        Formulation::Iapws95 => state95::solve(given, opts),
+        Formulation::If97 => match state::solve(given, opts) {
+            Err(e @ Error::OutOfRange { .. }) => {
+                if let Given::PT(p, t) = given {
+                    if p.is_finite() && t.is_finite() && t < crate::water::melting::T_VII_MAX {
+                        crate::water::melting::check_not_ice(p, t)?;
+                    }
+                }
+                Err(e)
+            }
+            other => other,
+        },
     }
 }
 
@@ -301,7 +327,9 @@ pub struct StateParams {
     /// Ambient pressure for gauge units (barg, psig, kPag); default 101.325 kPa.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
-    /// Property formulation: "if97" (IAPWS-IF97, the default and only one in this version).
+    /// Property formulation: "if97" (IAPWS-IF97, the default, with the industrial transport
+    /// correlations) or "iapws95" (IAPWS-95, also "IAPWS-95", with the full transport
+    /// correlations).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub formulation: Option<String>,
     /// Solver switches.
@@ -345,12 +373,23 @@ pub struct StateResult {
     pub kappa_t: Option<f64>,
     /// Compressibility factor Z = p v / (R T).
     pub z: Option<f64>,
+    /// Dynamic viscosity (IAPWS R12-08; null for wet states).
+    pub mu: Option<f64>,
+    /// Thermal conductivity (IAPWS R15-11; null for wet states).
+    pub lambda: Option<f64>,
+    /// Kinematic viscosity mu / rho (null for wet states).
+    pub nu: Option<f64>,
+    /// Thermal diffusivity lambda / (rho cp) (null for wet states).
+    pub thermal_diffusivity: Option<f64>,
+    /// Prandtl number mu cp / lambda, dimensionless (null for wet states).
+    pub pr: Option<f64>,
     /// Superheat above the saturation temperature at the state's pressure (vapour below the
     /// critical pressure only; null otherwise).
     pub superheat: Option<f64>,
     /// Phase: "liquid", "vapour", "wet" or "supercritical".
     pub phase: String,
-    /// IAPWS-IF97 region: 1, 2, 3, 4 (wet) or 5.
+    /// IAPWS-IF97 region: 1, 2, 3, 4 (wet) or 5. For IAPWS-95 states informational: the IF97
+    /// region the state would have (beyond IF97's range, that of the nearest IF97 state).
     pub region: u8,
     /// Whether the metastable-vapour equation was used.
     pub metastable: bool,
@@ -360,12 +399,12 @@ pub struct StateResult {
     pub units: BTreeMap<String, String>,
     /// Ambient pressure used for gauge units, in the preset's pressure unit.
     pub ambient: f64,
-    /// The formulation that produced the numbers.
+    /// The formulation that produced the numbers: "IAPWS-IF97" or "IAPWS-95".
     pub formulation: String,
 }
 
 /// Dimensions of every numeric field of [`StateResult`].
-pub const STATE_FIELDS: [(&str, Dim); 17] = [
+pub const STATE_FIELDS: [(&str, Dim); 22] = [
     ("p", Dim::Pressure),
     ("T", Dim::Temperature),
     ("rho", Dim::Density),
@@ -383,11 +422,42 @@ pub const STATE_FIELDS: [(&str, Dim); 17] = [
     ("kappa_t", Dim::InversePressure),
     ("z", Dim::Dimensionless),
     ("superheat", Dim::TemperatureDifference),
+    ("mu", Dim::Viscosity),
+    ("lambda", Dim::Conductivity),
+    ("nu", Dim::Diffusivity),
+    ("thermal_diffusivity", Dim::Diffusivity),
+    ("pr", Dim::Dimensionless),
 ];
 
-/// Internal value of a named field of a state (NaN where undefined).
+/// The transport fields of [`StateResult`].
+pub const TRANSPORT_FIELDS: [&str; 5] = ["mu", "lambda", "nu", "thermal_diffusivity", "pr"];
+
+/// Internal value of a named field of a state of an IAPWS-IF97 solution (NaN where undefined).
 pub fn field_internal(st: &State, name: &str) -> Option<f64> {
+    field_value(st, Formulation::If97, None, name)
+}
+
+/// Internal value of a named field of a state solved with `f`; `tr` is the state's transport
+/// (computed here when None and a transport field is asked for).
+pub fn field_value(st: &State, f: Formulation, tr: Option<&Transport>, name: &str) -> Option<f64> {
     let p = &st.props;
+    if TRANSPORT_FIELDS.contains(&name) {
+        let own;
+        let tr = match tr {
+            Some(t) => t,
+            None => {
+                own = transport::for_state(st, f);
+                &own
+            }
+        };
+        return Some(match name {
+            "mu" => tr.mu,
+            "lambda" => tr.lambda,
+            "nu" => tr.nu,
+            "thermal_diffusivity" => tr.a,
+            _ => tr.pr,
+        });
+    }
     Some(match name {
         "p" => p.p,
         "T" => p.t,
@@ -405,14 +475,18 @@ pub fn field_internal(st: &State, name: &str) -> Option<f64> {
         "alpha_v" => p.alpha_v,
         "kappa_t" => p.kappa_t,
         "z" => p.z,
-        "superheat" => superheat(st),
+        "superheat" => superheat(st, f),
         _ => return None,
     })
 }
 
-fn superheat(st: &State) -> f64 {
+fn superheat(st: &State, f: Formulation) -> f64 {
     if st.phase == Phase::Vapour && st.props.p < state::P_C {
-        if let Ok((ts, _, _)) = state::saturation_p(st.props.p) {
+        let ts = match f {
+            Formulation::If97 => state::saturation_p(st.props.p).map(|r| r.0),
+            Formulation::Iapws95 => iapws95::saturation_p(st.props.p).map(|s| s.t),
+        };
+        if let Ok(ts) = ts {
             return st.props.t - ts;
         }
     }
@@ -426,15 +500,29 @@ fn dim_of(name: &str) -> Option<Dim> {
         .map(|(_, d)| *d)
 }
 
-/// Shapes a solved state for the wire.
+/// Shapes a solved IAPWS-IF97 state for the wire.
 pub fn state_result(st: &State, ctx: &Ctx) -> StateResult {
-    let o = |name: &str| field_internal(st, name).and_then(|v| ctx.out(dim_of(name).unwrap(), v));
+    state_result_with(st, ctx, Formulation::If97)
+}
+
+/// Shapes a state solved with formulation `f` for the wire (transport properties included).
+pub fn state_result_with(st: &State, ctx: &Ctx, f: Formulation) -> StateResult {
+    let tr = transport::for_state(st, f);
+    let o = |name: &str| {
+        field_value(st, f, Some(&tr), name).and_then(|v| ctx.out(dim_of(name).unwrap(), v))
+    };
     let mut undefined = BTreeMap::new();
     if st.phase == Phase::Wet {
         for f in ["cp", "cv", "w", "kappa", "mu_jt", "alpha_v", "kappa_t"] {
             undefined.insert(
                 f.to_string(),
                 "not defined for a two-phase (wet) mixture".to_string(),
+            );
+        }
+        for f in TRANSPORT_FIELDS {
+            undefined.insert(
+                f.to_string(),
+                "transport properties of a two-phase (wet) mixture are not defined".to_string(),
             );
         }
         undefined.insert(
@@ -479,6 +567,11 @@ pub fn state_result(st: &State, ctx: &Ctx) -> StateResult {
         alpha_v: o("alpha_v"),
         kappa_t: o("kappa_t"),
         z: o("z"),
+        mu: o("mu"),
+        lambda: o("lambda"),
+        nu: o("nu"),
+        thermal_diffusivity: o("thermal_diffusivity"),
+        pr: o("pr"),
         superheat: o("superheat"),
         phase: st.phase.name().to_string(),
         region: st.region.number(),
@@ -486,16 +579,16 @@ pub fn state_result(st: &State, ctx: &Ctx) -> StateResult {
         undefined,
         units: units_map,
         ambient: ctx.preset.from_internal(Dim::Pressure, ctx.ambient),
-        formulation: "IAPWS-IF97".to_string(),
+        formulation: f.name().to_string(),
     }
 }
 
 fn water_state(p: StateParams) -> Result<StateResult> {
-    check_formulation(p.formulation.as_deref())?;
+    let f = parse_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
     let given = p.given.to_given(&ctx)?;
-    let st = state::solve(given, &p.flags.options()?)?;
-    Ok(state_result(&st, &ctx))
+    let st = solve_with(given, &p.flags.options()?, f)?;
+    Ok(state_result_with(&st, &ctx, f))
 }
 
 /// A column of inputs: a JSON array, or a packed column of little-endian doubles.
@@ -575,7 +668,7 @@ pub struct BatchParams {
     /// Ambient pressure for gauge units (default 101.325 kPa).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
-    /// Property formulation ("if97").
+    /// Property formulation: "if97" (default) or "iapws95" (see `water.state`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub formulation: Option<String>,
     /// Solver switches.
@@ -743,6 +836,7 @@ fn column_internal(ctx: &Ctx, name: &str, dim: Dim, col: &Column) -> Result<Vec<
 /// the call rather than every row.
 pub fn solve_rows(
     opts: &Options,
+    f: Formulation,
     na: &str,
     ca: &[Result<f64>],
     nb: &str,
@@ -753,7 +847,7 @@ pub fn solve_rows(
     let solve_row = |i: usize| -> Result<State> {
         let va = ca[i].clone()?;
         let vb = cb[i].clone()?;
-        state::solve(kind.given(va, vb)?, opts)
+        solve_with(kind.given(va, vb)?, opts, f)
     };
     Ok(if n >= PARALLEL_THRESHOLD {
         use rayon::prelude::*;
@@ -765,13 +859,13 @@ pub fn solve_rows(
 
 /// A numeric result column in the preset's units: NaN where undefined or failed; "region" as
 /// the IF97 region number.
-pub fn numeric_column(ctx: &Ctx, states: &[Result<State>], name: &str) -> Vec<f64> {
+pub fn numeric_column(ctx: &Ctx, states: &[Result<State>], name: &str, f: Formulation) -> Vec<f64> {
     let dim = dim_of(name);
     states
         .iter()
         .map(|r| match (r, dim) {
             (Ok(st), _) if name == "region" => st.region.number() as f64,
-            (Ok(st), Some(d)) => field_internal(st, name)
+            (Ok(st), Some(d)) => field_value(st, f, None, name)
                 .and_then(|x| ctx.out(d, x))
                 .unwrap_or(f64::NAN),
             _ => f64::NAN,
@@ -813,7 +907,7 @@ pub fn check_want(want: &[String], texts: bool) -> Result<()> {
 }
 
 fn water_batch(p: BatchParams) -> Result<BatchResult> {
-    check_formulation(p.formulation.as_deref())?;
+    let f = parse_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
     let opts = p.flags.options()?;
     let packed_out = match p.encoding.as_deref() {
@@ -867,7 +961,7 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
             cb.len()
         )));
     }
-    let states = solve_rows(&opts, na, ca, nb, cb)?;
+    let states = solve_rows(&opts, f, na, ca, nb, cb)?;
     let mut columns = BTreeMap::new();
     for w in &want {
         let col = match w.as_str() {
@@ -878,7 +972,7 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
                     .collect(),
             ),
             name => {
-                let values = numeric_column(&ctx, &states, name);
+                let values = numeric_column(&ctx, &states, name, f);
                 if packed_out {
                     ColumnOut::Packed(PackedColumn::pack(&values))
                 } else {
@@ -953,6 +1047,10 @@ pub struct SaturationParams {
     /// Ambient pressure for gauge units (default 101.325 kPa).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
+    /// Property formulation: "if97" (default) or "iapws95" (the IAPWS-95 phase equilibrium
+    /// from the Maxwell criterion, 273.16 K to 647.095 K).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub formulation: Option<String>,
 }
 
 /// Result of `water.saturation`.
@@ -973,22 +1071,43 @@ pub struct SaturationResult {
     pub s_fg: f64,
     /// Volume change on vaporisation v'' - v'.
     pub v_fg: f64,
-    /// Units of p, T, h_fg, s_fg, v_fg.
+    /// Surface tension of the liquid against its vapour (IAPWS R1-76(2014)).
+    pub surface_tension: f64,
+    /// Units of p, T, h_fg, s_fg, v_fg, surface_tension.
     pub units: BTreeMap<String, String>,
+    /// The formulation that produced the numbers: "IAPWS-IF97" or "IAPWS-95".
+    pub formulation: String,
 }
 
 fn water_saturation(p: SaturationParams) -> Result<SaturationResult> {
+    let f = parse_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
     let (ps, ts, l, v) = match (&p.t, &p.p) {
         (Some(t), None) => {
             let t = ctx.value("T", Dim::Temperature, t)?;
-            let (ps, l, v) = state::saturation_t(t)?;
-            (ps, t, l, v)
+            match f {
+                Formulation::If97 => {
+                    let (ps, l, v) = state::saturation_t(t)?;
+                    (ps, t, l, v)
+                }
+                Formulation::Iapws95 => {
+                    let sat = iapws95::saturation_t(t)?;
+                    (sat.psat, t, sat.liquid, sat.vapour)
+                }
+            }
         }
         (None, Some(pp)) => {
             let pp = ctx.value("p", Dim::Pressure, pp)?;
-            let (ts, l, v) = state::saturation_p(pp)?;
-            (pp, ts, l, v)
+            match f {
+                Formulation::If97 => {
+                    let (ts, l, v) = state::saturation_p(pp)?;
+                    (pp, ts, l, v)
+                }
+                Formulation::Iapws95 => {
+                    let sat = iapws95::saturation_p(pp)?;
+                    (pp, sat.t, sat.liquid, sat.vapour)
+                }
+            }
         }
         _ => {
             return Err(Error::invalid(
@@ -996,49 +1115,31 @@ fn water_saturation(p: SaturationParams) -> Result<SaturationResult> {
             ))
         }
     };
-    let liquid = state::at_tx(ts, 0.0).map(|mut s| {
-        s.props = l;
-        s
-    })?;
-    let vapour = state::at_tx(ts, 1.0).map(|mut s| {
-        s.props = v;
-        s
-    })?;
-    let to_state = |st: State, phase: Phase| {
-        let mut st = st;
-        st.phase = phase;
-        st.x = Some(if phase == Phase::Liquid { 0.0 } else { 1.0 });
-        let mut r = state_result(&st, &ctx);
-        r.phase = if phase == Phase::Liquid {
-            "liquid".into()
-        } else {
-            "vapour".into()
-        };
-        r.undefined.remove("cp");
-        r.undefined.remove("cv");
-        r.undefined.remove("w");
-        r.undefined.remove("kappa");
-        r.undefined.remove("mu_jt");
-        r.undefined.remove("alpha_v");
-        r.undefined.remove("kappa_t");
-        r.region = if ts <= state::T_13 {
-            if phase == Phase::Liquid {
-                1
+    let sigma = transport::surface_tension(ts.min(transport::surface_tension::T_MAX))?;
+    let to_state = |props: crate::water::Props, phase: Phase| {
+        let liquid = phase == Phase::Liquid;
+        // The IF97 region of each side (informational for IAPWS-95).
+        let region = if ts <= state::T_13 {
+            if liquid {
+                crate::water::if97::regions::Region::R1
             } else {
-                2
+                crate::water::if97::regions::Region::R2
             }
         } else {
-            3
+            crate::water::if97::regions::Region::R3
         };
-        let o =
-            |name: &str| field_internal(&st, name).and_then(|x| ctx.out(dim_of(name).unwrap(), x));
-        r.cp = o("cp");
-        r.cv = o("cv");
-        r.w = o("w");
-        r.kappa = o("kappa");
-        r.mu_jt = o("mu_jt");
-        r.alpha_v = o("alpha_v");
-        r.kappa_t = o("kappa_t");
+        let st = State {
+            props,
+            x: Some(if liquid { 0.0 } else { 1.0 }),
+            region,
+            phase,
+            metastable: false,
+            iterations: 0,
+        };
+        let mut r = state_result_with(&st, &ctx, f);
+        // A saturated phase has a quality: 0 or 1.
+        r.x = Some(if liquid { 0.0 } else { 1.0 });
+        r.undefined.remove("x");
         r
     };
     let mut units_map = BTreeMap::new();
@@ -1047,6 +1148,10 @@ fn water_saturation(p: SaturationParams) -> Result<SaturationResult> {
     units_map.insert("h_fg".into(), ctx.unit(Dim::SpecificEnergy).into());
     units_map.insert("s_fg".into(), ctx.unit(Dim::SpecificEntropy).into());
     units_map.insert("v_fg".into(), ctx.unit(Dim::SpecificVolume).into());
+    units_map.insert(
+        "surface_tension".into(),
+        ctx.unit(Dim::SurfaceTension).into(),
+    );
     units_map.insert("preset".into(), ctx.preset.name().into());
     let pre = ctx.preset;
     Ok(SaturationResult {
@@ -1055,9 +1160,11 @@ fn water_saturation(p: SaturationParams) -> Result<SaturationResult> {
         h_fg: pre.from_internal(Dim::SpecificEnergy, v.h - l.h),
         s_fg: pre.from_internal(Dim::SpecificEntropy, v.s - l.s),
         v_fg: pre.from_internal(Dim::SpecificVolume, v.v - l.v),
-        liquid: to_state(liquid, Phase::Liquid),
-        vapour: to_state(vapour, Phase::Vapour),
+        surface_tension: pre.from_internal(Dim::SurfaceTension, sigma),
+        liquid: to_state(l, Phase::Liquid),
+        vapour: to_state(v, Phase::Vapour),
         units: units_map,
+        formulation: f.name().to_string(),
     })
 }
 

@@ -7,7 +7,27 @@ pub mod if97;
 pub mod melting;
 pub mod props;
 pub mod state;
+pub mod state95;
 pub mod tables;
 pub mod transport;
 
 pub use props::{GibbsDerivs, HelmholtzDerivs, Props};
+
+/// The property formulation a state was solved with.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Formulation {
+    /// IAPWS-IF97 (IAPWS R7-97(2012)), the industrial formulation.
+    If97,
+    /// IAPWS-95 (IAPWS R6-95(2018)), the scientific reference formulation.
+    Iapws95,
+}
+
+impl Formulation {
+    /// The formulation's name as the releases write it.
+    pub fn name(self) -> &'static str {
+        match self {
+            Formulation::If97 => "IAPWS-IF97",
+            Formulation::Iapws95 => "IAPWS-95",
+        }
+    }
+}
