@@ -555,8 +555,9 @@ pub struct BatchResult {
     pub units: BTreeMap<String, String>,
 }
 
-/// Most rows in one `water.batch` call.
-pub const MAX_BATCH_ROWS: usize = 1_000_000;
+/// Most rows in one `water.batch` call by default (`serve --max-batch-rows` changes the limit in
+/// force, see [`super::limits::max_batch_rows`]).
+pub const MAX_BATCH_ROWS: usize = super::limits::MAX_BATCH_ROWS as usize;
 
 fn water_batch(p: BatchParams) -> Result<BatchResult> {
     check_formulation(p.formulation.as_deref())?;
@@ -614,10 +615,11 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
             cols[1].2.len()
         )));
     }
-    if n > MAX_BATCH_ROWS {
+    let max_rows = super::limits::max_batch_rows();
+    if n > max_rows {
         return Err(Error::LimitExceeded {
             what: "rows in one water.batch call".into(),
-            limit: MAX_BATCH_ROWS as f64,
+            limit: max_rows as f64,
             value: n as f64,
         });
     }
