@@ -91,6 +91,49 @@ pub fn nesting_exceeds(body: &[u8], max: u32) -> bool {
     false
 }
 
+/// The number of elements of a top-level JSON array (a batch), by a byte scan counting commas
+/// at depth 1 outside strings; `None` when the body is not an array.
+pub fn batch_len(body: &[u8]) -> Option<usize> {
+    let start = body.iter().position(|b| !b.is_ascii_whitespace())?;
+    if body[start] != b'[' {
+        return None;
+    }
+    let mut depth = 0u32;
+    let mut in_str = false;
+    let mut esc = false;
+    let mut commas = 0usize;
+    let mut any = false;
+    for &b in &body[start..] {
+        if in_str {
+            if esc {
+                esc = false;
+            } else if b == b'\\' {
+                esc = true;
+            } else if b == b'"' {
+                in_str = false;
+            }
+            continue;
+        }
+        match b {
+            b'"' => {
+                in_str = true;
+                any = true;
+            }
+            b'[' | b'{' => {
+                if depth >= 1 {
+                    any = true;
+                }
+                depth += 1;
+            }
+            b']' | b'}' => depth = depth.saturating_sub(1),
+            b',' if depth == 1 => commas += 1,
+            b if depth >= 1 && !b.is_ascii_whitespace() => any = true,
+            _ => {}
+        }
+    }
+    Some(if any { commas + 1 } else { 0 })
+}
+
 /// The host part of a `Host` header value, lower-cased, without port and trailing dot;
 /// IPv6 literals keep their brackets.
 pub fn host_name(value: &str) -> String {
@@ -131,6 +174,8 @@ pub struct GuardConfig {
     pub max_body_bytes: usize,
     /// Deepest `[`/`{` nesting of a request body.
     pub max_json_depth: u32,
+    /// Most calls in one batch array.
+    pub max_batch_requests: usize,
     /// Time limit of one request.
     pub request_timeout: Duration,
 }
@@ -250,6 +295,32 @@ fn rpc_refusal(status: u16, code: i64, message: String, what: &str, limit: f64) 
         )
         .body(HttpBody::from(body))
         .unwrap_or_else(|_| http::Response::new(HttpBody::from("internal error")))
+}
+
+/// jsonrpsee answers a bare `null` to a request object it cannot read (e.g. an object as id);
+/// JSON-RPC 2.0 wants an Invalid Request error there.
+async fn fix_null_answer(resp: HttpResponse) -> HttpResponse {
+    use hyper::body::Body as _;
+    if resp.body().size_hint().exact() != Some(4) {
+        return resp;
+    }
+    let (parts, body) = resp.into_parts();
+    let bytes = match body.collect().await {
+        Ok(c) => c.to_bytes(),
+        Err(_) => return http::Response::from_parts(parts, HttpBody::from("")),
+    };
+    if &bytes[..] == b"null" {
+        return rpc_refusal(
+            200,
+            codes::INVALID_REQUEST,
+            "Invalid request: not a JSON-RPC 2.0 request object (jsonrpc \"2.0\", method, \
+             id a string, number or null)"
+                .to_string(),
+            "request object",
+            0.0,
+        );
+    }
+    http::Response::from_parts(parts, HttpBody::from(bytes.to_vec()))
 }
 
 fn is_json_content_type(req: &HttpRequest) -> bool {
@@ -443,10 +514,31 @@ where
                     f64::from(config.max_json_depth),
                 ));
             }
+            if std::str::from_utf8(&bytes).is_err() {
+                return Ok(rpc_refusal(
+                    400,
+                    codes::PARSE_ERROR,
+                    "Parse error: the request body is not valid UTF-8".to_string(),
+                    "UTF-8",
+                    0.0,
+                ));
+            }
+            if let Some(n) = batch_len(&bytes).filter(|n| *n > config.max_batch_requests) {
+                return Ok(rpc_refusal(
+                    200,
+                    codes::LIMIT_EXCEEDED,
+                    format!(
+                        "batch of {n} calls exceeds the limit of {} calls",
+                        config.max_batch_requests
+                    ),
+                    "calls in one batch",
+                    config.max_batch_requests as f64,
+                ));
+            }
             let req = http::Request::from_parts(parts, HttpBody::from(bytes.to_vec()));
             let left = limit.saturating_sub(started.elapsed());
             let mut resp = match tokio::time::timeout(left, inner.call(req)).await {
-                Ok(r) => r?,
+                Ok(r) => fix_null_answer(r?).await,
                 Err(_) => rpc_refusal(
                     503,
                     codes::LIMIT_EXCEEDED,
@@ -623,6 +715,15 @@ mod tests {
     }
 
     #[test]
+    fn batch_lengths() {
+        assert_eq!(batch_len(b"{}"), None);
+        assert_eq!(batch_len(b" [ ] "), Some(0));
+        assert_eq!(batch_len(b"[1]"), Some(1));
+        assert_eq!(batch_len(br#"[{"a":[1,2,3]},{"b":"x,y"},3]"#), Some(3));
+        assert_eq!(batch_len(br#"["\",", 1]"#), Some(2));
+    }
+
+    #[test]
     fn host_names() {
         assert_eq!(host_name("LocalHost:8790"), "localhost");
         assert_eq!(host_name("[::1]:80"), "[::1]");
@@ -634,6 +735,7 @@ mod tests {
             listen: "127.0.0.1:8790".parse().unwrap(),
             max_body_bytes: 10,
             max_json_depth: 4,
+            max_batch_requests: 3,
             request_timeout: Duration::from_secs(1),
         };
         assert!(cfg.host_allowed("localhost:8790"));

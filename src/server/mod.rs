@@ -215,6 +215,7 @@ pub async fn start(cfg: &ServeConfig) -> std::io::Result<Running> {
         listen: addr,
         max_body_bytes: l.max_request_body_bytes as usize,
         max_json_depth: l.max_json_depth,
+        max_batch_requests: l.max_batch_requests as usize,
         request_timeout: timeout,
     });
     let server = Server::builder()
