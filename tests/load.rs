@@ -41,16 +41,25 @@ fn mix() -> Vec<(String, Value, Value)> {
     {
         let params = json!({ "given": { "p": format!("{p} MPa"), "T": format!("{t} K") } });
         out.push(("water.state".to_string(), params, Value::Null));
-        let ps: Vec<f64> = (0..8).map(|k| p * 1e6 * (1.0 + 0.01 * (k + i) as f64)).collect();
+        let ps: Vec<f64> = (0..8)
+            .map(|k| p * 1e6 * (1.0 + 0.01 * (k + i) as f64))
+            .collect();
         let ts: Vec<f64> = (0..8).map(|k| t + k as f64).collect();
-        let params = json!({ "given": { "p": ps, "T": ts }, "want": ["h", "s", "v"], "units": "si" });
+        let params =
+            json!({ "given": { "p": ps, "T": ts }, "want": ["h", "s", "v"], "units": "si" });
         out.push(("water.batch".to_string(), params, Value::Null));
     }
     for m in &mut out {
         // The params as the server will read them (through JSON text).
         m.1 = serde_json::from_str(&m.1.to_string()).unwrap();
         m.2 = steamcell::api::call(&m.0, m.1.clone()).expect("the mix computes in-process");
-        assert!(m.2.get("failed").is_none_or(|f| f == 0), "{} {}: {}", m.0, m.1, m.2);
+        assert!(
+            m.2.get("failed").is_none_or(|f| f == 0),
+            "{} {}: {}",
+            m.0,
+            m.1,
+            m.2
+        );
     }
     out
 }
@@ -93,7 +102,8 @@ fn sixty_four_clients_every_answer_checked() {
         let (addr, mix, stop, served) = (s.addr.clone(), mix.clone(), stop.clone(), served.clone());
         threads.push(std::thread::spawn(move || -> Result<u64, String> {
             let mut conn = TcpStream::connect(&addr).map_err(|e| e.to_string())?;
-            conn.set_read_timeout(Some(Duration::from_secs(30))).unwrap();
+            conn.set_read_timeout(Some(Duration::from_secs(30)))
+                .unwrap();
             conn.set_nodelay(true).unwrap();
             let mut reader = BufReader::new(conn.try_clone().unwrap());
             let mut n = 0u64;
@@ -108,7 +118,8 @@ fn sixty_four_clients_every_answer_checked() {
                      Content-Length: {}\r\n\r\n{body}",
                     body.len()
                 );
-                conn.write_all(req.as_bytes()).map_err(|e| format!("client {c}: write: {e}"))?;
+                conn.write_all(req.as_bytes())
+                    .map_err(|e| format!("client {c}: write: {e}"))?;
                 let r = read_response(&mut reader).map_err(|e| format!("client {c}: read: {e}"))?;
                 if r.status != 200 {
                     return Err(format!("client {c}: HTTP {} {}", r.status, r.text()));
@@ -139,7 +150,10 @@ fn sixty_four_clients_every_answer_checked() {
     eprintln!(
         "load: {total} requests by {CLIENTS} clients in {RUN:?}; VmRSS {rss_mid} KiB -> {rss_end} KiB"
     );
-    assert!(served_mid > 0 && total > served_mid, "requests in both halves");
+    assert!(
+        served_mid > 0 && total > served_mid,
+        "requests in both halves"
+    );
     assert!(rss_mid > 0, "VmRSS readable");
     assert!(
         rss_end <= rss_mid + 32 * 1024,
