@@ -18,7 +18,7 @@ use std::io::{BufReader, Write};
 use std::net::TcpStream;
 use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 use std::sync::Arc;
-use std::time::{Duration, Instant};
+use std::time::Duration;
 
 const CLIENTS: usize = 64;
 const RUN: Duration = Duration::from_secs(3);
