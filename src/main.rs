@@ -68,31 +68,36 @@ struct ServeArgs {
     /// CORS headers and preflight answers are given for these origins only.
     #[arg(long, value_name = "ORIGIN")]
     allow_origin: Vec<String>,
-    /// Largest HTTP request body, bytes.
+    /// Largest HTTP request body, bytes (beyond it HTTP 413 with error 1008).
     #[arg(long, value_name = "BYTES", default_value_t = limits::MAX_REQUEST_BODY_BYTES)]
     max_body_bytes: u32,
     /// Largest response body, bytes.
     #[arg(long, value_name = "BYTES", default_value_t = limits::MAX_RESPONSE_BODY_BYTES)]
     max_response_bytes: u32,
-    /// Most calls in one JSON-RPC batch array.
+    /// Most calls in one JSON-RPC batch array (HTTP: error 1008 before parsing).
     #[arg(long, value_name = "N", default_value_t = limits::MAX_BATCH_REQUESTS)]
     max_batch_requests: u32,
-    /// Most rows in one water.batch call.
+    /// Most rows in one water.batch call (beyond it error 1008).
     #[arg(long, value_name = "N", default_value_t = limits::MAX_BATCH_ROWS)]
     max_batch_rows: u32,
-    /// Deepest nesting of [ and { in a request body (checked before parsing).
+    /// Deepest nesting of [ and { in an HTTP request body (a byte scan before parsing; error
+    /// 1008). WebSocket messages are held to the JSON parser's own limit of 128.
     #[arg(long, value_name = "N", default_value_t = limits::MAX_JSON_DEPTH)]
     max_json_depth: u32,
     /// Largest WebSocket message, bytes.
     #[arg(long, value_name = "BYTES", default_value_t = limits::MAX_WS_MESSAGE_BYTES)]
     max_ws_message_bytes: u32,
-    /// Most simultaneous connections.
+    /// Most simultaneous connections (HTTP and WebSocket); beyond it new connections are refused.
     #[arg(long, value_name = "N", default_value_t = limits::MAX_CONNECTIONS)]
     max_connections: u32,
-    /// Most method calls running at once; beyond it a call answers error 1008.
+    /// Most method calls running at once over all connections; beyond it a call answers error
+    /// 1008 (limit_exceeded) at once instead of queueing.
     #[arg(long, value_name = "N", default_value_t = limits::MAX_IN_FLIGHT)]
     max_in_flight: u32,
-    /// Time limit of one HTTP request (body read and computation), seconds.
+    /// Time limit of one HTTP request, seconds: a body not received in time answers 408, an
+    /// answer not ready in time 503 (error 1008; the computation itself runs to its end, and
+    /// counts against --max-in-flight until then). Also the time a new connection has to send
+    /// its first request headers. WebSocket calls have no time limit.
     #[arg(long, value_name = "SECONDS", default_value_t = limits::REQUEST_TIMEOUT_MS as f64 / 1000.0)]
     request_timeout: f64,
     /// Log level on stderr: error, warn, info, debug or trace (RUST_LOG overrides when set).
