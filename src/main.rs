@@ -100,7 +100,9 @@ struct ServeArgs {
     /// its first request headers. WebSocket calls have no time limit.
     #[arg(long, value_name = "SECONDS", default_value_t = limits::REQUEST_TIMEOUT_MS as f64 / 1000.0)]
     request_timeout: f64,
-    /// Log level on stderr: error, warn, info, debug or trace (RUST_LOG overrides when set).
+    /// Log level of steamcell's own log lines on stderr: error, warn, info (one line per call
+    /// and per refusal, with its request id), debug or trace. Other crates log warnings only;
+    /// RUST_LOG, when set, replaces this filter entirely.
     #[arg(long, value_name = "LEVEL", default_value = "warn")]
     log_level: String,
     /// Append one JSON line per method call to this file (time, request id, method, params,
@@ -164,8 +166,9 @@ fn main() -> ExitCode {
     tracing_subscriber::fmt()
         .with_writer(std::io::stderr)
         .with_env_filter(
-            tracing_subscriber::EnvFilter::try_from_default_env()
-                .unwrap_or_else(|_| tracing_subscriber::EnvFilter::new(level)),
+            tracing_subscriber::EnvFilter::try_from_default_env().unwrap_or_else(|_| {
+                tracing_subscriber::EnvFilter::new(format!("warn,steamcell={level}"))
+            }),
         )
         .init();
     match cli.command {

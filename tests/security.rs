@@ -489,3 +489,37 @@ fn server_info_reports_limits_and_counters() {
     // by the JSON-RPC layer before any method runs, and is not).
     assert!(v["result"]["requests_failed"].as_u64().unwrap() >= 2, "{v}");
 }
+
+#[test]
+fn logs_never_show_the_token() {
+    let mut child = Command::new(BIN)
+        .args(["serve", "--listen", "127.0.0.1:0", "--log-level", "trace"])
+        .env("STEAMCELL_TOKEN", TOKEN)
+        .env_remove("RUST_LOG")
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut line = String::new();
+    std::io::BufRead::read_line(&mut BufReader::new(child.stdout.take().unwrap()), &mut line)
+        .unwrap();
+    let addr = line
+        .split("http://")
+        .nth(1)
+        .unwrap()
+        .split_whitespace()
+        .next()
+        .unwrap()
+        .to_string();
+    let right = format!("Authorization: Bearer {TOKEN}");
+    let wrong = format!("Authorization: Bearer {TOKEN}x");
+    assert_eq!(post(&addr, &[&right], CHECK_REQUEST.as_bytes()).status, 200);
+    assert_eq!(post(&addr, &[&wrong], CHECK_REQUEST.as_bytes()).status, 401);
+    assert_eq!(post(&addr, &[], CHECK_REQUEST.as_bytes()).status, 401);
+    let _ = child.kill();
+    let out = child.wait_with_output().unwrap();
+    let log = String::from_utf8_lossy(&out.stderr);
+    assert!(log.contains("refused"), "the refusals are logged: {log}");
+    assert!(log.contains("water.state"), "the call is logged: {log}");
+    assert!(!log.contains(TOKEN), "the token appears in the log: {log}");
+}

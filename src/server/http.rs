@@ -159,8 +159,8 @@ fn ip_of_host(host: &str) -> Option<IpAddr> {
         .ok()
 }
 
-/// What the guard enforces.
-#[derive(Debug, Clone)]
+/// What the guard enforces. Its `Debug` output never shows the token.
+#[derive(Clone)]
 pub struct GuardConfig {
     /// The bearer token, when one is required.
     pub token: Option<String>,
@@ -178,6 +178,21 @@ pub struct GuardConfig {
     pub max_batch_requests: usize,
     /// Time limit of one request.
     pub request_timeout: Duration,
+}
+
+impl std::fmt::Debug for GuardConfig {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("GuardConfig")
+            .field("token", &self.token.as_ref().map(|_| "<redacted>"))
+            .field("allow_hosts", &self.allow_hosts)
+            .field("allow_origins", &self.allow_origins)
+            .field("listen", &self.listen)
+            .field("max_body_bytes", &self.max_body_bytes)
+            .field("max_json_depth", &self.max_json_depth)
+            .field("max_batch_requests", &self.max_batch_requests)
+            .field("request_timeout", &self.request_timeout)
+            .finish()
+    }
 }
 
 impl GuardConfig {
@@ -744,5 +759,10 @@ mod tests {
         assert!(cfg.host_allowed("calc.plant.example:8790"));
         assert!(!cfg.host_allowed("evil.example:8790"));
         assert!(!cfg.host_allowed("10.0.0.1:8790"));
+        let with = GuardConfig {
+            token: Some("s3cret-value".into()),
+            ..cfg
+        };
+        assert!(!format!("{with:?}").contains("s3cret-value"));
     }
 }

@@ -68,7 +68,7 @@ fn run_call(
         }
     };
     let code = answer.as_ref().err().map(|e| e.code);
-    tracing::debug!(
+    tracing::info!(
         request_id = %request_id,
         method = name,
         elapsed_ms = started.elapsed().as_secs_f64() * 1e3,
@@ -127,8 +127,9 @@ pub struct Running {
     pub handle: ServerHandle,
 }
 
-/// How `steamcell serve` runs: address, access control, limits, audit file.
-#[derive(Debug, Clone)]
+/// How `steamcell serve` runs: address, access control, limits, audit file. Its `Debug` output
+/// never shows the token.
+#[derive(Clone)]
 pub struct ServeConfig {
     /// Address to listen on, e.g. `127.0.0.1:8790` (port 0 picks a free port).
     pub listen: String,
@@ -143,6 +144,19 @@ pub struct ServeConfig {
     pub limits: limits::Settings,
     /// Append one JSON line per method call to this file.
     pub audit: Option<PathBuf>,
+}
+
+impl std::fmt::Debug for ServeConfig {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("ServeConfig")
+            .field("listen", &self.listen)
+            .field("token", &self.token.as_ref().map(|_| "<redacted>"))
+            .field("allow_hosts", &self.allow_hosts)
+            .field("allow_origins", &self.allow_origins)
+            .field("limits", &self.limits)
+            .field("audit", &self.audit)
+            .finish()
+    }
 }
 
 impl ServeConfig {
