@@ -3,6 +3,7 @@
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
+use steamcell::api::limits;
 
 #[derive(Parser)]
 #[command(
@@ -18,11 +19,16 @@ struct Cli {
 #[derive(Subcommand)]
 enum Command {
     /// Serve JSON-RPC 2.0 over HTTP POST and WebSocket, plus GET /health, /schema, /cell/{quantity}.
-    Serve {
-        /// Address to listen on (port 0 picks a free port).
-        #[arg(long, default_value = steamcell::server::DEFAULT_LISTEN)]
-        listen: String,
-    },
+    ///
+    /// Security: listens on loopback by default. A non-loopback address needs a token
+    /// (--token-file or STEAMCELL_TOKEN); with a token every request except GET /health needs
+    /// `Authorization: Bearer <token>` (else 401). The Host header must name this server
+    /// (localhost, a loopback or the listen address, or --allow-host; else 403). Requests with
+    /// an Origin header are refused (403) unless --allow-origin names it; CORS headers are sent
+    /// only for such origins. POST bodies must be Content-Type: application/json (else 415).
+    /// Beyond a limit: body 413, nesting/in-flight JSON-RPC error 1008, time limit 408/503.
+    #[command(verbatim_doc_comment)]
+    Serve(Box<ServeArgs>),
     /// Newline-delimited JSON-RPC 2.0 on stdin/stdout (one request or batch per line).
     Stdio,
     /// Run one method in-process and print its JSON result.
@@ -47,6 +53,104 @@ enum Command {
     },
 }
 
+#[derive(clap::Args)]
+struct ServeArgs {
+    /// Address to listen on (port 0 picks a free port). Non-loopback needs a token.
+    #[arg(long, default_value = steamcell::server::DEFAULT_LISTEN)]
+    listen: String,
+    /// File holding the bearer token (surrounding whitespace ignored). Overrides STEAMCELL_TOKEN.
+    #[arg(long, value_name = "PATH")]
+    token_file: Option<std::path::PathBuf>,
+    /// Accept this name in the Host header besides localhost and the listen address (repeatable).
+    #[arg(long, value_name = "NAME")]
+    allow_host: Vec<String>,
+    /// Allow cross-origin requests from this origin, e.g. https://sheet.example (repeatable);
+    /// CORS headers and preflight answers are given for these origins only.
+    #[arg(long, value_name = "ORIGIN")]
+    allow_origin: Vec<String>,
+    /// Largest HTTP request body, bytes (beyond it HTTP 413 with error 1008).
+    #[arg(long, value_name = "BYTES", default_value_t = limits::MAX_REQUEST_BODY_BYTES)]
+    max_body_bytes: u32,
+    /// Largest response body, bytes.
+    #[arg(long, value_name = "BYTES", default_value_t = limits::MAX_RESPONSE_BODY_BYTES)]
+    max_response_bytes: u32,
+    /// Most calls in one JSON-RPC batch array (HTTP: error 1008 before parsing).
+    #[arg(long, value_name = "N", default_value_t = limits::MAX_BATCH_REQUESTS)]
+    max_batch_requests: u32,
+    /// Most rows in one water.batch call (beyond it error 1008).
+    #[arg(long, value_name = "N", default_value_t = limits::MAX_BATCH_ROWS)]
+    max_batch_rows: u32,
+    /// Deepest nesting of [ and { in an HTTP request body (a byte scan before parsing; error
+    /// 1008). WebSocket messages are held to the JSON parser's own limit of 128.
+    #[arg(long, value_name = "N", default_value_t = limits::MAX_JSON_DEPTH)]
+    max_json_depth: u32,
+    /// Largest WebSocket message, bytes.
+    #[arg(long, value_name = "BYTES", default_value_t = limits::MAX_WS_MESSAGE_BYTES)]
+    max_ws_message_bytes: u32,
+    /// Most simultaneous connections (HTTP and WebSocket); beyond it new connections are refused.
+    #[arg(long, value_name = "N", default_value_t = limits::MAX_CONNECTIONS)]
+    max_connections: u32,
+    /// Most method calls running at once over all connections; beyond it a call answers error
+    /// 1008 (limit_exceeded) at once instead of queueing.
+    #[arg(long, value_name = "N", default_value_t = limits::MAX_IN_FLIGHT)]
+    max_in_flight: u32,
+    /// Time limit of one HTTP request, seconds: a body not received in time answers 408, an
+    /// answer not ready in time 503 (error 1008; the computation itself runs to its end, and
+    /// counts against --max-in-flight until then). Also the time a new connection has to send
+    /// its first request headers. WebSocket calls have no time limit.
+    #[arg(long, value_name = "SECONDS", default_value_t = limits::REQUEST_TIMEOUT_MS as f64 / 1000.0)]
+    request_timeout: f64,
+    /// Log level of steamcell's own log lines on stderr: error, warn, info (one line per call
+    /// and per refusal, with its request id), debug or trace. Other crates log warnings only;
+    /// RUST_LOG, when set, replaces this filter entirely.
+    #[arg(long, value_name = "LEVEL", default_value = "warn")]
+    log_level: String,
+    /// Append one JSON line per method call to this file (time, request id, method, params,
+    /// result digest, error code, version, formulation, validation digest).
+    #[arg(long, value_name = "FILE")]
+    audit: Option<std::path::PathBuf>,
+}
+
+impl ServeArgs {
+    fn config(&self) -> Result<steamcell::server::ServeConfig, String> {
+        let token = match &self.token_file {
+            Some(path) => Some(
+                std::fs::read_to_string(path)
+                    .map_err(|e| format!("cannot read the token file {}: {e}", path.display()))?
+                    .trim()
+                    .to_string(),
+            ),
+            None => std::env::var("STEAMCELL_TOKEN")
+                .ok()
+                .map(|t| t.trim().to_string()),
+        };
+        if token.as_deref().is_some_and(str::is_empty) {
+            return Err("the token is empty".to_string());
+        }
+        if !(self.request_timeout.is_finite() && self.request_timeout > 0.0) {
+            return Err("--request-timeout must be a positive number of seconds".to_string());
+        }
+        Ok(steamcell::server::ServeConfig {
+            listen: self.listen.clone(),
+            token,
+            allow_hosts: self.allow_host.clone(),
+            allow_origins: self.allow_origin.clone(),
+            limits: limits::Settings {
+                max_request_body_bytes: self.max_body_bytes,
+                max_response_body_bytes: self.max_response_bytes,
+                max_batch_requests: self.max_batch_requests,
+                max_batch_rows: self.max_batch_rows,
+                max_json_depth: self.max_json_depth,
+                max_ws_message_bytes: self.max_ws_message_bytes,
+                max_connections: self.max_connections,
+                max_in_flight: self.max_in_flight,
+                request_timeout_ms: (self.request_timeout * 1000.0).round().max(1.0) as u64,
+            },
+            audit: self.audit.clone(),
+        })
+    }
+}
+
 fn runtime() -> std::io::Result<tokio::runtime::Runtime> {
     tokio::runtime::Builder::new_multi_thread()
         .enable_all()
@@ -55,19 +159,31 @@ fn runtime() -> std::io::Result<tokio::runtime::Runtime> {
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
+    let level = match &cli.command {
+        Command::Serve(a) => a.log_level.clone(),
+        _ => "warn".to_string(),
+    };
     tracing_subscriber::fmt()
         .with_writer(std::io::stderr)
         .with_env_filter(
-            tracing_subscriber::EnvFilter::try_from_default_env()
-                .unwrap_or_else(|_| tracing_subscriber::EnvFilter::new("warn")),
+            tracing_subscriber::EnvFilter::try_from_default_env().unwrap_or_else(|_| {
+                tracing_subscriber::EnvFilter::new(format!("warn,steamcell={level}"))
+            }),
         )
         .init();
     match cli.command {
-        Command::Serve { listen } => {
-            match runtime().and_then(|rt| rt.block_on(steamcell::server::serve(&listen))) {
+        Command::Serve(args) => {
+            let cfg = match args.config() {
+                Ok(c) => c,
+                Err(e) => {
+                    eprintln!("steamcell: {e}");
+                    return ExitCode::from(1);
+                }
+            };
+            match runtime().and_then(|rt| rt.block_on(steamcell::server::serve(&cfg))) {
                 Ok(()) => ExitCode::SUCCESS,
                 Err(e) => {
-                    eprintln!("steamcell: cannot serve on {listen}: {e}");
+                    eprintln!("steamcell: cannot serve on {}: {e}", cfg.listen);
                     ExitCode::from(1)
                 }
             }

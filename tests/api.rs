@@ -277,6 +277,8 @@ fn sample_server_info() {
     // Volatile fields: present, of the right type, then removed for the snapshot.
     assert!(result.remove("uptime_s").unwrap().as_f64().unwrap() >= 0.0);
     assert!(result.remove("requests_served").unwrap().as_u64().unwrap() >= 1);
+    assert!(result.remove("requests_failed").unwrap().as_u64().is_some());
+    assert!(result.remove("connections").unwrap().as_u64().is_some());
     assert_eq!(result["version"], env!("CARGO_PKG_VERSION"));
     insta::assert_json_snapshot!("server_info", v);
 }

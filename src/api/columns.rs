@@ -97,10 +97,11 @@ fn compute(body: &[u8]) -> Result<Vec<u8>> {
             h.given.len()
         )));
     }
-    if h.rows > water::MAX_BATCH_ROWS {
+    let max_rows = super::limits::max_batch_rows();
+    if h.rows > max_rows {
         return Err(Error::LimitExceeded {
             what: "rows in one /columns call".into(),
-            limit: water::MAX_BATCH_ROWS as f64,
+            limit: max_rows as f64,
             value: h.rows as f64,
         });
     }

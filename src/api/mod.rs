@@ -33,22 +33,167 @@ use serde::de::DeserializeOwned;
 use serde::Serialize;
 use serde_json::{json, Value};
 use std::fmt;
-use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::atomic::Ordering;
 use std::sync::OnceLock;
 use std::time::Instant;
 
-/// Limits enforced by the transports and reported by `server.info`.
+/// Limits enforced by the transports and reported by `server.info`: compile-time defaults and
+/// the process-wide settings (`steamcell serve` flags) read by the transports and methods.
 pub mod limits {
-    /// Largest accepted request body (HTTP body, WebSocket message, stdio line), bytes.
+    use std::sync::RwLock;
+
+    /// Default largest accepted request body (HTTP body, stdio line), bytes.
     pub const MAX_REQUEST_BODY_BYTES: u32 = 16 * 1024 * 1024;
-    /// Largest response body, bytes.
+    /// Default largest response body, bytes.
     pub const MAX_RESPONSE_BODY_BYTES: u32 = 64 * 1024 * 1024;
-    /// Most calls in one JSON-RPC batch array.
+    /// Default most calls in one JSON-RPC batch array.
     pub const MAX_BATCH_REQUESTS: u32 = 1000;
-    /// Most rows in one table-style (batch) method call.
+    /// Default most rows in one table-style (batch) method call.
     pub const MAX_BATCH_ROWS: u32 = 1_000_000;
-    /// Most simultaneous connections.
+    /// Default most simultaneous connections.
     pub const MAX_CONNECTIONS: u32 = 100;
+    /// Default deepest `[`/`{` nesting accepted in a request body.
+    pub const MAX_JSON_DEPTH: u32 = 64;
+    /// Default largest WebSocket message, bytes.
+    pub const MAX_WS_MESSAGE_BYTES: u32 = 16 * 1024 * 1024;
+    /// Default most method calls running at once (all connections).
+    pub const MAX_IN_FLIGHT: u32 = 256;
+    /// Default per-request time limit, milliseconds.
+    pub const REQUEST_TIMEOUT_MS: u64 = 30_000;
+
+    /// The limits in force in this process.
+    #[derive(Debug, Clone, Copy, PartialEq, Eq)]
+    pub struct Settings {
+        /// Largest HTTP request body or stdio line, bytes.
+        pub max_request_body_bytes: u32,
+        /// Largest response body, bytes.
+        pub max_response_body_bytes: u32,
+        /// Most calls in one JSON-RPC batch array.
+        pub max_batch_requests: u32,
+        /// Most rows in one `water.batch` call.
+        pub max_batch_rows: u32,
+        /// Deepest `[`/`{` nesting in a request body.
+        pub max_json_depth: u32,
+        /// Largest WebSocket message, bytes.
+        pub max_ws_message_bytes: u32,
+        /// Most simultaneous connections.
+        pub max_connections: u32,
+        /// Most method calls running at once.
+        pub max_in_flight: u32,
+        /// Per-request time limit on HTTP, milliseconds.
+        pub request_timeout_ms: u64,
+    }
+
+    impl Settings {
+        /// The compile-time defaults.
+        pub const DEFAULT: Settings = Settings {
+            max_request_body_bytes: MAX_REQUEST_BODY_BYTES,
+            max_response_body_bytes: MAX_RESPONSE_BODY_BYTES,
+            max_batch_requests: MAX_BATCH_REQUESTS,
+            max_batch_rows: MAX_BATCH_ROWS,
+            max_json_depth: MAX_JSON_DEPTH,
+            max_ws_message_bytes: MAX_WS_MESSAGE_BYTES,
+            max_connections: MAX_CONNECTIONS,
+            max_in_flight: MAX_IN_FLIGHT,
+            request_timeout_ms: REQUEST_TIMEOUT_MS,
+        };
+    }
+
+    impl Default for Settings {
+        fn default() -> Settings {
+            Settings::DEFAULT
+        }
+    }
+
+    static SETTINGS: RwLock<Settings> = RwLock::new(Settings::DEFAULT);
+
+    /// Replaces the process-wide limits (done once by `steamcell serve` before it listens).
+    pub fn configure(s: Settings) {
+        *SETTINGS.write().unwrap_or_else(|e| e.into_inner()) = s;
+    }
+
+    /// The limits in force.
+    pub fn current() -> Settings {
+        *SETTINGS.read().unwrap_or_else(|e| e.into_inner())
+    }
+
+    /// Most rows in one `water.batch` call (read by the method on every call).
+    pub fn max_batch_rows() -> usize {
+        current().max_batch_rows as usize
+    }
+}
+
+/// Process-wide counters reported by `server.info`: calls served and failed, open
+/// connections, calls in flight. All relaxed atomics; never block.
+pub mod counters {
+    use std::sync::atomic::{AtomicU64, Ordering};
+
+    pub(super) static REQUESTS: AtomicU64 = AtomicU64::new(0);
+    pub(super) static ERRORS: AtomicU64 = AtomicU64::new(0);
+    static CONNECTIONS: AtomicU64 = AtomicU64::new(0);
+    static IN_FLIGHT: AtomicU64 = AtomicU64::new(0);
+
+    /// Method calls that answered an error so far (all transports).
+    pub fn requests_failed() -> u64 {
+        ERRORS.load(Ordering::Relaxed)
+    }
+
+    /// Counts one refused request (limit, timeout) that never reached a method.
+    pub fn count_refused() {
+        REQUESTS.fetch_add(1, Ordering::Relaxed);
+        ERRORS.fetch_add(1, Ordering::Relaxed);
+    }
+
+    /// Connections open now.
+    pub fn connections() -> u64 {
+        CONNECTIONS.load(Ordering::Relaxed)
+    }
+
+    /// Held while a connection is open; counts it in [`connections`].
+    #[derive(Debug)]
+    pub struct ConnectionGuard(());
+
+    impl ConnectionGuard {
+        /// Counts a newly opened connection.
+        pub fn open() -> ConnectionGuard {
+            CONNECTIONS.fetch_add(1, Ordering::Relaxed);
+            ConnectionGuard(())
+        }
+    }
+
+    impl Drop for ConnectionGuard {
+        fn drop(&mut self) {
+            CONNECTIONS.fetch_sub(1, Ordering::Relaxed);
+        }
+    }
+
+    /// Method calls running now.
+    pub fn in_flight() -> u64 {
+        IN_FLIGHT.load(Ordering::Relaxed)
+    }
+
+    /// Held while a method call runs; see [`InFlight::try_begin`].
+    #[derive(Debug)]
+    pub struct InFlight(());
+
+    impl InFlight {
+        /// Starts a call unless `limit` calls already run.
+        pub fn try_begin(limit: u64) -> Option<InFlight> {
+            let prev = IN_FLIGHT.fetch_add(1, Ordering::AcqRel);
+            if prev >= limit {
+                IN_FLIGHT.fetch_sub(1, Ordering::AcqRel);
+                None
+            } else {
+                Some(InFlight(()))
+            }
+        }
+    }
+
+    impl Drop for InFlight {
+        fn drop(&mut self) {
+            IN_FLIGHT.fetch_sub(1, Ordering::AcqRel);
+        }
+    }
 }
 
 /// Stable error codes (outside the JSON-RPC reserved range -32768..-32000 for our own kinds).
@@ -363,14 +508,18 @@ impl MethodSpec {
 
     /// Runs the method on `params` and counts the request.
     pub fn invoke(&self, params: Value) -> Result<Value, ApiError> {
-        REQUESTS.fetch_add(1, Ordering::Relaxed);
-        (self.call)(params)
+        counters::REQUESTS.fetch_add(1, Ordering::Relaxed);
+        let r = (self.call)(params);
+        if r.is_err() {
+            counters::ERRORS.fetch_add(1, Ordering::Relaxed);
+        }
+        r
     }
 }
 
 /// Counts one served request (for routes that do not go through a [`MethodSpec`]).
 pub fn count_request() {
-    REQUESTS.fetch_add(1, Ordering::Relaxed);
+    counters::REQUESTS.fetch_add(1, Ordering::Relaxed);
 }
 
 /// Decodes a params value into `P`. Absent params (`null`) and an empty array count as `{}`;
@@ -421,7 +570,6 @@ fn type_name(v: &Value) -> &'static str {
 }
 
 static REGISTRY: OnceLock<Vec<MethodSpec>> = OnceLock::new();
-static REQUESTS: AtomicU64 = AtomicU64::new(0);
 static STARTED: OnceLock<Instant> = OnceLock::new();
 
 /// All methods, in documentation order: the water methods, the component methods, then the
@@ -462,7 +610,7 @@ pub fn uptime_s() -> f64 {
 
 /// Method calls served so far by this process (all transports).
 pub fn requests_served() -> u64 {
-    REQUESTS.load(Ordering::Relaxed)
+    counters::REQUESTS.load(Ordering::Relaxed)
 }
 
 /// Runs method `name` on params given as JSON text; returns the result as pretty JSON text.

@@ -2,7 +2,8 @@
 //! (`server.schema`, the OpenRPC document).
 //!
 //! No units here. Invariant: `server.info` never fails and its non-volatile part (everything but
-//! `uptime_s` and `requests_served`) depends only on the build.
+//! `uptime_s`, `requests_served`, `requests_failed` and `connections`) depends only on the build
+//! and the `serve` flags.
 
 use super::{limits, openrpc, registry, MethodSpec};
 use schemars::JsonSchema;
@@ -43,10 +44,10 @@ pub struct UnitPreset {
     pub description: String,
 }
 
-/// Limits this server enforces.
+/// Limits this server enforces (the `steamcell serve` flags in force).
 #[derive(Debug, Clone, Serialize, JsonSchema)]
 pub struct Limits {
-    /// Largest request body (HTTP body, WebSocket message or stdio line), bytes.
+    /// Largest request body (HTTP body or stdio line), bytes.
     pub max_request_body_bytes: u32,
     /// Largest response body, bytes.
     pub max_response_body_bytes: u32,
@@ -56,6 +57,15 @@ pub struct Limits {
     pub max_batch_rows: u32,
     /// Most simultaneous connections.
     pub max_connections: u32,
+    /// Deepest nesting of `[` and `{` accepted in a request body.
+    pub max_json_depth: u32,
+    /// Largest WebSocket message, bytes.
+    pub max_websocket_message_bytes: u32,
+    /// Most method calls running at once (over all connections); beyond it a call answers
+    /// limit_exceeded (1008).
+    pub max_in_flight: u32,
+    /// Time limit of one HTTP request (reading the body and computing), seconds.
+    pub request_timeout_s: f64,
 }
 
 /// What this server is and how it is doing.
@@ -79,6 +89,10 @@ pub struct ServerInfo {
     pub uptime_s: f64,
     /// Method calls served since start (all transports, this one included).
     pub requests_served: u64,
+    /// Method calls that answered an error since start (all transports).
+    pub requests_failed: u64,
+    /// HTTP/WebSocket connections open now (this one included when served over HTTP).
+    pub connections: u64,
 }
 
 /// An OpenRPC 1.2.6 document describing every method, its params, result and errors.
@@ -135,17 +149,26 @@ pub fn info(_: NoParams) -> crate::Result<ServerInfo> {
                 description: p.description().to_string(),
             })
             .collect(),
-        limits: Limits {
-            max_request_body_bytes: limits::MAX_REQUEST_BODY_BYTES,
-            max_response_body_bytes: limits::MAX_RESPONSE_BODY_BYTES,
-            max_batch_requests: limits::MAX_BATCH_REQUESTS,
-            max_batch_rows: limits::MAX_BATCH_ROWS,
-            max_connections: limits::MAX_CONNECTIONS,
+        limits: {
+            let l = limits::current();
+            Limits {
+                max_request_body_bytes: l.max_request_body_bytes,
+                max_response_body_bytes: l.max_response_body_bytes,
+                max_batch_requests: l.max_batch_requests,
+                max_batch_rows: l.max_batch_rows,
+                max_connections: l.max_connections,
+                max_json_depth: l.max_json_depth,
+                max_websocket_message_bytes: l.max_ws_message_bytes,
+                max_in_flight: l.max_in_flight,
+                request_timeout_s: l.request_timeout_ms as f64 / 1000.0,
+            }
         },
         methods: registry().iter().map(|m| m.name.to_string()).collect(),
         digest: super::validation_digest(),
         uptime_s: super::uptime_s(),
         requests_served: super::requests_served(),
+        requests_failed: super::counters::requests_failed(),
+        connections: super::counters::connections(),
     })
 }
 
@@ -161,8 +184,8 @@ pub fn methods() -> Vec<MethodSpec> {
             "server.info",
             "What this server is: version, formulations, unit presets, limits, uptime",
             "Returns the program version, the formulations and unit presets offered, the limits \
-             enforced, the method names, the validation digest, the uptime in seconds and the \
-             number of method calls served. Never fails.",
+             enforced, the method names, the validation digest, the uptime in seconds, the \
+             number of method calls served and failed, and the open connections. Never fails.",
             info,
         ),
         MethodSpec::new::<NoParams, OpenRpcDocument>(

@@ -728,8 +728,9 @@ pub struct BatchResult {
     pub encoding: String,
 }
 
-/// Most rows in one `water.batch` call.
-pub const MAX_BATCH_ROWS: usize = 1_000_000;
+/// Most rows in one `water.batch` call by default (`serve --max-batch-rows` changes the limit in
+/// force, see [`super::limits::max_batch_rows`]).
+pub const MAX_BATCH_ROWS: usize = super::limits::MAX_BATCH_ROWS as usize;
 
 /// Rows above which a batch is computed on all cores. Each row is computed by the same code
 /// either way, so the results are identical bit for bit.
@@ -943,10 +944,11 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
             Column::Values(v) => v.len(),
             Column::Packed(pc) => pc.f64le.len() / 4 * 3 / 8,
         };
-        if n > MAX_BATCH_ROWS {
+        let max_rows = super::limits::max_batch_rows();
+        if n > max_rows {
             return Err(Error::LimitExceeded {
                 what: "rows in one water.batch call".into(),
-                limit: MAX_BATCH_ROWS as f64,
+                limit: max_rows as f64,
                 value: n as f64,
             });
         }

@@ -9,14 +9,18 @@
 //! Invariant: the server prints exactly one line to stdout when it listens (see
 //! [`listening_line`]); everything else it says goes to stderr through `tracing`.
 
+pub mod audit;
 pub mod http;
 pub mod stdio;
 
-use crate::api::{self, limits, ApiError};
+use crate::api::{self, counters, limits, ApiError};
 use jsonrpsee::server::{BatchRequestConfig, RpcModule, Server, ServerConfig, ServerHandle};
 use jsonrpsee::types::ErrorObjectOwned;
 use std::io::Write;
-use std::net::SocketAddr;
+use std::net::{SocketAddr, ToSocketAddrs};
+use std::path::PathBuf;
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::time::{Duration, Instant};
 
 /// The default listen address of `steamcell serve`.
 pub const DEFAULT_LISTEN: &str = "127.0.0.1:8790";
@@ -27,25 +31,68 @@ pub fn to_error_object(e: ApiError) -> ErrorObjectOwned {
     ErrorObjectOwned::owned(code, e.message, Some(e.data))
 }
 
+static NEXT_CALL: AtomicU64 = AtomicU64::new(1);
+
+/// Runs one call of method `name`: in-flight limit, dispatch, log line and audit line.
+fn run_call(
+    name: &'static str,
+    params_text: Option<&str>,
+    request: Option<http::RequestId>,
+) -> Result<serde_json::Value, ApiError> {
+    let call = NEXT_CALL.fetch_add(1, Ordering::Relaxed);
+    let request_id = match request {
+        Some(r) => format!("{}.{call}", r.0),
+        None => format!("0.{call}"),
+    };
+    let started = Instant::now();
+    let limit = u64::from(limits::current().max_in_flight);
+    let answer = match counters::InFlight::try_begin(limit) {
+        None => {
+            counters::count_refused();
+            Err(ApiError::from(crate::Error::LimitExceeded {
+                what: "method calls in flight".into(),
+                limit: limit as f64,
+                value: (counters::in_flight() + 1) as f64,
+            }))
+        }
+        Some(_running) => {
+            let value = match params_text {
+                None => Ok(serde_json::Value::Null),
+                Some(text) => serde_json::from_str(text)
+                    .map_err(|e| ApiError::invalid_params(".", format!("invalid params: {e}"))),
+            };
+            value.and_then(|v| match api::find(name) {
+                Some(spec) => spec.invoke(v),
+                None => Err(ApiError::method_not_found(name)),
+            })
+        }
+    };
+    let code = answer.as_ref().err().map(|e| e.code);
+    tracing::info!(
+        request_id = %request_id,
+        method = name,
+        elapsed_ms = started.elapsed().as_secs_f64() * 1e3,
+        error_code = ?code,
+        "call"
+    );
+    if audit::enabled() {
+        let outcome = match &answer {
+            Ok(v) => Ok(v.clone()),
+            Err(e) => Err(e.code),
+        };
+        audit::record(&request_id, name, params_text, &outcome);
+    }
+    answer
+}
+
 /// The JSON-RPC module with every registry method registered (as a blocking method).
 pub fn rpc_module() -> RpcModule<()> {
     let mut module = RpcModule::new(());
     for spec in api::registry() {
         let name = spec.name;
-        let result = module.register_blocking_method(name, move |params, _ctx, _ext| {
-            let value = match params.as_str() {
-                None => serde_json::Value::Null,
-                Some(text) => serde_json::from_str(text).map_err(|e| {
-                    to_error_object(ApiError::invalid_params(
-                        ".",
-                        format!("invalid params: {e}"),
-                    ))
-                })?,
-            };
-            match api::find(name) {
-                Some(spec) => spec.invoke(value).map_err(to_error_object),
-                None => Err(to_error_object(ApiError::method_not_found(name))),
-            }
+        let result = module.register_blocking_method(name, move |params, _ctx, ext| {
+            run_call(name, params.as_str(), ext.get::<http::RequestId>().copied())
+                .map_err(to_error_object)
         });
         if let Err(e) = result {
             tracing::error!("method {name} not registered: {e}");
@@ -80,21 +127,119 @@ pub struct Running {
     pub handle: ServerHandle,
 }
 
-/// Binds `listen` and starts serving on the current tokio runtime.
-pub async fn start(listen: &str) -> std::io::Result<Running> {
+/// How `steamcell serve` runs: address, access control, limits, audit file. Its `Debug` output
+/// never shows the token.
+#[derive(Clone)]
+pub struct ServeConfig {
+    /// Address to listen on, e.g. `127.0.0.1:8790` (port 0 picks a free port).
+    pub listen: String,
+    /// Bearer token required on every request (except `GET /health`); required to listen on
+    /// a non-loopback address.
+    pub token: Option<String>,
+    /// Extra host names accepted in the `Host` header.
+    pub allow_hosts: Vec<String>,
+    /// Origins allowed for cross-origin (browser) requests; CORS headers only for these.
+    pub allow_origins: Vec<String>,
+    /// The limits in force (also set process-wide for `server.info` and the methods).
+    pub limits: limits::Settings,
+    /// Append one JSON line per method call to this file.
+    pub audit: Option<PathBuf>,
+}
+
+impl std::fmt::Debug for ServeConfig {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("ServeConfig")
+            .field("listen", &self.listen)
+            .field("token", &self.token.as_ref().map(|_| "<redacted>"))
+            .field("allow_hosts", &self.allow_hosts)
+            .field("allow_origins", &self.allow_origins)
+            .field("limits", &self.limits)
+            .field("audit", &self.audit)
+            .finish()
+    }
+}
+
+impl ServeConfig {
+    /// Loopback only, no token, default limits, no audit.
+    pub fn local(listen: &str) -> ServeConfig {
+        ServeConfig {
+            listen: listen.to_string(),
+            token: None,
+            allow_hosts: Vec::new(),
+            allow_origins: Vec::new(),
+            limits: limits::Settings::DEFAULT,
+            audit: None,
+        }
+    }
+}
+
+/// True when every address `listen` resolves to is a loopback address.
+pub fn is_loopback_listen(listen: &str) -> std::io::Result<bool> {
+    let addrs: Vec<SocketAddr> = listen.to_socket_addrs()?.collect();
+    Ok(!addrs.is_empty() && addrs.iter().all(|a| a.ip().is_loopback()))
+}
+
+/// Refuses a non-loopback listen address without a token (the reason as the error text).
+pub fn check_exposure(cfg: &ServeConfig) -> std::io::Result<()> {
+    if cfg.token.is_none() && !is_loopback_listen(&cfg.listen)? {
+        return Err(std::io::Error::new(
+            std::io::ErrorKind::PermissionDenied,
+            format!(
+                "refusing to listen on {} (not a loopback address) without a token: give \
+                 --token-file PATH or set STEAMCELL_TOKEN, or listen on 127.0.0.1",
+                cfg.listen
+            ),
+        ));
+    }
+    if cfg.token.as_deref().is_some_and(|t| t.is_empty()) {
+        return Err(std::io::Error::new(
+            std::io::ErrorKind::InvalidInput,
+            "the token is empty",
+        ));
+    }
+    Ok(())
+}
+
+/// Binds `cfg.listen` and starts serving on the current tokio runtime.
+pub async fn start(cfg: &ServeConfig) -> std::io::Result<Running> {
+    check_exposure(cfg)?;
     api::mark_started();
+    limits::configure(cfg.limits);
+    if let Some(path) = &cfg.audit {
+        audit::open(path)?;
+    }
+    let l = cfg.limits;
+    let timeout = Duration::from_millis(l.request_timeout_ms.max(1));
     let config = ServerConfig::builder()
-        .max_request_body_size(limits::MAX_REQUEST_BODY_BYTES)
-        .max_response_body_size(limits::MAX_RESPONSE_BODY_BYTES)
-        .max_connections(limits::MAX_CONNECTIONS)
-        .set_batch_request_config(BatchRequestConfig::Limit(limits::MAX_BATCH_REQUESTS))
+        // jsonrpsee applies this to HTTP bodies and WebSocket messages; HTTP bodies are held
+        // to their own limit by the guard first.
+        .max_request_body_size(l.max_ws_message_bytes.max(l.max_request_body_bytes))
+        .max_response_body_size(l.max_response_body_bytes)
+        .max_connections(l.max_connections)
+        .set_batch_request_config(BatchRequestConfig::Limit(l.max_batch_requests))
+        .set_first_request_timeout(Some(timeout))
         .build();
+    let listener = std::net::TcpListener::bind(&cfg.listen)?;
+    listener.set_nonblocking(true)?;
+    let addr = listener.local_addr()?;
+    let guard = http::GuardLayer::new(http::GuardConfig {
+        token: cfg.token.clone(),
+        allow_hosts: cfg.allow_hosts.clone(),
+        allow_origins: cfg.allow_origins.clone(),
+        listen: addr,
+        max_body_bytes: l.max_request_body_bytes as usize,
+        max_json_depth: l.max_json_depth,
+        max_batch_requests: l.max_batch_requests as usize,
+        request_timeout: timeout,
+    });
     let server = Server::builder()
         .set_config(config)
-        .set_http_middleware(tower::ServiceBuilder::new().layer(http::GetRoutesLayer))
-        .build(listen)
-        .await?;
-    let addr = server.local_addr()?;
+        .set_http_middleware(
+            tower::ServiceBuilder::new()
+                .layer(guard)
+                .layer(http::GetRoutesLayer),
+        )
+        .build_from_tcp(listener)?;
     let handle = server.start(rpc_module());
     Ok(Running { addr, handle })
 }
@@ -124,8 +269,8 @@ pub async fn shutdown_signal() {
 
 /// `steamcell serve`: listen, print the one line, serve until Ctrl-C or SIGTERM, then stop
 /// accepting and let in-flight calls finish.
-pub async fn serve(listen: &str) -> std::io::Result<()> {
-    let running = start(listen).await?;
+pub async fn serve(cfg: &ServeConfig) -> std::io::Result<()> {
+    let running = start(cfg).await?;
     {
         let mut out = std::io::stdout().lock();
         writeln!(out, "{}", listening_line(running.addr))?;

@@ -59,7 +59,7 @@ pub async fn handle_line(module: &RpcModule<()>, line: &str) -> Option<String> {
     if line.is_empty() {
         return None;
     }
-    if line.len() > limits::MAX_REQUEST_BODY_BYTES as usize {
+    if line.len() > limits::current().max_request_body_bytes as usize {
         return Some(error_line(
             Value::Null,
             codes::INVALID_REQUEST,
@@ -79,14 +79,14 @@ pub async fn handle_line(module: &RpcModule<()>, line: &str) -> Option<String> {
                     "Invalid request",
                 ));
             }
-            if items.len() > limits::MAX_BATCH_REQUESTS as usize {
+            if items.len() > limits::current().max_batch_requests as usize {
                 return Some(error_line(
                     Value::Null,
                     codes::INVALID_REQUEST,
                     &format!(
                         "The batch request was too large: {} calls, limit {}",
                         items.len(),
-                        limits::MAX_BATCH_REQUESTS
+                        limits::current().max_batch_requests
                     ),
                 ));
             }
