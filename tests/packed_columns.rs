@@ -196,3 +196,27 @@ fn columns_route_codec_matches_batch() {
     let e = columns(&[1, 0]).unwrap_err();
     assert!(e.message.contains("4-byte header"), "{}", e.message);
 }
+
+/// Regression: JSON numbers must parse to the nearest double (serde_json's `float_roundtrip`);
+/// without it "13.700000000000001" came in one ulp off and the JSON and packed paths differed
+/// in the last bit.
+#[test]
+fn json_numbers_parse_exactly() {
+    let text = r#"{"given": {"p": [13.700000000000001, 15.600000000000001], "T": [218.0, 50.0]}, "want": ["h"], "encoding": "f64le"}"#;
+    let params: Value = serde_json::from_str(text).unwrap();
+    let p = [13.700000000000001f64, 15.600000000000001];
+    assert_eq!(
+        params["given"]["p"][0].as_f64().unwrap().to_bits(),
+        p[0].to_bits()
+    );
+    let a = unpack(&call("water.batch", params).unwrap()["columns"]["h"]);
+    let b = unpack(
+        &call(
+            "water.batch",
+            json!({"given": {"p": pack(&p), "T": pack(&[218.0, 50.0])}, "want": ["h"], "encoding": "f64le"}),
+        )
+        .unwrap()["columns"]["h"],
+    );
+    assert_eq!(a[0].to_bits(), b[0].to_bits());
+    assert_eq!(a[1].to_bits(), b[1].to_bits());
+}

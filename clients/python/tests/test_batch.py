@@ -72,7 +72,7 @@ def test_chunking_120000_rows(client, monkeypatch, capsys):
         return real(method, params)
 
     monkeypatch.setattr(client, "call_raw", counting)
-    out = client.batch(df, want=["h"], chunk=50000, progress=True)
+    out = client.batch(df, want=["h"], chunk=50000, progress=True, packed=False)
     assert sizes == [50000, 50000, 20000]
     assert len(out) == n
     # a few rows against single calls, at the start, across chunk borders and the end
@@ -82,3 +82,22 @@ def test_chunking_120000_rows(client, monkeypatch, capsys):
     # the grid is all single-phase: no row fails, and every h is a number
     assert out["errors"].isna().all() and out["h"].notna().all()
     assert "water.batch" in capsys.readouterr().err  # the progress bar (tqdm or the fallback)
+
+
+def test_packed_path_equals_json_path(client):
+    """Issue: columns at memory speed. The packed path (POST /columns over HTTP) gives the same
+    numbers as the JSON path, bit for bit, with NaN and an error for a bad row."""
+    np = pytest.importorskip("numpy")
+    n = 30000
+    p = np.array([0.5 + (i % 200) * 0.1 for i in range(n)])
+    t = np.array([20.0 + (i % 331) * 1.5 for i in range(n)])
+    t[5] = -50.0
+    df = pd.DataFrame({"p": p, "T": t})
+    fast = client.batch(df, want=["h", "s", "v"], progress=False, chunk=12000)
+    slow = client.batch(df, want=["h", "s", "v"], progress=False, packed=False)
+    for w in ("h", "s", "v"):
+        a = fast[w].to_numpy()
+        b = slow[w].to_numpy(dtype=float)
+        assert np.array_equal(a.view(np.uint64)[~np.isnan(a)], b.view(np.uint64)[~np.isnan(b)]), w
+        assert np.isnan(a[5]) and np.isnan(b[5])
+    assert "row 5" in fast["errors"].iloc[5] and fast["errors"].iloc[0] is None

@@ -18,9 +18,9 @@ from conftest import REPO
 # second, hand-kept view so that a bug in reading the document cannot hide.
 CONTRACT = {
     "water.state": {"given", "units", "ambient", "formulation", "backward_only", "metastable", "prefer"},
-    "water.batch": {"given", "want", "units", "ambient", "formulation", "backward_only", "metastable",
-                    "prefer"},
-    "water.saturation": {"T", "p", "units", "ambient"},
+    "water.batch": {"given", "want", "encoding", "units", "ambient", "formulation", "backward_only",
+                    "metastable", "prefer"},
+    "water.saturation": {"T", "p", "units", "ambient", "formulation"},
     "water.curve": {"kind", "p", "T", "s", "from", "to", "points", "units"},
     "turbine.expand": {"inlet", "outlet_p", "efficiency", "outlet", "units", "ambient"},
     "turbine.train": {"inlet", "stages", "units", "ambient"},
@@ -37,6 +37,8 @@ CONTRACT = {
     "cycle.rankine": {"boiler_p", "boiler_T", "reheat_p", "reheat_T", "condenser_p", "condenser_T",
                       "turbine_efficiency", "pump_efficiency", "heaters", "flow", "net_power", "units",
                       "ambient"},
+    "balance.solve": {"network", "units", "ambient"},
+    "balance.sweep": {"network", "path", "from", "to", "points", "streams", "units", "ambient"},
 }
 
 

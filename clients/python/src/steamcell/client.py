@@ -136,7 +136,8 @@ class Client:
         return self._tr
 
     def batch(self, data: Any, given: Optional[Dict[str, Any]] = None, units: Optional[str] = None,
-              want: Optional[Sequence[str]] = None, chunk: int = 50000, progress: bool = True,
+              want: Optional[Sequence[str]] = None, chunk: Optional[int] = None,
+              progress: bool = True, packed: Optional[bool] = None,
               **opts: Any) -> Any:
         """Properties for many states (historian columns) through ``water.batch``.
 
@@ -149,7 +150,18 @@ class Client:
         Returns a DataFrame (when pandas is installed and ``data`` is one; else a dict of lists)
         with one column per ``want`` plus ``errors`` (None or the row's message). A bad row gives
         NaN and its error; only a bad request as a whole raises.
+
+        With numpy installed and plain numeric columns (``packed`` not False, no "phase" in
+        ``want``) the numbers travel packed: ``POST /columns`` with raw little-endian doubles
+        over HTTP, ``water.batch`` with base64 ``f64le`` columns over stdio; chunks of
+        ``chunk`` rows (default 250,000) on the kept-alive connection. The numbers are the same
+        bit for bit as on the JSON path (default chunk 50,000), which ``packed=False`` forces.
         """
+        if packed is not False:
+            fast = self._batch_packed(data, given, units, want, chunk, progress, opts)
+            if fast is not None:
+                return fast
+        chunk = chunk or 50000
         columns, index, is_frame = _columns_of(data)
         if given is None:
             given = {k: k for k in STATE_KEYS if k in columns}
@@ -210,6 +222,108 @@ class Client:
         finally:
             bar.close()
         return _result_table(out, errs, want_list, index, is_frame)
+
+
+    # -- packed columns (numpy present): numbers travel as raw little-endian doubles
+    PACKED_CHUNK = 250_000
+
+    def _batch_packed(self, data, given, units, want, chunk, progress, opts):
+        """The packed path of :meth:`batch`, or None when it does not apply (no numpy,
+        columns that are not plain numbers, unit tuples in ``given``, or "phase" wanted)."""
+        try:
+            import numpy as np  # type: ignore
+        except ImportError:
+            return None
+        if opts.get("encoding") == "json":
+            return None
+        opts = {k: v for k, v in opts.items() if k != "encoding"}
+        want_list = list(want) if want is not None else list(DEFAULT_WANT)
+        if "phase" in want_list:
+            return None
+        try:
+            import pandas as pd  # type: ignore
+        except ImportError:
+            pd = None
+        is_frame = pd is not None and isinstance(data, pd.DataFrame)
+        if not (is_frame or isinstance(data, dict)):
+            return None
+        names = list(data.columns) if is_frame else list(data.keys())
+        if given is None:
+            given = {k: k for k in STATE_KEYS if k in names}
+        if len(given) != 2 or any(not isinstance(v, str) for v in given.values()):
+            return None
+        arrays = []
+        for key, col in given.items():
+            if col not in names:
+                return None
+            try:
+                a = np.ascontiguousarray(np.asarray(data[col], dtype="<f8"))
+            except (TypeError, ValueError):
+                return None
+            arrays.append(a)
+        n = len(arrays[0])
+        if len(arrays[1]) != n:
+            raise errors.InvalidInput("the input columns differ in length")
+        keys = list(given.keys())
+        out = {w: np.empty(n, dtype="<f8") for w in want_list}
+        errs: List[Optional[str]] = [None] * n
+        step = max(1, int(chunk or self.PACKED_CHUNK))
+        bar = _Progress(n, enabled=progress and n > 0)
+        header_base: Dict[str, Any] = dict(opts)
+        if units is not None:
+            header_base["units"] = units
+        post = getattr(self._tr, "post_bytes", None)
+        try:
+            for start in range(0, n, step):
+                stop = min(n, start + step)
+                cols, failed = self._packed_chunk(np, post, keys, want_list, header_base,
+                                                  arrays[0][start:stop], arrays[1][start:stop])
+                for w, c in zip(want_list, cols):
+                    out[w][start:stop] = c
+                for e in failed:
+                    i = start + int(e["row"])
+                    msg = re.sub(r"^row \d+:\s*", "", str(e.get("message", "")))
+                    errs[i] = f"row {i}: [{e.get('code')}] {msg}"
+                bar.update(stop - start)
+        finally:
+            bar.close()
+        if is_frame:
+            frame = pd.DataFrame(out, index=data.index)
+            frame["errors"] = pd.Series(errs, index=data.index, dtype=object)
+            return frame
+        table: Dict[str, Any] = dict(out)
+        table["errors"] = errs
+        return table
+
+    def _packed_chunk(self, np, post, keys, want_list, header_base, a, b):
+        """One chunk: POST /columns over HTTP, else water.batch with f64le columns."""
+        import base64
+        import json as _json
+        import struct
+        rows = len(a)
+        if post is not None:
+            header = dict(header_base, given=keys, rows=rows, want=want_list)
+            head = _json.dumps(header).encode()
+            body = struct.pack("<I", len(head)) + head + a.tobytes() + b.tobytes()
+            status, ctype, data = post("/columns", body, "application/x-steamcell-columns")
+            if status != 200:
+                try:
+                    err = _json.loads(data)
+                except ValueError:
+                    raise errors.TransportError(f"HTTP {status} from /columns: {data[:200]!r}")
+                raise errors.from_rpc(err)
+            (hl,) = struct.unpack_from("<I", data, 0)
+            head = _json.loads(data[4:4 + hl])
+            arr = np.frombuffer(data, dtype="<f8", offset=4 + hl)
+            cols = [arr[k * rows:(k + 1) * rows] for k in range(len(want_list))]
+            return cols, head.get("failed_rows", [])
+        enc = lambda x: {"f64le": base64.b64encode(x.tobytes()).decode("ascii")}  # noqa: E731
+        params = dict(header_base, given={keys[0]: enc(a), keys[1]: enc(b)},
+                      want=want_list, encoding="f64le")
+        res = self.call_raw("water.batch", params)
+        cols = [np.frombuffer(base64.b64decode(res["columns"][w]["f64le"]), dtype="<f8")
+                for w in want_list]
+        return cols, res.get("failed_rows", [])
 
 
 def _cell(v: Any, unit: Optional[str]) -> Tuple[Any, Optional[str]]:

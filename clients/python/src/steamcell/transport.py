@@ -125,6 +125,30 @@ class HttpTransport:
         except ValueError as e:
             raise TransportError(f"not a JSON-RPC answer from {self.url}: {data[:200]!r}") from e
 
+    def post_bytes(self, path: str, body: bytes, content_type: str) -> "tuple[int, str, bytes]":
+        """A raw POST on the kept-alive connection: (status, content type, body bytes)."""
+        with self._lock:
+            for attempt in (0, 1):
+                try:
+                    conn = self._connection()
+                    conn.request("POST", path, body=body,
+                                 headers={"Content-Type": content_type,
+                                          "Connection": "keep-alive"})
+                    resp = conn.getresponse()
+                    data = resp.read()
+                    if resp.getheader("Connection", "").lower() == "close":
+                        self._drop()
+                    return resp.status, resp.getheader("Content-Type", ""), data
+                except (http.client.RemoteDisconnected, http.client.CannotSendRequest,
+                        ConnectionResetError, BrokenPipeError) as e:
+                    self._drop()
+                    if attempt:
+                        raise TransportError(f"cannot reach steamcell at {self.url}: {e}") from e
+                except OSError as e:
+                    self._drop()
+                    raise TransportError(f"cannot reach steamcell at {self.url}: {e}") from e
+        raise TransportError("unreachable")
+
     def get(self, path: str) -> "tuple[int, str]":
         """A plain GET (for /health and /cell/...): (status, body text)."""
         with self._lock:
