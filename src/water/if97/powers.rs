@@ -86,7 +86,9 @@ pub(crate) const fn jn_max(t: &[Jn]) -> i32 {
 }
 
 /// `[x^lo, x^(lo+1), ..., x^(lo+N-1)]`, built by multiplication outward from x^0 = 1 (exactly).
-/// For `lo > 0` the first entry is `x.powi(lo)`. Negative powers of `x = 0` are infinite.
+/// Four interleaved chains (each step multiplies by x^4) keep the dependency chains short, so
+/// the table costs about a quarter of the latency of one long chain. For `lo > 0` the first
+/// entries are `x.powi(lo + k)`. Negative powers of `x = 0` are infinite.
 #[inline(always)]
 pub(crate) fn powers<const N: usize>(x: f64, lo: i32) -> [f64; N] {
     let mut out = [0.0; N];
@@ -94,36 +96,63 @@ pub(crate) fn powers<const N: usize>(x: f64, lo: i32) -> [f64; N] {
         return out;
     }
     if lo > 0 {
-        out[0] = x.powi(lo);
-        let mut k = 1;
+        let x4 = (x * x) * (x * x);
+        for k in 0..N.min(4) {
+            out[k] = x.powi(lo + k as i32);
+        }
+        let mut k = 4;
         while k < N {
-            out[k] = out[k - 1] * x;
+            out[k] = out[k - 4] * x4;
             k += 1;
         }
         return out;
     }
     let z = (-lo) as usize; // index of x^0
-    if z < N {
-        out[z] = 1.0;
-        let mut k = z + 1;
-        while k < N {
-            out[k] = out[k - 1] * x;
-            k += 1;
-        }
+    let x2 = x * x;
+    let x4 = x2 * x2;
+    // Upward from x^0: seeds x^0..x^3, then steps of x^4.
+    let seeds_up = [1.0, x, x2, x2 * x];
+    let mut k = z;
+    while k < N {
+        out[k] = if k - z < 4 {
+            seeds_up[k - z]
+        } else {
+            out[k - 4] * x4
+        };
+        k += 1;
     }
+    // Downward from x^0: seeds x^-1..x^-4, then steps of x^-4.
     let xi = 1.0 / x;
-    // Downward from x^0 (or from beyond the end when the whole table is negative powers).
-    let mut acc = 1.0;
-    let mut e = 0i32;
-    while e > lo {
-        acc *= xi;
-        e -= 1;
-        let idx = (e - lo) as usize;
+    let xi2 = xi * xi;
+    let xi4 = xi2 * xi2;
+    let seeds_down = [xi, xi2, xi2 * xi, xi4];
+    let mut e = 1usize; // exponent -e
+    while e <= z {
+        let idx = z - e;
+        let v = if e <= 4 {
+            seeds_down[e - 1]
+        } else {
+            // x^-e = x^-(e-4) * x^-4; index of x^-(e-4) is idx + 4 (may be beyond the table
+            // when the table holds only negative powers and z >= N).
+            out_or(&out, idx + 4, xi, e - 4) * xi4
+        };
         if idx < N {
-            out[idx] = acc;
+            out[idx] = v;
         }
+        e += 1;
     }
     out
+}
+
+/// `out[i]` when inside the table, else x^-e recomputed (only for tables of negative powers
+/// that do not reach x^0).
+#[inline(always)]
+fn out_or<const N: usize>(out: &[f64; N], i: usize, xi: f64, e: usize) -> f64 {
+    if i < N {
+        out[i]
+    } else {
+        xi.powi(e as i32)
+    }
 }
 
 /// A sum S(x, y) = sum n x^I y^J and its first and second partial derivatives.
