@@ -426,8 +426,20 @@ impl Preset {
     /// All presets.
     pub const ALL: [Preset; 3] = [Preset::Si, Preset::Engineering, Preset::Us];
 
-    /// The preset's unit for a dimension.
+    /// The preset's unit for a dimension (looked up once per process, then from a table: this
+    /// is on the hot path of every batch row).
     pub fn unit(self, dim: Dim) -> Unit {
+        static TABLE: std::sync::OnceLock<Vec<Unit>> = std::sync::OnceLock::new();
+        let table = TABLE.get_or_init(|| {
+            Preset::ALL
+                .iter()
+                .flat_map(|p| Dim::ALL.iter().map(move |d| p.unit_uncached(*d)))
+                .collect()
+        });
+        table[self as usize * Dim::ALL.len() + dim as usize]
+    }
+
+    fn unit_uncached(self, dim: Dim) -> Unit {
         let symbol = match (self, dim) {
             (Preset::Si, Dim::Pressure) => "Pa",
             (Preset::Engineering, Dim::Pressure) => "MPa",
@@ -721,6 +733,17 @@ mod tests {
         assert!((t("100") - 373.15).abs() < 1e-12);
         let d = parse_text("dT", Dim::TemperatureDifference, "18 degF", Preset::Si, 0.1).unwrap();
         assert!((d.internal - 10.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn preset_table_matches_lookup() {
+        for (pi, p) in Preset::ALL.iter().enumerate() {
+            assert_eq!(*p as usize, pi);
+            for (di, d) in Dim::ALL.iter().enumerate() {
+                assert_eq!(*d as usize, di);
+                assert_eq!(p.unit(*d), p.unit_uncached(*d));
+            }
+        }
     }
 
     #[test]

@@ -128,8 +128,9 @@ fn compute(body: &[u8]) -> Result<Vec<u8>> {
     for (k, name) in h.given.iter().enumerate() {
         let (name, dim) = input_dim(name)?;
         let bytes = &data[k * h.rows * 8..(k + 1) * h.rows * 8];
+        use rayon::prelude::*;
         let values: Vec<Result<f64>> = bytes
-            .chunks_exact(8)
+            .par_chunks_exact(8)
             .map(|c| {
                 let x = f64::from_le_bytes(c.try_into().expect("chunks of 8"));
                 Error::check_finite(name, x)?;

@@ -862,16 +862,19 @@ pub fn solve_rows(
 /// the IF97 region number.
 pub fn numeric_column(ctx: &Ctx, states: &[Result<State>], name: &str, f: Formulation) -> Vec<f64> {
     let dim = dim_of(name);
-    states
-        .iter()
-        .map(|r| match (r, dim) {
-            (Ok(st), _) if name == "region" => st.region.number() as f64,
-            (Ok(st), Some(d)) => field_value(st, f, None, name)
-                .and_then(|x| ctx.out(d, x))
-                .unwrap_or(f64::NAN),
-            _ => f64::NAN,
-        })
-        .collect()
+    let one = |r: &Result<State>| match (r, dim) {
+        (Ok(st), _) if name == "region" => st.region.number() as f64,
+        (Ok(st), Some(d)) => field_value(st, f, None, name)
+            .and_then(|x| ctx.out(d, x))
+            .unwrap_or(f64::NAN),
+        _ => f64::NAN,
+    };
+    if states.len() >= PARALLEL_THRESHOLD {
+        use rayon::prelude::*;
+        states.par_iter().map(one).collect()
+    } else {
+        states.iter().map(one).collect()
+    }
 }
 
 /// The dimension of an input column name, or an error listing the accepted names.

@@ -97,8 +97,8 @@ pub(crate) fn powers<const N: usize>(x: f64, lo: i32) -> [f64; N] {
     }
     if lo > 0 {
         let x4 = (x * x) * (x * x);
-        for k in 0..N.min(4) {
-            out[k] = x.powi(lo + k as i32);
+        for (k, o) in out.iter_mut().enumerate().take(4) {
+            *o = x.powi(lo + k as i32);
         }
         let mut k = 4;
         while k < N {
