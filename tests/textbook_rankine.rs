@@ -136,11 +136,21 @@ fn moran_shapiro_examples_8_1_and_8_2() {
     s.net_power = Some(100_000.0);
     let ideal = rankine(&s).unwrap();
     near("ideal efficiency", ideal.thermal_efficiency, 0.371, 0.003);
-    near("ideal flow (kg/h)", ideal.flow.unwrap() * 3600.0 / 1e5, 3.77, 0.02);
+    near(
+        "ideal flow (kg/h)",
+        ideal.flow.unwrap() * 3600.0 / 1e5,
+        3.77,
+        0.02,
+    );
     s.turbine_efficiency = 0.85;
     s.pump_efficiency = 0.85;
     let real = rankine(&s).unwrap();
     near("real efficiency", real.thermal_efficiency, 0.314, 0.003);
-    near("real flow (kg/h)", real.flow.unwrap() * 3600.0 / 1e5, 4.449, 0.02);
+    near(
+        "real flow (kg/h)",
+        real.flow.unwrap() * 3600.0 / 1e5,
+        4.449,
+        0.02,
+    );
     assert!(real.energy_residual < 1e-9);
 }
