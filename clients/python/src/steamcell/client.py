@@ -103,6 +103,11 @@ class Client:
         result = self.call_raw("water.state", params)
         return State(wrap(result))
 
+    def balance(self, network: Any, units: Optional[str] = None, **opts: Any):
+        """Solves a site steam balance (``balance.solve``); see :mod:`steamcell.balance`."""
+        from . import balance as _b
+        return _b.solve(self, network, units=units, **opts)
+
     def info(self) -> Any:
         """``server.info``."""
         return self.call("server.info")

@@ -1,0 +1,66 @@
+"""Site balances from Python against the real server: the example site of examples/site (an
+invented mill) solves, its tables carry every stream and unit, the site balance closes (the
+server's own totals residual), a sweep reports each point, and the charts render."""
+import json
+
+import pytest
+
+import steamcell
+from steamcell import balance
+from conftest import REPO
+
+pd = pytest.importorskip("pandas")
+pytest.importorskip("matplotlib")
+
+
+def site():
+    return json.loads((REPO / "examples" / "site" / "site.json").read_text())
+
+
+def test_example_site_solves_into_tables(client):
+    b = client.balance(site())
+    assert isinstance(b.streams, pd.DataFrame) and len(b.streams) == len(site()["streams"])
+    assert set(b.units.index) == set(site()["units"])
+    assert b.totals["energy_residual"] < 1e-9 and b.totals["mass_residual"] < 1e-9
+    assert "licensed engineer" in b.caution
+    # Every stream's flow is finite and its state is there.
+    assert b.streams["h"].notna().all()
+
+
+def test_network_builder_matches_plain_dicts(client):
+    net = balance.Network()
+    for name, u in site()["units"].items():
+        spec = {k: v for k, v in u.items() if k != "kind"}
+        net.unit(name, u["kind"], **spec)
+    for name, s in site()["streams"].items():
+        fixed = {k: v for k, v in s.items() if k not in ("from", "to")}
+        net.stream(name, s["from"], s["to"], **fixed)
+    a = client.balance(net).totals
+    b = client.balance(site()).totals
+    assert a == b
+
+
+def test_sweep_and_charts(client, tmp_path):
+    net = site()
+    users = [n for n, u in net["units"].items() if u["kind"] == "user"]
+    first = users[0]
+    demand = net["units"][first]["demand"]
+    assert isinstance(demand, (int, float)) or isinstance(demand, str)
+    table = balance.sweep(client, net, f"units.{first}.demand", 1.0, 6.0, points=4)
+    assert len(table) == 4 and "fuel_heat_input" in table.columns
+    fig = balance.plot_sweep(table)
+    fig.savefig(tmp_path / "sweep.png")
+    fig2 = balance.plot_energy_flows(client.balance(net))
+    fig2.savefig(tmp_path / "flows.png", dpi=80)
+    assert (tmp_path / "flows.png").stat().st_size > 5000
+    assert fig2.axes[0].get_title().startswith("Site energy flows")
+
+
+def test_underspecified_network_raises_with_the_stream_named(client):
+    net = site()
+    # Drop every fixed flow of the first boiler steam stream's unit spec: the diagnosis names it.
+    boiler = next(n for n, u in net["units"].items() if u["kind"] == "boiler")
+    net["units"][boiler].pop("steam_flow", None)
+    with pytest.raises(steamcell.Error) as e:
+        client.balance(net)
+    assert "specified" in str(e.value)
