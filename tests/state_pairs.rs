@@ -276,3 +276,14 @@ fn backward_only_is_the_fast_path() {
     );
     assert!((refined.props.h - 500.0).abs() < 1e-9 * 500.0);
 }
+
+/// Regression (found by the wet-pair property test): a wet (h, s) at the triple point, where the
+/// saturation-line search has two sign changes in its first cell unless states with x outside
+/// 0..1 are kept out of the search.
+#[test]
+fn wet_hs_at_the_triple_point() {
+    let st = state::at_tx(273.16, 0.001).unwrap();
+    let got = state::at_hs(st.props.h, st.props.s, &O).unwrap();
+    assert!((got.props.t - 273.16).abs() < 1e-7, "{}", got.props.t);
+    assert!((got.x.unwrap() - 0.001).abs() < 1e-9);
+}

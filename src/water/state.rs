@@ -661,6 +661,10 @@ fn vapour_side(p: f64, q: Q, target: f64, t_low: f64, opts: &Options) -> Result<
     Ok(st)
 }
 
+/// How far (K) the backward-equation temperature must lie from the saturation temperature for
+/// the fast (p,h)/(p,s) path (the backward equations are good to 10 to 25 mK, IAPWS R7-97(2012)).
+const FAST_MARGIN: f64 = 0.5;
+
 /// Enthalpy at the critical point, kJ/kg (IF97 region 3 at 322 kg/m3, 647.096 K; about
 /// 2087.5). Only a splitting value for the order of tests.
 const H_C: f64 = 2087.5;
@@ -703,6 +707,29 @@ fn at_p_q(p: f64, q: Q, target: f64, opts: &Options) -> Result<State> {
         // Test the nearer side of the saturation line first (split at the critical value), so
         // that a single-phase state costs one saturation evaluation, not two.
         let vapour_first = target >= if q == Q::H { H_C } else { S_C };
+        // Fast path: when the backward equation puts the answer clearly away from the
+        // saturation line (its stated accuracy is tens of mK), solve directly and only check
+        // afterwards that the refined answer is on that side; otherwise decide with the
+        // saturated states below.
+        if !opts.backward_only {
+            let side = if vapour_first { Region::R2 } else { Region::R1 };
+            let t0 = backward_t(side, p, q, target);
+            let clear = if vapour_first {
+                t0 > ts + FAST_MARGIN && t0 < T_MAX_123 - 10.0
+            } else {
+                t0 < ts - FAST_MARGIN && t0 > T_MIN + 5.0
+            };
+            if clear {
+                if let Ok(st) = newton_t(side, p, q, target, t0, opts) {
+                    let t = st.props.t;
+                    if (vapour_first && t > ts && t <= T_MAX_123)
+                        || (!vapour_first && t < ts && t >= T_MIN)
+                    {
+                        return Ok(st);
+                    }
+                }
+            }
+        }
         if vapour_first {
             let v = region2::props(p, ts);
             if target > q.of(&v) {
@@ -844,6 +871,18 @@ fn finish_hs(region: Region, h: f64, s: f64, x1: f64, t0: f64, opts: &Options) -
                 validate_region(&st5)?;
                 return Ok(st5);
             }
+            // Near a region boundary the SR4-04 map may pick the neighbour: when the answer
+            // lies in another region, refine it there too and keep that one if it stays inside.
+            if let Ok(expect) = regions::region_pt(pr.p, pr.t) {
+                if expect != region && matches!(expect, Region::R1 | Region::R2 | Region::R3) {
+                    let x1 = if expect == Region::R3 { pr.rho } else { pr.p };
+                    if let Ok((pr2, it2)) = newton2(expect, Q::H, h, Q::S, s, x1, pr.t, opts) {
+                        if regions::region_pt(pr2.p, pr2.t).ok() == Some(expect) {
+                            return Ok(single(pr2, expect, it + it2));
+                        }
+                    }
+                }
+            }
             match validate_region(&st) {
                 Ok(()) => Ok(st),
                 Err(e) => generic_hs(h, s, opts).map_err(|_| e),
@@ -881,7 +920,16 @@ fn wet_hs(h: f64, s: f64, t0: f64, opts: &Options) -> Result<State> {
         return Ok(f(t0.clamp(T_MIN, T_C))?.1);
     }
     let (lo, hi) = (T_MIN, T_C - 1e-3);
-    let fs = |t: f64| f(t).map(|r| r.0);
+    // Outside 0 <= x <= 1 the mixture is not a state; return a value of the sign of the side
+    // it is on (x < 0: above the answer's temperature, x > 1: below), so that the root is the
+    // only sign change along the saturation line.
+    let fs = |t: f64| {
+        f(t).map(|(d, st)| match st.x {
+            Some(x) if x < 0.0 => -1.0 - x.abs(),
+            Some(x) if x > 1.0 => x,
+            _ => d,
+        })
+    };
     // SR4-04 Tsat(h,s) is valid only on the high-entropy side; near it bracket the guess,
     // elsewhere scan the saturation line for sign changes with 0 <= x <= 1.
     let mut t_found = None;
