@@ -8,7 +8,7 @@
 //!
 //! Invariant: thin wrappers; the calculations are `crate::plant`.
 
-use super::water::{pair_from_values, state_result, Ctx, Input, StateResult};
+use super::water::{pair_from_values, state_key_values, state_result, Ctx, Input, StateResult};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::components as c;
@@ -127,23 +127,10 @@ pub struct Stream {
 
 impl Stream {
     fn values(&self, ctx: &Ctx, name: &str) -> Result<BTreeMap<&'static str, f64>> {
-        let fields: [(&'static str, &Option<Input>, Dim); 8] = [
-            ("p", &self.p, Dim::Pressure),
-            ("T", &self.t, Dim::Temperature),
-            ("h", &self.h, Dim::SpecificEnergy),
-            ("s", &self.s, Dim::SpecificEntropy),
-            ("u", &self.u, Dim::SpecificEnergy),
-            ("v", &self.v, Dim::SpecificVolume),
-            ("rho", &self.rho, Dim::Density),
-            ("x", &self.x, Dim::Dimensionless),
+        let keys = [
+            &self.p, &self.t, &self.h, &self.s, &self.u, &self.v, &self.rho, &self.x,
         ];
-        let mut vals = BTreeMap::new();
-        for (q, value, dim) in fields {
-            if let Some(input) = value {
-                vals.insert(q, ctx.value(&format!("{name}.{q}"), dim, input)?);
-            }
-        }
-        Ok(vals)
+        state_key_values(ctx, &format!("{name}."), keys)
     }
 
     /// The stream's state.

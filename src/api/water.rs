@@ -147,26 +147,39 @@ pub struct GivenPair {
 /// The pair names accepted, for messages.
 pub const PAIRS: &str = "(p,T), (p,h), (p,s), (h,s), (T,x), (p,x), (T,h), (T,s), (p,v), (p,rho), (T,v), (T,rho), (u,v), (u,rho), (p,u)";
 
+/// The state keys given among the eight, converted to internal units; `prefix` (e.g.
+/// "inlet.") names them in errors. Shared by `water.state` and the component streams.
+pub fn state_key_values(
+    ctx: &Ctx,
+    prefix: &str,
+    keys: [&Option<Input>; 8],
+) -> Result<BTreeMap<&'static str, f64>> {
+    const NAMES: [(&str, Dim); 8] = [
+        ("p", Dim::Pressure),
+        ("T", Dim::Temperature),
+        ("h", Dim::SpecificEnergy),
+        ("s", Dim::SpecificEntropy),
+        ("u", Dim::SpecificEnergy),
+        ("v", Dim::SpecificVolume),
+        ("rho", Dim::Density),
+        ("x", Dim::Dimensionless),
+    ];
+    let mut vals = BTreeMap::new();
+    for ((name, dim), value) in NAMES.into_iter().zip(keys) {
+        if let Some(input) = value {
+            vals.insert(name, ctx.value(&format!("{prefix}{name}"), dim, input)?);
+        }
+    }
+    Ok(vals)
+}
+
 impl GivenPair {
     /// Converts to a physics pair in internal units.
     pub fn to_given(&self, ctx: &Ctx) -> Result<Given> {
-        let fields: [(&str, &Option<Input>, Dim); 8] = [
-            ("p", &self.p, Dim::Pressure),
-            ("T", &self.t, Dim::Temperature),
-            ("h", &self.h, Dim::SpecificEnergy),
-            ("s", &self.s, Dim::SpecificEntropy),
-            ("u", &self.u, Dim::SpecificEnergy),
-            ("v", &self.v, Dim::SpecificVolume),
-            ("rho", &self.rho, Dim::Density),
-            ("x", &self.x, Dim::Dimensionless),
+        let keys = [
+            &self.p, &self.t, &self.h, &self.s, &self.u, &self.v, &self.rho, &self.x,
         ];
-        let mut vals: BTreeMap<&str, f64> = BTreeMap::new();
-        for (name, value, dim) in fields {
-            if let Some(input) = value {
-                vals.insert(name, ctx.value(name, dim, input)?);
-            }
-        }
-        pair_from_values(&vals)
+        pair_from_values(&state_key_values(ctx, "", keys)?)
     }
 }
 
