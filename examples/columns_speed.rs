@@ -20,32 +20,33 @@ fn main() {
         );
     }
     {
+        use steamcell::api::rows::{compute, InputColumn};
+        use steamcell::api::water::Ctx;
+        use steamcell::units::{Dim, Preset};
         use steamcell::water::state::Options;
         let n = 1_000_000;
-        let a: Vec<steamcell::Result<f64>> =
-            (0..n).map(|i| Ok(0.1 + (i % 997) as f64 * 0.02)).collect();
-        let b: Vec<steamcell::Result<f64>> = (0..n)
-            .map(|i| Ok(150.0 + (i % 991) as f64 * 0.45 + 273.15))
-            .collect();
+        let p: Vec<f64> = (0..n).map(|i| 0.1 + (i % 997) as f64 * 0.02).collect();
+        let t: Vec<f64> = (0..n).map(|i| 150.0 + (i % 991) as f64 * 0.45).collect();
+        let ctx = Ctx::new(None, None).unwrap();
+        let pre = Preset::Engineering;
         let t0 = Instant::now();
-        let r = steamcell::api::water::solve_rows(
+        let a = InputColumn::from_numbers("p", pre.unit(Dim::Pressure), &p);
+        let b = InputColumn::from_numbers("T", pre.unit(Dim::Temperature), &t);
+        let want: Vec<String> = ["h", "s", "v"].iter().map(|s| s.to_string()).collect();
+        let r = compute(
+            &ctx,
             &Options::STANDARD,
             steamcell::water::Formulation::If97,
-            "p",
             &a,
-            "T",
             &b,
+            &want,
         )
         .unwrap();
+        let dt = t0.elapsed().as_secs_f64();
         println!(
-            "solve_rows 1M: {:.3} s ({} ok)",
-            t0.elapsed().as_secs_f64(),
-            r.iter().filter(|x| x.is_ok()).count()
-        );
-        println!(
-            "size of Result<f64> {} Result<State> {}",
-            std::mem::size_of::<steamcell::Result<f64>>(),
-            std::mem::size_of::<steamcell::Result<steamcell::water::state::State>>()
+            "row pipeline 1M (p,T) -> h, s, v: {dt:.3} s, {:.2} M rows/s ({} failed)",
+            n as f64 / dt / 1e6,
+            r.failed.len()
         );
     }
     for n in [100_000usize, 1_000_000] {

@@ -82,6 +82,28 @@ proptest! {
     #[test]
     fn region5_pairs((p, t) in point_in(Region::R5)) { pairs_round_trip(p, t)?; }
 
+    /// The bulk first-order path (`at_pt_first`, used by `water.batch` and `/columns` when only
+    /// first-order properties are wanted) gives the same bits as `at_pt` in every region, and
+    /// NaN, not a wrong number, for the second-order properties it leaves out.
+    #[test]
+    fn first_order_path_is_bit_identical((p, t) in prop_oneof![
+        point_in(Region::R1), point_in(Region::R2), point_in(Region::R3), point_in(Region::R5)
+    ]) {
+        let full = state::at_pt(p, t, &O).unwrap();
+        let lean = state::at_pt_first(p, t, &O).unwrap();
+        let (a, b) = (full.props, lean.props);
+        for (name, x, y) in [
+            ("p", a.p, b.p), ("T", a.t, b.t), ("v", a.v, b.v), ("rho", a.rho, b.rho),
+            ("u", a.u, b.u), ("h", a.h, b.h), ("s", a.s, b.s), ("z", a.z, b.z),
+        ] {
+            prop_assert_eq!(x.to_bits(), y.to_bits(), "{} at p={}, T={}", name, p, t);
+        }
+        prop_assert_eq!((full.region, full.phase, full.x), (lean.region, lean.phase, lean.x));
+        if full.region != Region::R3 {
+            prop_assert!(b.cp.is_nan() && b.w.is_nan() && b.kappa_t.is_nan());
+        }
+    }
+
     /// (T,h), (T,s) and (u,v) are slower (branch scans); fewer cases. Near an extremum of h or
     /// s along a hot-liquid isotherm these pairs have two close solutions, so the check is the
     /// promise itself: the answer reproduces both inputs to 1e-9.

@@ -20,7 +20,8 @@
 //!
 //! Invariant: results are bit-identical to `water.batch` with `encoding: "f64le"`.
 
-use super::water::{self, check_want, column_unit, input_dim, numeric_column, solve_rows, Ctx};
+use super::rows::{self, InputColumn};
+use super::water::{self, check_want, column_unit, input_dim, Ctx};
 use super::ApiError;
 use crate::error::{Error, Result};
 use crate::water::Formulation;
@@ -128,39 +129,21 @@ fn compute(body: &[u8]) -> Result<Vec<u8>> {
     for (k, name) in h.given.iter().enumerate() {
         let (name, dim) = input_dim(name)?;
         let bytes = &data[k * h.rows * 8..(k + 1) * h.rows * 8];
-        use rayon::prelude::*;
-        let values: Vec<Result<f64>> = bytes
-            .par_chunks_exact(8)
-            .map(|c| {
-                let x = f64::from_le_bytes(c.try_into().expect("chunks of 8"));
-                Error::check_finite(name, x)?;
-                Ok(ctx.preset.to_internal(dim, x))
-            })
-            .collect();
-        cols.push((name, values));
+        cols.push(InputColumn::from_le_bytes(
+            name,
+            ctx.preset.unit(dim),
+            bytes,
+        ));
     }
-    let states = solve_rows(
-        &opts,
-        Formulation::If97,
-        cols[0].0,
-        &cols[0].1,
-        cols[1].0,
-        &cols[1].1,
-    )?;
-    let out: Vec<Vec<f64>> = h
-        .want
+    let out = rows::compute(&ctx, &opts, Formulation::If97, &cols[0], &cols[1], &h.want)?;
+    let failed_rows: Vec<Value> = out
+        .failed
         .iter()
-        .map(|w| numeric_column(&ctx, &states, w, Formulation::If97))
-        .collect();
-    let mut failed_rows = Vec::new();
-    for (i, r) in states.iter().enumerate() {
-        if let Err(e) = r {
+        .map(|(i, e)| {
             let api: ApiError = e.clone().into();
-            failed_rows.push(
-                json!({"row": i, "code": api.code, "message": format!("row {i}: {}", api.message)}),
-            );
-        }
-    }
+            json!({"row": i, "code": api.code, "message": format!("row {i}: {}", api.message)})
+        })
+        .collect();
     let units: serde_json::Map<String, Value> = h
         .want
         .iter()
@@ -178,7 +161,14 @@ fn compute(body: &[u8]) -> Result<Vec<u8>> {
         "failed_rows": failed_rows,
         "formulation": "IAPWS-IF97",
     });
-    Ok(frame(&header, &out))
+    let head = serde_json::to_vec(&header).expect("a JSON value serialises");
+    let mut body = Vec::with_capacity(4 + head.len() + out.n * out.k * 8);
+    body.extend_from_slice(&(head.len() as u32).to_le_bytes());
+    body.extend_from_slice(&head);
+    for j in 0..out.k {
+        out.write_column_le(j, &mut body);
+    }
+    Ok(body)
 }
 
 /// Answers a `/columns` body, counted like a method call.

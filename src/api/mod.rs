@@ -19,6 +19,7 @@ pub mod cell;
 pub mod columns;
 pub mod openrpc;
 pub mod plant;
+pub mod rows;
 pub mod selftest;
 pub mod server_methods;
 pub mod water;

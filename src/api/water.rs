@@ -453,8 +453,20 @@ pub fn field_internal(st: &State, name: &str) -> Option<f64> {
 /// Internal value of a named field of a state solved with `f`; `tr` is the state's transport
 /// (computed here when None and a transport field is asked for).
 pub fn field_value(st: &State, f: Formulation, tr: Option<&Transport>, name: &str) -> Option<f64> {
+    field_index(name).map(|i| field_value_at(st, f, tr, i))
+}
+
+/// The index of a numeric field in [`STATE_FIELDS`].
+pub fn field_index(name: &str) -> Option<usize> {
+    STATE_FIELDS.iter().position(|(n, _)| *n == name)
+}
+
+/// Internal value of the field `STATE_FIELDS[idx]` of a state solved with `f` (NaN where
+/// undefined or for an index beyond the table); `tr` as for [`field_value`]. Resolving the
+/// name once and reading by index keeps string matching out of per-row loops.
+pub fn field_value_at(st: &State, f: Formulation, tr: Option<&Transport>, idx: usize) -> f64 {
     let p = &st.props;
-    if TRANSPORT_FIELDS.contains(&name) {
+    if idx >= 17 {
         let own;
         let tr = match tr {
             Some(t) => t,
@@ -463,34 +475,35 @@ pub fn field_value(st: &State, f: Formulation, tr: Option<&Transport>, name: &st
                 &own
             }
         };
-        return Some(match name {
-            "mu" => tr.mu,
-            "lambda" => tr.lambda,
-            "nu" => tr.nu,
-            "thermal_diffusivity" => tr.a,
-            _ => tr.pr,
-        });
+        return match idx {
+            17 => tr.mu,
+            18 => tr.lambda,
+            19 => tr.nu,
+            20 => tr.a,
+            21 => tr.pr,
+            _ => f64::NAN,
+        };
     }
-    Some(match name {
-        "p" => p.p,
-        "T" => p.t,
-        "rho" => p.rho,
-        "v" => p.v,
-        "u" => p.u,
-        "h" => p.h,
-        "s" => p.s,
-        "cp" => p.cp,
-        "cv" => p.cv,
-        "w" => p.w,
-        "x" => st.x.unwrap_or(f64::NAN),
-        "kappa" => p.kappa,
-        "mu_jt" => p.mu_jt,
-        "alpha_v" => p.alpha_v,
-        "kappa_t" => p.kappa_t,
-        "z" => p.z,
-        "superheat" => superheat(st, f),
-        _ => return None,
-    })
+    // The arms follow the order of STATE_FIELDS (checked by a unit test).
+    match idx {
+        0 => p.p,
+        1 => p.t,
+        2 => p.rho,
+        3 => p.v,
+        4 => p.u,
+        5 => p.h,
+        6 => p.s,
+        7 => p.cp,
+        8 => p.cv,
+        9 => p.w,
+        10 => st.x.unwrap_or(f64::NAN),
+        11 => p.kappa,
+        12 => p.mu_jt,
+        13 => p.alpha_v,
+        14 => p.kappa_t,
+        15 => p.z,
+        _ => superheat(st, f),
+    }
 }
 
 fn superheat(st: &State, f: Formulation) -> f64 {
@@ -745,76 +758,7 @@ pub struct BatchResult {
 /// force, see [`super::limits::max_batch_rows`]).
 pub const MAX_BATCH_ROWS: usize = super::limits::MAX_BATCH_ROWS as usize;
 
-/// Rows above which a batch is computed on all cores. Each row is computed by the same code
-/// either way, so the results are identical bit for bit.
-pub const PARALLEL_THRESHOLD: usize = 2048;
-
-type PairCtor = fn(f64, f64) -> Result<Given>;
-
-fn inv_rho(rho: f64) -> Result<f64> {
-    if rho > 0.0 {
-        Ok(1.0 / rho)
-    } else {
-        Err(Error::out_of_range(
-            "rho",
-            rho,
-            0.0,
-            "kg/m3",
-            crate::error::Bound::Below,
-            "IAPWS-IF97",
-        ))
-    }
-}
-
-/// Every supported pair with its constructor, in the order of [`PAIRS`].
-const PAIR_CTORS: [(&str, &str, PairCtor); 15] = [
-    ("p", "T", |a, b| Ok(Given::PT(a, b))),
-    ("p", "h", |a, b| Ok(Given::PH(a, b))),
-    ("p", "s", |a, b| Ok(Given::PS(a, b))),
-    ("h", "s", |a, b| Ok(Given::HS(a, b))),
-    ("T", "x", |a, b| Ok(Given::TX(a, b))),
-    ("p", "x", |a, b| Ok(Given::PX(a, b))),
-    ("T", "h", |a, b| Ok(Given::TH(a, b))),
-    ("T", "s", |a, b| Ok(Given::TS(a, b))),
-    ("p", "v", |a, b| Ok(Given::PV(a, b))),
-    ("p", "rho", |a, b| Ok(Given::PV(a, inv_rho(b)?))),
-    ("T", "v", |a, b| Ok(Given::TV(a, b))),
-    ("T", "rho", |a, b| Ok(Given::TV(a, inv_rho(b)?))),
-    ("u", "v", |a, b| Ok(Given::UV(a, b))),
-    ("u", "rho", |a, b| Ok(Given::UV(a, inv_rho(b)?))),
-    ("p", "u", |a, b| Ok(Given::PU(a, b))),
-];
-
-/// Which two properties a batch gives, decided once for all rows.
-#[derive(Clone, Copy)]
-struct PairKind {
-    ctor: PairCtor,
-    swap: bool,
-}
-
-impl PairKind {
-    fn new(a: &str, b: &str) -> Result<PairKind> {
-        for (x, y, ctor) in PAIR_CTORS {
-            if (x, y) == (a, b) {
-                return Ok(PairKind { ctor, swap: false });
-            }
-            if (x, y) == (b, a) {
-                return Ok(PairKind { ctor, swap: true });
-            }
-        }
-        Err(Error::invalid(format!(
-            "the pair ({a},{b}) is not supported; accepted pairs: {PAIRS}"
-        )))
-    }
-
-    fn given(&self, va: f64, vb: f64) -> Result<Given> {
-        if self.swap {
-            (self.ctor)(vb, va)
-        } else {
-            (self.ctor)(va, vb)
-        }
-    }
-}
+pub use super::rows::PARALLEL_THRESHOLD;
 
 fn static_name(name: &str) -> Option<(&'static str, Dim)> {
     Some(match name {
@@ -828,66 +772,6 @@ fn static_name(name: &str) -> Option<(&'static str, Dim)> {
         "x" => ("x", Dim::Dimensionless),
         _ => return None,
     })
-}
-
-/// One input column converted to internal units (per-row conversion errors kept).
-fn column_internal(ctx: &Ctx, name: &str, dim: Dim, col: &Column) -> Result<Vec<Result<f64>>> {
-    Ok(match col {
-        Column::Values(v) => v.iter().map(|x| ctx.value(name, dim, x)).collect(),
-        Column::Packed(pc) => pc
-            .unpack(name)?
-            .into_iter()
-            .map(|x| {
-                Error::check_finite(name, x)?;
-                Ok(ctx.preset.to_internal(dim, x))
-            })
-            .collect(),
-    })
-}
-
-/// Solves every row of two input columns (internal units; a row's conversion error is kept),
-/// on all cores above [`PARALLEL_THRESHOLD`] rows. The pair is checked once, so a bad pair fails
-/// the call rather than every row.
-pub fn solve_rows(
-    opts: &Options,
-    f: Formulation,
-    na: &str,
-    ca: &[Result<f64>],
-    nb: &str,
-    cb: &[Result<f64>],
-) -> Result<Vec<Result<State>>> {
-    let kind = PairKind::new(na, nb)?;
-    let n = ca.len();
-    let solve_row = |i: usize| -> Result<State> {
-        let va = ca[i].clone()?;
-        let vb = cb[i].clone()?;
-        solve_with(kind.given(va, vb)?, opts, f)
-    };
-    Ok(if n >= PARALLEL_THRESHOLD {
-        use rayon::prelude::*;
-        (0..n).into_par_iter().map(solve_row).collect()
-    } else {
-        (0..n).map(solve_row).collect()
-    })
-}
-
-/// A numeric result column in the preset's units: NaN where undefined or failed; "region" as
-/// the IF97 region number.
-pub fn numeric_column(ctx: &Ctx, states: &[Result<State>], name: &str, f: Formulation) -> Vec<f64> {
-    let dim = dim_of(name);
-    let one = |r: &Result<State>| match (r, dim) {
-        (Ok(st), _) if name == "region" => st.region.number() as f64,
-        (Ok(st), Some(d)) => field_value(st, f, None, name)
-            .and_then(|x| ctx.out(d, x))
-            .unwrap_or(f64::NAN),
-        _ => f64::NAN,
-    };
-    if states.len() >= PARALLEL_THRESHOLD {
-        use rayon::prelude::*;
-        states.par_iter().map(one).collect()
-    } else {
-        states.iter().map(one).collect()
-    }
 }
 
 /// The dimension of an input column name, or an error listing the accepted names.
@@ -924,6 +808,7 @@ pub fn check_want(want: &[String], texts: bool) -> Result<()> {
 }
 
 fn water_batch(p: BatchParams) -> Result<BatchResult> {
+    use super::rows::InputColumn;
     let f = parse_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
     let opts = p.flags.options()?;
@@ -968,68 +853,60 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
                 value: n as f64,
             });
         }
-        cols.push((name, column_internal(&ctx, name, dim, col)?));
+        cols.push(match col {
+            Column::Values(v) => {
+                InputColumn::from_results(name, v.iter().map(|x| ctx.value(name, dim, x)))
+            }
+            Column::Packed(pc) => {
+                InputColumn::from_numbers(name, ctx.preset.unit(dim), &pc.unpack(name)?)
+            }
+        });
     }
-    let (na, ca) = (cols[0].0, &cols[0].1);
-    let (nb, cb) = (cols[1].0, &cols[1].1);
-    let n = ca.len();
-    if cb.len() != n {
-        return Err(Error::invalid(format!(
-            "the input columns differ in length: {na} has {n} rows, {nb} has {}",
-            cb.len()
-        )));
-    }
-    let states = solve_rows(&opts, f, na, ca, nb, cb)?;
+    let rows = super::rows::compute(&ctx, &opts, f, &cols[0], &cols[1], &want)?;
+    let n = rows.n;
     let mut columns = BTreeMap::new();
-    for w in &want {
-        let col = match w.as_str() {
-            "phase" => ColumnOut::Texts(
-                states
-                    .iter()
-                    .map(|r| r.as_ref().ok().map(|st| st.phase.name().to_string()))
+    for (j, w) in want.iter().enumerate() {
+        let col = if w == "phase" {
+            ColumnOut::Texts(
+                (0..n)
+                    .map(|i| rows.phase(i, j).map(|ph| ph.name().to_string()))
                     .collect(),
-            ),
-            name => {
-                let values = numeric_column(&ctx, &states, name, f);
-                if packed_out {
-                    ColumnOut::Packed(PackedColumn::pack(&values))
-                } else {
-                    ColumnOut::Numbers(
-                        values
-                            .into_iter()
-                            .map(|x| if x.is_nan() { None } else { Some(x) })
-                            .collect(),
-                    )
-                }
+            )
+        } else {
+            let values = rows.column(j);
+            if packed_out {
+                ColumnOut::Packed(PackedColumn::pack(&values))
+            } else {
+                ColumnOut::Numbers(
+                    values
+                        .into_iter()
+                        .map(|x| if x.is_nan() { None } else { Some(x) })
+                        .collect(),
+                )
             }
         };
         columns.insert(w.clone(), col);
     }
-    let mut failed_rows = Vec::new();
-    let mut errors = Vec::with_capacity(if packed_out { 0 } else { n });
-    for (i, r) in states.into_iter().enumerate() {
-        match r {
-            Ok(_) => {
-                if !packed_out {
-                    errors.push(None);
-                }
-            }
-            Err(e) => {
-                let api: super::ApiError = e.into();
-                let message = format!("row {i}: {}", api.message);
-                if !packed_out {
-                    errors.push(Some(RowError {
-                        code: api.code,
-                        message: message.clone(),
-                    }));
-                }
-                failed_rows.push(RowErrorAt {
-                    row: i,
-                    code: api.code,
-                    message,
-                });
-            }
+    let mut failed_rows = Vec::with_capacity(rows.failed.len());
+    let mut errors = if packed_out {
+        Vec::new()
+    } else {
+        vec![None; n]
+    };
+    for (i, e) in rows.failed {
+        let api: super::ApiError = e.into();
+        let message = format!("row {i}: {}", api.message);
+        if !packed_out {
+            errors[i] = Some(RowError {
+                code: api.code,
+                message: message.clone(),
+            });
         }
+        failed_rows.push(RowErrorAt {
+            row: i,
+            code: api.code,
+            message,
+        });
     }
     let mut units_map = BTreeMap::new();
     for w in &want {
@@ -1434,4 +1311,49 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
         series,
         units: units_map,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// `field_value_at` reads by index; its arms follow this order of `STATE_FIELDS`.
+    #[test]
+    fn field_indices_follow_state_fields() {
+        let names = STATE_FIELDS.map(|f| f.0);
+        assert_eq!(
+            names,
+            [
+                "p",
+                "T",
+                "rho",
+                "v",
+                "u",
+                "h",
+                "s",
+                "cp",
+                "cv",
+                "w",
+                "x",
+                "kappa",
+                "mu_jt",
+                "alpha_v",
+                "kappa_t",
+                "z",
+                "superheat",
+                "mu",
+                "lambda",
+                "nu",
+                "thermal_diffusivity",
+                "pr"
+            ]
+        );
+        assert_eq!(&names[17..], &TRANSPORT_FIELDS);
+        let st = state::at_pt(1.0, 500.0, &state::Options::STANDARD).unwrap();
+        let pr = st.props;
+        for (name, want) in [("h", pr.h), ("cp", pr.cp), ("w", pr.w), ("z", pr.z)] {
+            let got = field_value(&st, Formulation::If97, None, name).unwrap();
+            assert_eq!(got.to_bits(), want.to_bits(), "{name}");
+        }
+    }
 }

@@ -102,6 +102,29 @@ impl Props {
         Props::finish(p, t, v, u, h, s, cp, cv, w, alpha_v, kappa_t, r)
     }
 
+    /// The first-order properties from gamma and its first derivatives: p, T, v, rho, u, h, s
+    /// and z, by the expressions of [`Props::from_gibbs`] (so identical to its results bit for
+    /// bit); cp, cv, w, kappa, mu_jt, alpha_v and kappa_t, which need second derivatives, are NaN.
+    /// For bulk work that asks only for first-order properties.
+    pub fn from_gibbs_first(
+        p: f64,
+        t: f64,
+        p_star: f64,
+        t_star: f64,
+        r: f64,
+        d: &GibbsDerivs,
+    ) -> Props {
+        let pi = p / p_star;
+        let tau = t_star / t;
+        let rt = r * t;
+        let v = rt / p * pi * d.g_p * 1e-3;
+        let h = rt * tau * d.g_t;
+        let u = rt * (tau * d.g_t - pi * d.g_p);
+        let s = r * (tau * d.g_t - d.g);
+        let nan = f64::NAN;
+        Props::finish(p, t, v, u, h, s, nan, nan, nan, nan, nan, r)
+    }
+
     /// Properties from Helmholtz derivatives at (rho, T). `rho_star` in kg/m3 and `t_star` in K are
     /// the equation's reducing values, `r` the specific gas constant in kJ/(kg K).
     /// Relations: IAPWS R7-97(2012), Table 31 (region 3); IAPWS R6-95(2018), Table 3.

@@ -166,11 +166,79 @@ pub(crate) struct Sum2 {
     pub s_xy: f64,
 }
 
-/// Evaluates sum n x^I y^J with its derivatives. Requires `x_lo <= min I - 2`,
-/// `x_lo + NX > max I`, and the same for `y` with J (the callers derive these at compile time).
+/// A term n x^I y^J prepared at compile time for [`sum2`]: the table indices of x^I and y^J
+/// and the coefficient products that do not depend on x or y. Each product is the one the
+/// evaluation would otherwise form at run time, in the same order, so the sums are identical
+/// bit for bit.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Term2 {
+    /// Index of x^I in the power table.
+    a: usize,
+    /// Index of y^J in the power table.
+    b: usize,
+    /// n
+    n: f64,
+    /// n I
+    ni: f64,
+    /// n I (I - 1)
+    nii: f64,
+    /// J
+    fj: f64,
+    /// J - 1
+    fj1: f64,
+}
+
+/// Prepares a two-variable table for [`sum2`] with power tables starting at `x_lo`, `y_lo`
+/// (requires `x_lo <= min I - 2` and `y_lo <= min J - 2`, checked at compile time).
+pub(crate) const fn prepare2<const K: usize>(t: &[IJn; K], x_lo: i32, y_lo: i32) -> [Term2; K] {
+    let mut out = [Term2 {
+        a: 0,
+        b: 0,
+        n: 0.0,
+        ni: 0.0,
+        nii: 0.0,
+        fj: 0.0,
+        fj1: 0.0,
+    }; K];
+    let mut k = 0;
+    while k < K {
+        assert!(t[k].i - x_lo >= 2 && t[k].j - y_lo >= 2);
+        let fi = t[k].i as f64;
+        let fj = t[k].j as f64;
+        out[k] = Term2 {
+            a: (t[k].i - x_lo) as usize,
+            b: (t[k].j - y_lo) as usize,
+            n: t[k].n,
+            ni: t[k].n * fi,
+            nii: t[k].n * fi * (fi - 1.0),
+            fj,
+            fj1: fj - 1.0,
+        };
+        k += 1;
+    }
+    out
+}
+
+/// Evaluates sum n x^I y^J with its derivatives over a table prepared by [`prepare2`] with the
+/// same `x_lo`, `y_lo`; `x_lo + NX > max I` and `y_lo + NY > max J` (the callers derive these
+/// at compile time).
 #[inline(always)]
 pub(crate) fn sum2<const NX: usize, const NY: usize>(
-    terms: &[IJn],
+    terms: &[Term2],
+    x: f64,
+    x_lo: i32,
+    y: f64,
+    y_lo: i32,
+) -> Sum2 {
+    sum2_order::<NX, NY, true>(terms, x, x_lo, y, y_lo)
+}
+
+/// [`sum2`] with the second derivatives left out when `SECOND` is false (they are then NaN).
+/// The sum and its first derivatives are accumulated by the same expressions in the same order
+/// either way, so they are identical bit for bit.
+#[inline(always)]
+pub(crate) fn sum2_order<const NX: usize, const NY: usize, const SECOND: bool>(
+    terms: &[Term2],
     x: f64,
     x_lo: i32,
     y: f64,
@@ -180,20 +248,25 @@ pub(crate) fn sum2<const NX: usize, const NY: usize>(
     let yp: [f64; NY] = powers(y, y_lo);
     let mut r = Sum2::default();
     for t in terms {
-        let a = (t.i - x_lo) as usize;
-        let b = (t.j - y_lo) as usize;
-        let fi = t.i as f64;
-        let fj = t.j as f64;
-        let (x0, x1, x2) = (xp[a], xp[a - 1], xp[a - 2]);
-        let (y0, y1, y2) = (yp[b], yp[b - 1], yp[b - 2]);
+        let (a, b) = (t.a, t.b);
+        let (x0, x1) = (xp[a], xp[a - 1]);
+        let (y0, y1) = (yp[b], yp[b - 1]);
         let nx0 = t.n * x0;
-        let nx1 = t.n * fi * x1;
+        let nx1 = t.ni * x1;
         r.s += nx0 * y0;
         r.s_x += nx1 * y0;
-        r.s_xx += t.n * fi * (fi - 1.0) * x2 * y0;
-        r.s_y += nx0 * fj * y1;
-        r.s_yy += nx0 * fj * (fj - 1.0) * y2;
-        r.s_xy += nx1 * fj * y1;
+        r.s_y += nx0 * t.fj * y1;
+        if SECOND {
+            let (x2, y2) = (xp[a - 2], yp[b - 2]);
+            r.s_xx += t.nii * x2 * y0;
+            r.s_yy += nx0 * t.fj * t.fj1 * y2;
+            r.s_xy += nx1 * t.fj * y1;
+        }
+    }
+    if !SECOND {
+        r.s_xx = f64::NAN;
+        r.s_yy = f64::NAN;
+        r.s_xy = f64::NAN;
     }
     r
 }
@@ -206,17 +279,70 @@ pub(crate) struct Sum1 {
     pub s_xx: f64,
 }
 
-/// Evaluates sum n x^J with its derivatives; `lo <= min J - 2`, `lo + N > max J`.
+/// A term n x^J prepared at compile time for [`sum1`] (see [`Term2`]).
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Term1 {
+    /// Index of x^J in the power table.
+    b: usize,
+    /// n
+    n: f64,
+    /// n J
+    nj: f64,
+    /// n J (J - 1)
+    njj: f64,
+}
+
+/// Prepares a one-variable table for [`sum1`] with its power table starting at `lo`
+/// (requires `lo <= min J - 2`, checked at compile time).
+pub(crate) const fn prepare1<const K: usize>(t: &[Jn; K], lo: i32) -> [Term1; K] {
+    let mut out = [Term1 {
+        b: 0,
+        n: 0.0,
+        nj: 0.0,
+        njj: 0.0,
+    }; K];
+    let mut k = 0;
+    while k < K {
+        assert!(t[k].j - lo >= 2);
+        let fj = t[k].j as f64;
+        out[k] = Term1 {
+            b: (t[k].j - lo) as usize,
+            n: t[k].n,
+            nj: t[k].n * fj,
+            njj: t[k].n * fj * (fj - 1.0),
+        };
+        k += 1;
+    }
+    out
+}
+
+/// Evaluates sum n x^J with its derivatives over a table prepared by [`prepare1`] with the
+/// same `lo`; `lo + N > max J`.
 #[inline(always)]
-pub(crate) fn sum1<const N: usize>(terms: &[Jn], x: f64, lo: i32) -> Sum1 {
+pub(crate) fn sum1<const N: usize>(terms: &[Term1], x: f64, lo: i32) -> Sum1 {
+    sum1_order::<N, true>(terms, x, lo)
+}
+
+/// [`sum1`] with the second derivative left out (NaN) when `SECOND` is false; the sum and the
+/// first derivative are identical bit for bit either way.
+#[inline(always)]
+pub(crate) fn sum1_order<const N: usize, const SECOND: bool>(
+    terms: &[Term1],
+    x: f64,
+    lo: i32,
+) -> Sum1 {
     let xp: [f64; N] = powers(x, lo);
     let mut r = Sum1::default();
     for t in terms {
-        let b = (t.j - lo) as usize;
-        let fj = t.j as f64;
+        let b = t.b;
         r.s += t.n * xp[b];
-        r.s_x += t.n * fj * xp[b - 1];
-        r.s_xx += t.n * fj * (fj - 1.0) * xp[b - 2];
+        r.s_x += t.nj * xp[b - 1];
+        if SECOND {
+            r.s_xx += t.njj * xp[b - 2];
+        }
+    }
+    if !SECOND {
+        r.s_xx = f64::NAN;
     }
     r
 }

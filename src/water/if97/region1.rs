@@ -9,7 +9,7 @@
 //! Invariant: the powers of (7.1 - pi) and (tau - 1.222) are built once per call by
 //! multiplication, with no allocation.
 
-use super::powers::{i_max, i_min, j_max, j_min, sum2};
+use super::powers::{i_max, i_min, j_max, j_min, prepare2, sum2_order, Term2};
 use crate::water::props::{GibbsDerivs, Props};
 use crate::water::tables::if97_region1::{P_STAR, R, TABLE_2, T_STAR};
 
@@ -17,14 +17,25 @@ const X_LO: i32 = i_min(&TABLE_2) - 2;
 const NX: usize = (i_max(&TABLE_2) - X_LO + 1) as usize;
 const Y_LO: i32 = j_min(&TABLE_2) - 2;
 const NY: usize = (j_max(&TABLE_2) - Y_LO + 1) as usize;
+const TERMS: [Term2; TABLE_2.len()] = prepare2(&TABLE_2, X_LO, Y_LO);
 
 /// Derivatives of gamma(pi, tau) = g/(RT), pi = p/16.53 MPa, tau = 1386 K/T
 /// (R7-97(2012) Eq. (7), Table 4).
 pub fn derivs(p: f64, t: f64) -> GibbsDerivs {
+    derivs_order::<true>(p, t)
+}
+
+/// gamma and its first derivatives only (second derivatives NaN), bit-identical to [`derivs`].
+pub fn derivs_first(p: f64, t: f64) -> GibbsDerivs {
+    derivs_order::<false>(p, t)
+}
+
+#[inline(always)]
+fn derivs_order<const SECOND: bool>(p: f64, t: f64) -> GibbsDerivs {
     let pi = p / P_STAR;
     let tau = T_STAR / t;
     // gamma = sum n (7.1 - pi)^I (tau - 1.222)^J; d(7.1 - pi)/dpi = -1.
-    let s = sum2::<NX, NY>(&TABLE_2, 7.1 - pi, X_LO, tau - 1.222, Y_LO);
+    let s = sum2_order::<NX, NY, SECOND>(&TERMS, 7.1 - pi, X_LO, tau - 1.222, Y_LO);
     GibbsDerivs {
         g: s.s,
         g_p: -s.s_x,
@@ -38,4 +49,10 @@ pub fn derivs(p: f64, t: f64) -> GibbsDerivs {
 /// All properties at (p, T) from the region-1 equation (R7-97(2012) Table 3).
 pub fn props(p: f64, t: f64) -> Props {
     Props::from_gibbs(p, t, P_STAR, T_STAR, R, &derivs(p, t))
+}
+
+/// The first-order properties at (p, T) (see [`Props::from_gibbs_first`]), bit-identical to
+/// those of [`props`].
+pub fn props_first(p: f64, t: f64) -> Props {
+    Props::from_gibbs_first(p, t, P_STAR, T_STAR, R, &derivs_first(p, t))
 }

@@ -11,7 +11,7 @@
 //! allocation. The iteration never returns a density whose pressure misses the requested one by
 //! more than its tolerance: running out of iterations is an error, not a guess.
 
-use super::powers::{i_max, i_min, j_max, j_min, powers, sum2};
+use super::powers::{i_max, i_min, j_max, j_min, powers, prepare2, sum2, Term2};
 use crate::error::{Bound, Error, Result};
 use crate::water::props::{HelmholtzDerivs, Props};
 use crate::water::tables::if97_region3::{N1, R, RHO_STAR, TABLE_30, T_STAR};
@@ -20,6 +20,7 @@ const X_LO: i32 = i_min(&TABLE_30) - 2;
 const NX: usize = (i_max(&TABLE_30) - X_LO + 1) as usize;
 const Y_LO: i32 = j_min(&TABLE_30) - 2;
 const NY: usize = (j_max(&TABLE_30) - Y_LO + 1) as usize;
+const TERMS: [Term2; TABLE_30.len()] = prepare2(&TABLE_30, X_LO, Y_LO);
 
 /// Default iteration limit of [`rho_from_pt`].
 pub const RHO_MAX_ITER: usize = 100;
@@ -35,7 +36,7 @@ pub const RHO_P_FLOOR: f64 = 1e-11;
 pub fn derivs(rho: f64, t: f64) -> HelmholtzDerivs {
     let delta = rho / RHO_STAR;
     let tau = T_STAR / t;
-    let s = sum2::<NX, NY>(&TABLE_30, delta, X_LO, tau, Y_LO);
+    let s = sum2::<NX, NY>(&TERMS, delta, X_LO, tau, Y_LO);
     let dinv = 1.0 / delta;
     HelmholtzDerivs {
         f: N1 * delta.ln() + s.s,

@@ -9,7 +9,10 @@
 //! Invariant: powers of tau and pi are built once per call by multiplication, with no allocation;
 //! gamma = gamma_o + gamma_r.
 
-use super::powers::{i_max, i_min, j_max, j_min, jn_max, jn_min, sum1, sum2};
+use super::powers::{
+    i_max, i_min, j_max, j_min, jn_max, jn_min, prepare1, prepare2, sum1_order, sum2_order, Term1,
+    Term2,
+};
 use crate::water::props::{GibbsDerivs, Props};
 use crate::water::tables::if97_region5::{P_STAR, R, TERMS_IDEAL, TERMS_RESIDUAL, T_STAR};
 
@@ -19,14 +22,26 @@ const X_LO: i32 = i_min(&TERMS_RESIDUAL) - 2;
 const NX: usize = (i_max(&TERMS_RESIDUAL) - X_LO + 1) as usize;
 const Y_LO: i32 = j_min(&TERMS_RESIDUAL) - 2;
 const NY: usize = (j_max(&TERMS_RESIDUAL) - Y_LO + 1) as usize;
+const IDEAL: [Term1; TERMS_IDEAL.len()] = prepare1(&TERMS_IDEAL, O_LO);
+const RESIDUAL: [Term2; TERMS_RESIDUAL.len()] = prepare2(&TERMS_RESIDUAL, X_LO, Y_LO);
 
 /// Derivatives of gamma(pi, tau) = g/(RT), pi = p/1 MPa, tau = 1000 K/T
 /// (R7-97(2012) Eqs. (32)-(34), Tables 37, 38, 40, 41).
 pub fn derivs(p: f64, t: f64) -> GibbsDerivs {
+    derivs_order::<true>(p, t)
+}
+
+/// gamma and its first derivatives only (second derivatives NaN), bit-identical to [`derivs`].
+pub fn derivs_first(p: f64, t: f64) -> GibbsDerivs {
+    derivs_order::<false>(p, t)
+}
+
+#[inline(always)]
+fn derivs_order<const SECOND: bool>(p: f64, t: f64) -> GibbsDerivs {
     let pi = p / P_STAR;
     let tau = T_STAR / t;
-    let o = sum1::<NO>(&TERMS_IDEAL, tau, O_LO);
-    let r = sum2::<NX, NY>(&TERMS_RESIDUAL, pi, X_LO, tau, Y_LO);
+    let o = sum1_order::<NO, SECOND>(&IDEAL, tau, O_LO);
+    let r = sum2_order::<NX, NY, SECOND>(&RESIDUAL, pi, X_LO, tau, Y_LO);
     let pinv = 1.0 / pi;
     GibbsDerivs {
         g: pi.ln() + o.s + r.s,
@@ -41,4 +56,10 @@ pub fn derivs(p: f64, t: f64) -> GibbsDerivs {
 /// All properties at (p, T) from the region-5 equation (R7-97(2012) Table 39).
 pub fn props(p: f64, t: f64) -> Props {
     Props::from_gibbs(p, t, P_STAR, T_STAR, R, &derivs(p, t))
+}
+
+/// The first-order properties at (p, T) (see [`Props::from_gibbs_first`]), bit-identical to
+/// those of [`props`].
+pub fn props_first(p: f64, t: f64) -> Props {
+    Props::from_gibbs_first(p, t, P_STAR, T_STAR, R, &derivs_first(p, t))
 }

@@ -1,0 +1,387 @@
+//! The bulk row pipeline shared by `water.batch` and `POST /columns`: two input columns in,
+//! one value per wanted property and row out, computed in one pass per row.
+//!
+//! Each row is read, solved and turned into its outputs (in the preset's units) by one closure,
+//! writing straight into a row-major output buffer; rows are split into blocks that run on all
+//! cores above [`PARALLEL_THRESHOLD`] rows. Failed rows are kept sparse (row index and error), so
+//! a clean batch allocates nothing per row beyond its outputs.
+//!
+//! Invariants: every row is computed by the same code whether the batch runs on one core or
+//! many, so results are identical bit for bit; when every wanted property is first-order
+//! (see [`FIRST_ORDER`]) and the pair is (p, T) in IAPWS-IF97, rows are solved by
+//! [`state::at_pt_first`], whose values equal those of [`state::at_pt`] bit for bit.
+
+use super::water::{field_index, field_value_at, solve_with, Ctx, STATE_FIELDS};
+use crate::error::{Error, Result};
+use crate::units::{Unit, AMBIENT_DEFAULT_MPA};
+use crate::water::state::{self, Given, Options, Phase, State};
+use crate::water::Formulation;
+use rayon::prelude::*;
+
+/// Rows above which a batch is computed on all cores. Each row is computed by the same code
+/// either way, so the results are identical bit for bit.
+pub const PARALLEL_THRESHOLD: usize = 2048;
+
+/// Rows per block of parallel work.
+const BLOCK: usize = 1024;
+
+/// The wanted properties that need no second derivative of the fundamental equation.
+pub const FIRST_ORDER: [&str; 11] = [
+    "p", "T", "rho", "v", "u", "h", "s", "x", "z", "region", "phase",
+];
+
+/// The phases in the order of their code in a "phase" output (see [`Rows::phase`]).
+pub const PHASES: [Phase; 4] = [
+    Phase::Liquid,
+    Phase::Vapour,
+    Phase::Wet,
+    Phase::Supercritical,
+];
+
+/// One input column in internal units.
+#[derive(Debug, Clone)]
+pub struct InputColumn {
+    /// The property the column gives (p, T, h, s, u, v, rho, x).
+    pub name: &'static str,
+    /// Values in internal units; NaN where the row's value could not be converted.
+    pub values: Vec<f64>,
+    /// The rows whose value could not be converted, in row order.
+    pub errors: Vec<(usize, Error)>,
+}
+
+impl InputColumn {
+    /// A column of raw numbers in the preset's unit for `name` (NaN or infinity: that row fails).
+    pub fn from_numbers(name: &'static str, unit: Unit, raw: &[f64]) -> InputColumn {
+        InputColumn::from_source(name, unit, raw.len(), |i| raw[i])
+    }
+
+    /// A column of little-endian doubles (8 bytes a row) in the preset's unit for `name`.
+    pub fn from_le_bytes(name: &'static str, unit: Unit, bytes: &[u8]) -> InputColumn {
+        let raw = |i: usize| {
+            let mut b = [0u8; 8];
+            b.copy_from_slice(&bytes[i * 8..i * 8 + 8]);
+            f64::from_le_bytes(b)
+        };
+        InputColumn::from_source(name, unit, bytes.len() / 8, raw)
+    }
+
+    fn from_source(
+        name: &'static str,
+        unit: Unit,
+        n: usize,
+        raw: impl Fn(usize) -> f64 + Sync,
+    ) -> InputColumn {
+        let conv = |i: usize| {
+            let x = raw(i);
+            if x.is_finite() {
+                unit.to_internal(x, AMBIENT_DEFAULT_MPA)
+            } else {
+                f64::NAN
+            }
+        };
+        let values: Vec<f64> = if n >= PARALLEL_THRESHOLD {
+            (0..n).into_par_iter().map(conv).collect()
+        } else {
+            (0..n).map(conv).collect()
+        };
+        // Only a non-finite input becomes NaN; its error is built from the raw value.
+        let errors = values
+            .iter()
+            .enumerate()
+            .filter(|(_, x)| x.is_nan())
+            .filter_map(|(i, _)| Error::check_finite(name, raw(i)).err().map(|e| (i, e)))
+            .collect();
+        InputColumn {
+            name,
+            values,
+            errors,
+        }
+    }
+
+    /// A column of per-row conversions (JSON numbers or texts with units).
+    pub fn from_results(
+        name: &'static str,
+        rows: impl Iterator<Item = Result<f64>>,
+    ) -> InputColumn {
+        let mut values = Vec::with_capacity(rows.size_hint().0);
+        let mut errors = Vec::new();
+        for (i, r) in rows.enumerate() {
+            match r {
+                Ok(x) => values.push(x),
+                Err(e) => {
+                    values.push(f64::NAN);
+                    errors.push((i, e));
+                }
+            }
+        }
+        InputColumn {
+            name,
+            values,
+            errors,
+        }
+    }
+
+    /// Number of rows.
+    pub fn len(&self) -> usize {
+        self.values.len()
+    }
+
+    /// Whether the column has no rows.
+    pub fn is_empty(&self) -> bool {
+        self.values.is_empty()
+    }
+
+    /// The value of row `i`, or its conversion error.
+    fn get(&self, i: usize) -> Result<f64> {
+        let x = self.values[i];
+        if !x.is_nan() {
+            return Ok(x);
+        }
+        match self.errors.binary_search_by_key(&i, |(r, _)| *r) {
+            Ok(k) => Err(self.errors[k].1.clone()),
+            Err(_) => Ok(x),
+        }
+    }
+}
+
+/// One wanted output, resolved once from its name.
+#[derive(Debug, Clone, Copy)]
+enum Out {
+    /// A numeric field of `water.state` (index into [`STATE_FIELDS`]) with its preset unit.
+    Field(usize, Unit),
+    /// The IF97 region number.
+    Region,
+    /// The phase, as its index in [`PHASES`].
+    Phase,
+}
+
+/// Which two properties a batch gives, decided once for all rows.
+#[derive(Clone, Copy)]
+struct PairKind {
+    ctor: PairCtor,
+    swap: bool,
+}
+
+type PairCtor = fn(f64, f64) -> Result<Given>;
+
+fn inv_rho(rho: f64) -> Result<f64> {
+    if rho > 0.0 {
+        Ok(1.0 / rho)
+    } else {
+        Err(Error::out_of_range(
+            "rho",
+            rho,
+            0.0,
+            "kg/m3",
+            crate::error::Bound::Below,
+            "IAPWS-IF97",
+        ))
+    }
+}
+
+/// Every supported pair with its constructor, in the order of [`super::water::PAIRS`].
+const PAIR_CTORS: [(&str, &str, PairCtor); 15] = [
+    ("p", "T", |a, b| Ok(Given::PT(a, b))),
+    ("p", "h", |a, b| Ok(Given::PH(a, b))),
+    ("p", "s", |a, b| Ok(Given::PS(a, b))),
+    ("h", "s", |a, b| Ok(Given::HS(a, b))),
+    ("T", "x", |a, b| Ok(Given::TX(a, b))),
+    ("p", "x", |a, b| Ok(Given::PX(a, b))),
+    ("T", "h", |a, b| Ok(Given::TH(a, b))),
+    ("T", "s", |a, b| Ok(Given::TS(a, b))),
+    ("p", "v", |a, b| Ok(Given::PV(a, b))),
+    ("p", "rho", |a, b| Ok(Given::PV(a, inv_rho(b)?))),
+    ("T", "v", |a, b| Ok(Given::TV(a, b))),
+    ("T", "rho", |a, b| Ok(Given::TV(a, inv_rho(b)?))),
+    ("u", "v", |a, b| Ok(Given::UV(a, b))),
+    ("u", "rho", |a, b| Ok(Given::UV(a, inv_rho(b)?))),
+    ("p", "u", |a, b| Ok(Given::PU(a, b))),
+];
+
+impl PairKind {
+    fn new(a: &str, b: &str) -> Result<PairKind> {
+        for (x, y, ctor) in PAIR_CTORS {
+            if (x, y) == (a, b) {
+                return Ok(PairKind { ctor, swap: false });
+            }
+            if (x, y) == (b, a) {
+                return Ok(PairKind { ctor, swap: true });
+            }
+        }
+        Err(Error::invalid(format!(
+            "the pair ({a},{b}) is not supported; accepted pairs: {}",
+            super::water::PAIRS
+        )))
+    }
+
+    fn given(&self, va: f64, vb: f64) -> Result<Given> {
+        if self.swap {
+            (self.ctor)(vb, va)
+        } else {
+            (self.ctor)(va, vb)
+        }
+    }
+
+    fn is_pt(&self) -> bool {
+        matches!(self.given(1.0, 2.0), Ok(Given::PT(..)))
+    }
+}
+
+/// The outputs of a batch: `k` values per row, row-major, in the preset's units.
+#[derive(Debug, Clone)]
+pub struct Rows {
+    /// Number of rows.
+    pub n: usize,
+    /// Outputs per row (the wanted properties, in order).
+    pub k: usize,
+    /// Row-major values: NaN where undefined or where the row failed; a "phase" output holds
+    /// the phase's index in [`PHASES`], a "region" output the IF97 region number.
+    pub values: Vec<f64>,
+    /// The failed rows, in row order.
+    pub failed: Vec<(usize, Error)>,
+}
+
+impl Rows {
+    /// The values of output `j`, one per row.
+    pub fn column(&self, j: usize) -> Vec<f64> {
+        self.values
+            .iter()
+            .skip(j)
+            .step_by(self.k)
+            .copied()
+            .collect()
+    }
+
+    /// Appends the values of output `j` as little-endian doubles.
+    pub fn write_column_le(&self, j: usize, out: &mut Vec<u8>) {
+        out.reserve(self.n * 8);
+        for x in self.values.iter().skip(j).step_by(self.k) {
+            out.extend_from_slice(&x.to_le_bytes());
+        }
+    }
+
+    /// The phase of row `i` from a "phase" output `j` (None where the row failed).
+    pub fn phase(&self, i: usize, j: usize) -> Option<Phase> {
+        let code = self.values[i * self.k + j];
+        if code.is_nan() {
+            None
+        } else {
+            PHASES.get(code as usize).copied()
+        }
+    }
+}
+
+/// Resolves the wanted names (already checked by `check_want`).
+fn outputs(ctx: &Ctx, want: &[String]) -> Result<Vec<Out>> {
+    want.iter()
+        .map(|w| match w.as_str() {
+            "region" => Ok(Out::Region),
+            "phase" => Ok(Out::Phase),
+            name => field_index(name)
+                .map(|i| Out::Field(i, ctx.preset.unit(STATE_FIELDS[i].1)))
+                .ok_or_else(|| Error::invalid(format!("want: '{name}' is not a property"))),
+        })
+        .collect()
+}
+
+/// Solves every row of two input columns and computes the wanted outputs, on all cores above
+/// [`PARALLEL_THRESHOLD`] rows. The pair and the wanted names are checked once, so a bad pair
+/// fails the call rather than every row.
+pub fn compute(
+    ctx: &Ctx,
+    opts: &Options,
+    f: Formulation,
+    a: &InputColumn,
+    b: &InputColumn,
+    want: &[String],
+) -> Result<Rows> {
+    let kind = PairKind::new(a.name, b.name)?;
+    let outs = outputs(ctx, want)?;
+    let n = a.len();
+    if b.len() != n {
+        return Err(Error::invalid(format!(
+            "the input columns differ in length: {} has {n} rows, {} has {}",
+            a.name,
+            b.name,
+            b.len()
+        )));
+    }
+    let k = outs.len();
+    let first_order = f == Formulation::If97
+        && !opts.metastable
+        && kind.is_pt()
+        && want.iter().all(|w| FIRST_ORDER.contains(&w.as_str()));
+    let solve = |i: usize| -> Result<State> {
+        let va = a.get(i)?;
+        let vb = b.get(i)?;
+        let given = kind.given(va, vb)?;
+        match given {
+            // On failure the full path gives the error (it adds the ice diagnosis).
+            Given::PT(p, t) if first_order => {
+                state::at_pt_first(p, t, opts).or_else(|_| solve_with(given, opts, f))
+            }
+            _ => solve_with(given, opts, f),
+        }
+    };
+    let fill = |i: usize, row: &mut [f64]| -> Option<(usize, Error)> {
+        match solve(i) {
+            Ok(st) => {
+                for (slot, out) in row.iter_mut().zip(&outs) {
+                    *slot = match *out {
+                        Out::Region => st.region.number() as f64,
+                        Out::Phase => PHASES
+                            .iter()
+                            .position(|ph| *ph == st.phase)
+                            .map_or(f64::NAN, |c| c as f64),
+                        Out::Field(idx, unit) => {
+                            let x = field_value_at(&st, f, None, idx);
+                            if x.is_finite() {
+                                unit.from_internal(x, AMBIENT_DEFAULT_MPA)
+                            } else {
+                                f64::NAN
+                            }
+                        }
+                    };
+                }
+                None
+            }
+            Err(e) => {
+                row.fill(f64::NAN);
+                Some((i, e))
+            }
+        }
+    };
+    let mut values = vec![0.0; n * k];
+    let failed: Vec<(usize, Error)> = if k == 0 {
+        (0..n)
+            .filter_map(|i| solve(i).err().map(|e| (i, e)))
+            .collect()
+    } else if n >= PARALLEL_THRESHOLD {
+        values
+            .par_chunks_mut(BLOCK * k)
+            .enumerate()
+            .map(|(blk, chunk)| {
+                chunk
+                    .chunks_mut(k)
+                    .enumerate()
+                    .filter_map(|(r, row)| fill(blk * BLOCK + r, row))
+                    .collect::<Vec<_>>()
+            })
+            .collect::<Vec<_>>()
+            .into_iter()
+            .flatten()
+            .collect()
+    } else {
+        values
+            .chunks_mut(k)
+            .enumerate()
+            .filter_map(|(i, row)| fill(i, row))
+            .collect()
+    };
+    Ok(Rows {
+        n,
+        k,
+        values,
+        failed,
+    })
+}
