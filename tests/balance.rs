@@ -5,8 +5,8 @@
 //! Sources: the balances are the first law and conservation of mass (no external source);
 //! the component references are `steamcell::plant::components` (tested on their own against
 //! published cases in tests/plant_components.rs). The 12 % moisture limit is common practice,
-//! no source. No published site steam/power balance is reproduced here: none is known to us
-//! reliably enough from memory to quote its numbers.
+//! no source. A published steam/power balance (Cengel & Boles, Example 10-8, an ideal
+//! cogeneration plant) is reproduced in tests/textbook_cogeneration.rs.
 
 use serde_json::{json, Value};
 use steamcell::api::balance::NetworkIn;

@@ -1560,7 +1560,9 @@ fn results(net: &Net, m: &[f64], st: &[State]) -> Result<Solution> {
                 link(nm, "process", q, 0.0);
                 link(nm, "losses", lost * hc, lost);
                 if let Some(r0) = ret {
-                    if st[*r0].phase != Phase::Liquid {
+                    // Saturated liquid (x = 0) is condensate too.
+                    let saturated_liquid = st[*r0].x.is_some_and(|x| x <= 0.0);
+                    if st[*r0].phase != Phase::Liquid && !saturated_liquid {
                         w.push(format!(
                             "the condensate stream {} is not liquid at its pressure",
                             net.sn[*r0]
