@@ -165,9 +165,7 @@ fn compute(body: &[u8]) -> Result<Vec<u8>> {
     let mut body = Vec::with_capacity(4 + head.len() + out.n * out.k * 8);
     body.extend_from_slice(&(head.len() as u32).to_le_bytes());
     body.extend_from_slice(&head);
-    for j in 0..out.k {
-        out.write_column_le(j, &mut body);
-    }
+    out.write_columns_le(&mut body);
     Ok(body)
 }
 

@@ -252,11 +252,37 @@ impl Rows {
             .collect()
     }
 
-    /// Appends the values of output `j` as little-endian doubles.
-    pub fn write_column_le(&self, j: usize, out: &mut Vec<u8>) {
-        out.reserve(self.n * 8);
-        for x in self.values.iter().skip(j).step_by(self.k) {
-            out.extend_from_slice(&x.to_le_bytes());
+    /// Appends every output as a column of little-endian doubles, output after output (on all
+    /// cores above [`PARALLEL_THRESHOLD`] rows).
+    pub fn write_columns_le(&self, out: &mut Vec<u8>) {
+        let start = out.len();
+        out.resize(start + self.n * self.k * 8, 0);
+        if self.n == 0 || self.k == 0 {
+            return;
+        }
+        let (n, k) = (self.n, self.k);
+        // Each column in blocks of rows, so the work spreads even with one column.
+        let fill = |j: usize, blk: usize, part: &mut [u8]| {
+            for (r, b) in part.chunks_exact_mut(8).enumerate() {
+                let i = blk * BLOCK + r;
+                b.copy_from_slice(&self.values[i * k + j].to_le_bytes());
+            }
+        };
+        let body = &mut out[start..];
+        if n >= PARALLEL_THRESHOLD {
+            body.par_chunks_exact_mut(n * 8)
+                .enumerate()
+                .for_each(|(j, col)| {
+                    col.par_chunks_mut(BLOCK * 8)
+                        .enumerate()
+                        .for_each(|(blk, part)| fill(j, blk, part))
+                });
+        } else {
+            for (j, col) in body.chunks_exact_mut(n * 8).enumerate() {
+                for (blk, part) in col.chunks_mut(BLOCK * 8).enumerate() {
+                    fill(j, blk, part);
+                }
+            }
         }
     }
 
