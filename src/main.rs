@@ -45,6 +45,20 @@ enum Command {
         /// Given quantities and options as name=value.
         pairs: Vec<String>,
     },
+    /// Print one number of a site balance, e.g.
+    /// `steamcell site examples/site/site.json net_power units.MP_users.demand="40 t/h"`.
+    /// QUANTITY is a site total (net_power, fuel_heat_input, ...) or a dotted path into the
+    /// balance.solve result (units.BPT.power, streams.ds1_out.state.T); each path=value sets a
+    /// specification of the network first (as the path of balance.sweep); units= and ambient=
+    /// as for the methods.
+    Site {
+        /// The network file (the `network` of balance.solve, or whole params with one).
+        file: std::path::PathBuf,
+        /// A site total or a dotted path into the result.
+        quantity: String,
+        /// Specifications to change, as path=value, and units=/ambient=.
+        pairs: Vec<String>,
+    },
     /// Write the OpenRPC document.
     Schema {
         /// Output file ("-" for stdout).
@@ -109,6 +123,10 @@ struct ServeArgs {
     /// result digest, error code, version, formulation, validation digest).
     #[arg(long, value_name = "FILE")]
     audit: Option<std::path::PathBuf>,
+    /// Register a site network for GET /site/NAME/QUANTITY (repeatable): NAME=FILE, the file
+    /// holding the `network` of balance.solve. Each is read and solved at start.
+    #[arg(long, value_name = "NAME=FILE")]
+    site: Vec<String>,
 }
 
 impl ServeArgs {
@@ -147,6 +165,15 @@ impl ServeArgs {
                 request_timeout_ms: (self.request_timeout * 1000.0).round().max(1.0) as u64,
             },
             audit: self.audit.clone(),
+            sites: self
+                .site
+                .iter()
+                .map(|s| {
+                    s.split_once('=')
+                        .map(|(n, f)| (n.trim().to_string(), std::path::PathBuf::from(f.trim())))
+                        .ok_or_else(|| format!("--site {s}: write NAME=FILE"))
+                })
+                .collect::<Result<_, _>>()?,
         })
     }
 }
@@ -217,6 +244,17 @@ fn main() -> ExitCode {
                 }
             }
         }
+        Command::Site {
+            file,
+            quantity,
+            pairs,
+        } => match steamcell::api::site::from_file(&file, &quantity, &pairs) {
+            Ok(text) => print_out(&text),
+            Err(e) => {
+                eprintln!("{}", e.reason);
+                ExitCode::from(2)
+            }
+        },
         Command::Schema { out } => {
             let text = steamcell::api::openrpc::document_text();
             let written = if out == "-" {

@@ -8,6 +8,11 @@ The port is one input cell (B3); every URL is built from it with "&". Numbers ar
 through SUBSTITUTE(x;",";".") so that a comma-decimal locale still sends a decimal point.
 Layout (sheet "Site"): column A labels, B values, C units, D notes. CELLS below maps a short key to
 each cell address so the end-to-end test can find them.
+
+Sheet "Site totals" shows the whole-site balance of the example network examples/site/site.json,
+registered on the server at start (steamcell serve --site mill=examples/site/site.json): each
+result cell calls GET /site/mill/{quantity}?{specification path}={value}, so changing an input
+cell re-solves the site with that specification. SITE_CELLS maps its keys to addresses.
 """
 
 from __future__ import annotations
@@ -95,6 +100,53 @@ for _i, _row in enumerate(ROWS, start=1):
         CELLS[_row[0]] = f"B{_i}"
 
 
+def site_url(quantity: str) -> str:
+    """of: formula calling GET /site/{site}/{quantity} with the input cells of "Site totals" as
+    specification changes (flows in t/h, "%2F" is the URL form of "/")."""
+    parts = [f'[$Site.$B$4]&"/site/"&[.$B$3]&"/{quantity}?units=engineering"']
+    for path, ref in SITE_INPUTS:
+        parts.append(f'"&{path}="&{num(ref)}&"%20t%2Fh"')
+    return "of:=VALUE(COM.MICROSOFT.WEBSERVICE(" + "&".join(parts) + "))"
+
+
+# (specification path in the network, input cell) for every input of "Site totals".
+SITE_INPUTS = [
+    ("units.MP_users.demand", "$B$6"),
+    ("units.LP_users.demand", "$B$7"),
+]
+
+SITE_ROWS = [
+    ("title", "Whole-site steam balance of the example mill (examples/site/site.json)", None, None,
+     "The server solves the whole network for every result cell."),
+    (None, None, None, None, None),
+    ("site", "site name on the server", "mill", None,
+     "Start: steamcell serve --listen 127.0.0.1:8790 --site mill=examples/site/site.json"),
+    (None, None, None, None, None),
+    (None, "INPUTS", None, None, None),
+    ("mp_demand", "medium-pressure process steam demand", 36, "t/h", "units.MP_users.demand"),
+    ("lp_demand", "low-pressure users steam demand", 43.2, "t/h", "units.LP_users.demand"),
+    (None, None, None, None, None),
+    (None, "SITE TOTALS", None, None, None),
+    ("fuel", "fuel heat input", site_url("fuel_heat_input"), "kW", "server: balance of the whole site"),
+    ("power", "net power", site_url("net_power"), "kW", "server"),
+    ("process", "steam to process", site_url("process_steam"), "kg/s", "server"),
+    ("makeup", "make-up water", site_url("makeup_water"), "kg/s", "server"),
+    ("vented", "vented steam", site_url("vented_steam"), "kg/s", "server"),
+    ("bpt", "back-pressure turbine power", site_url("units.BPT.power"), "kW", "server: units.BPT.power"),
+    ("b2", "boiler B2 steam flow", site_url("streams.b2_steam.flow"), "kg/s",
+     "server: streams.b2_steam.flow (the swing boiler)"),
+    (None, None, None, None, None),
+    (None, "Caution: the balance is only as good as its specifications (efficiencies, losses from the "
+           "plant's own tests); not a substitute for the governing codes, the equipment maker's data "
+           "or a licensed engineer's review.", None, None, None),
+]
+
+SITE_CELLS = {}
+for _i, _row in enumerate(SITE_ROWS, start=1):
+    if _row[0]:
+        SITE_CELLS[_row[0]] = f"B{_i}"
+
+
 def _cell(value) -> str:
     if value is None:
         return "<table:table-cell/>"
@@ -108,16 +160,21 @@ def _cell(value) -> str:
             f'</table:table-cell>')
 
 
-def document(port: int = DEFAULT_PORT) -> str:
+def _rows(rows_in, port: int) -> str:
     rows = []
-    for key, label, value, unit, note in ROWS:
+    for key, label, value, unit, note in rows_in:
         if key == "port":
             value = port
         if key == "title":
             value, note = note, None
         cells = [_cell(label), _cell(value), _cell(unit), _cell(note)]
         rows.append("<table:table-row>" + "".join(cells) + "</table:table-row>")
-    body = "\n".join(rows)
+    return "\n".join(rows)
+
+
+def document(port: int = DEFAULT_PORT) -> str:
+    body = _rows(ROWS, port)
+    site_body = _rows(SITE_ROWS, port)
     return f"""<?xml version="1.0" encoding="UTF-8"?>
 <office:document xmlns:office="urn:oasis:names:tc:opendocument:xmlns:office:1.0"
  xmlns:style="urn:oasis:names:tc:opendocument:xmlns:style:1.0"
@@ -140,6 +197,13 @@ def document(port: int = DEFAULT_PORT) -> str:
 <table:table-column table:style-name="colC"/>
 <table:table-column table:style-name="colD"/>
 {body}
+</table:table>
+<table:table table:name="Site totals">
+<table:table-column table:style-name="colA"/>
+<table:table-column table:style-name="colB"/>
+<table:table-column table:style-name="colC"/>
+<table:table-column table:style-name="colD"/>
+{site_body}
 </table:table>
 </office:spreadsheet>
 </office:body>

@@ -107,7 +107,8 @@ def main() -> int:
           doc_path.read_text(encoding="utf-8") == make_workbook.document(),
           "run make_workbook.py" )
 
-    server = steamcell.connect(binary=BIN)
+    site_file = REPO / "examples" / "site" / "site.json"
+    server = steamcell.connect(binary=BIN, serve_args=["--site", f"mill={site_file}"])
     port = int(server.url.rsplit(":", 1)[1])
     uno_port = free_port()
     office = subprocess.Popen(
@@ -180,6 +181,43 @@ def main() -> int:
         got, txt = value("Tsat2")
         check("Tsat(4 barg) = water.saturation", close_to(got, sat.T), f"{txt} vs {sat.T!r}")
         check("superheat after the desuperheater", close_to(value("sh_out")[0], 165 - sat.T), value("sh_out")[1])
+
+        # sheet "Site totals": every result cell is balance.solve of the example site with the
+        # sheet's inputs; changing an input re-solves the site
+        tot = doc.Sheets.getByName("Site totals")
+        tcell = lambda key: tot.getCellRangeByName(make_workbook.SITE_CELLS[key])  # noqa: E731
+        import json as _json
+        network = _json.loads(site_file.read_text(encoding="utf-8"))
+
+        def site_check(mp_th, lp_th):
+            net = _json.loads(_json.dumps(network))
+            net["units"]["MP_users"]["demand"] = f"{mp_th} t/h"
+            net["units"]["LP_users"]["demand"] = f"{lp_th} t/h"
+            res = server.call("balance.solve", network=net, units="engineering")
+            wants = {k: res.totals[k] for k in ("fuel_heat_input", "net_power", "process_steam",
+                                                 "makeup_water", "vented_steam")}
+            keys = {"fuel": "fuel_heat_input", "power": "net_power", "process": "process_steam",
+                    "makeup": "makeup_water", "vented": "vented_steam"}
+            for key, field in keys.items():
+                c = tcell(key)
+                got = float("nan") if c.getError() else c.getValue()
+                check(f"Site totals {key} = balance.solve totals.{field} at MP {mp_th} t/h",
+                      close_to(got, wants[field]), f"{c.getString()} vs {wants[field]!r}")
+            c = tcell("bpt")
+            want = res.units["BPT"]["power"]
+            check(f"Site totals BPT power at MP {mp_th} t/h", close_to(c.getValue(), want),
+                  f"{c.getString()} vs {want!r}")
+            c = tcell("b2")
+            want = res.streams["b2_steam"]["flow"]
+            check(f"Site totals B2 steam at MP {mp_th} t/h", close_to(c.getValue(), want),
+                  f"{c.getString()} vs {want!r}")
+            return tcell("power").getValue()
+
+        p0 = site_check(36, 43.2)
+        tcell("mp_demand").setValue(44)
+        doc.calculateAll()
+        p1 = site_check(44, 43.2)
+        check("a new demand changes the site answer", p0 != p1, f"{p0} -> {p1}")
 
         # a refused connection gives an error cell, not a stale number
         cell("port").setValue(free_port())

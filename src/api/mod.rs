@@ -22,6 +22,7 @@ pub mod plant;
 pub mod rows;
 pub mod selftest;
 pub mod server_methods;
+pub mod site;
 pub mod water;
 
 pub use selftest::validation_digest;

@@ -26,6 +26,8 @@
 //! - `GET /schema` -> the OpenRPC document (application/json)
 //! - `GET /cell/{quantity}?{name=value...}` -> the bare number (text/plain), see
 //!   [`crate::api::cell`]; failures answer 400/404/422/500 with a one-line reason (text/plain).
+//! - `GET /site/{name}/{quantity}?{path=value...}` -> a number of a registered site's balance
+//!   (text/plain), see [`crate::api::site`]; failures as for `/cell`.
 //!
 //! Invariant: anything else (POST, WebSocket upgrades, other paths) passes to jsonrpsee
 //! untouched.
@@ -668,7 +670,15 @@ type BoxFuture<T> = Pin<Box<dyn Future<Output = T> + Send + 'static>>;
 enum Route {
     Health,
     Schema,
-    Cell { quantity: String, query: String },
+    Cell {
+        quantity: String,
+        query: String,
+    },
+    Site {
+        name: String,
+        quantity: String,
+        query: String,
+    },
     NotFound(String),
 }
 
@@ -683,18 +693,45 @@ fn route(path: &str, query: Option<&str>) -> Option<Route> {
                     "use GET /cell/{{quantity}}?name=value&name=value, not {p}"
                 )))
             } else {
-                let quantity = form_urlencoded::parse(format!("q={rest}").as_bytes())
-                    .next()
-                    .map(|(_, v)| v.into_owned())
-                    .unwrap_or_default();
+                let quantity = decode(rest);
                 Some(Route::Cell {
                     quantity,
                     query: query.unwrap_or("").to_string(),
                 })
             }
         }
+        p if p == "/site" || p.starts_with("/site/") => {
+            let rest = p.strip_prefix("/site/").unwrap_or("");
+            let parts: Vec<&str> = rest.split('/').collect();
+            match parts.as_slice() {
+                [name, quantity] if !name.is_empty() && !quantity.is_empty() => Some(Route::Site {
+                    name: decode(name),
+                    quantity: decode(quantity),
+                    query: query.unwrap_or("").to_string(),
+                }),
+                _ => Some(Route::NotFound(format!(
+                    "use GET /site/{{name}}/{{quantity}}?path=value&path=value, not {p}; sites: {}",
+                    {
+                        let n = api::site::names();
+                        if n.is_empty() {
+                            "none registered (serve --site NAME=FILE)".to_string()
+                        } else {
+                            n.join(", ")
+                        }
+                    }
+                ))),
+            }
+        }
         _ => None,
     }
+}
+
+/// A percent-decoded path segment.
+fn decode(segment: &str) -> String {
+    form_urlencoded::parse(format!("q={segment}").as_bytes())
+        .next()
+        .map(|(_, v)| v.into_owned())
+        .unwrap_or_default()
 }
 
 fn text(status: u16, body: String) -> HttpResponse {
@@ -724,6 +761,20 @@ async fn answer(route: Route) -> HttpResponse {
         Route::Cell { quantity, query } => {
             let pairs = cell::pairs_from_query(&query);
             let job = tokio::task::spawn_blocking(move || cell::cell(&quantity, &pairs));
+            match job.await {
+                Ok(Ok(number)) => text(200, number),
+                Ok(Err(e)) => text(e.status, e.reason),
+                Err(e) => text(500, format!("internal error: {e}")),
+            }
+        }
+        Route::Site {
+            name,
+            quantity,
+            query,
+        } => {
+            let pairs = cell::pairs_from_query(&query);
+            let job =
+                tokio::task::spawn_blocking(move || api::site::site_cell(&name, &quantity, &pairs));
             match job.await {
                 Ok(Ok(number)) => text(200, number),
                 Ok(Err(e)) => text(e.status, e.reason),

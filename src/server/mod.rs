@@ -144,6 +144,9 @@ pub struct ServeConfig {
     pub limits: limits::Settings,
     /// Append one JSON line per method call to this file.
     pub audit: Option<PathBuf>,
+    /// Site networks for `GET /site/{name}/...`: (name, network file), loaded and solved at
+    /// start.
+    pub sites: Vec<(String, PathBuf)>,
 }
 
 impl std::fmt::Debug for ServeConfig {
@@ -155,6 +158,7 @@ impl std::fmt::Debug for ServeConfig {
             .field("allow_origins", &self.allow_origins)
             .field("limits", &self.limits)
             .field("audit", &self.audit)
+            .field("sites", &self.sites)
             .finish()
     }
 }
@@ -169,6 +173,7 @@ impl ServeConfig {
             allow_origins: Vec::new(),
             limits: limits::Settings::DEFAULT,
             audit: None,
+            sites: Vec::new(),
         }
     }
 }
@@ -207,6 +212,10 @@ pub async fn start(cfg: &ServeConfig) -> std::io::Result<Running> {
     limits::configure(cfg.limits);
     if let Some(path) = &cfg.audit {
         audit::open(path)?;
+    }
+    if !cfg.sites.is_empty() {
+        api::site::register(&cfg.sites)
+            .map_err(|e| std::io::Error::new(std::io::ErrorKind::InvalidInput, e))?;
     }
     let l = cfg.limits;
     let timeout = Duration::from_millis(l.request_timeout_ms.max(1));

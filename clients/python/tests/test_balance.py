@@ -64,3 +64,18 @@ def test_underspecified_network_raises_with_the_stream_named(client):
     with pytest.raises(steamcell.Error) as e:
         client.balance(net)
     assert "specified" in str(e.value)
+
+
+def test_registered_site_numbers_match_balance_solve(binary, client):
+    """``serve --site`` + ``Client.site``: the one-number bridge gives balance.solve's totals, with
+    a specification changed on the way."""
+    path = REPO / "examples" / "site" / "site.json"
+    with steamcell.connect(binary=binary, serve_args=["--site", f"mill={path}"]) as c:
+        assert c.site("mill", "net_power") == client.balance(site()).totals["net_power"]
+        changed = site()
+        changed["units"]["MP_users"]["demand"] = "40 t/h"
+        want = client.balance(changed).units.loc["BPT", "power"]
+        got = c.site("mill", "units.BPT.power", {"units.MP_users.demand": "40 t/h"})
+        assert got == want
+        with pytest.raises(steamcell.Error, match="registered: mill"):
+            c.site("other", "net_power")

@@ -135,6 +135,22 @@ class Client:
             raise errors.Error(text.strip() or f"HTTP {status}", code=None, data={"status": status})
         return float(text)
 
+    def site(self, name: str, quantity: str, changes: Optional[Dict[str, Any]] = None,
+             units: Optional[str] = None) -> float:
+        """One number of a site registered with ``serve --site NAME=FILE``, from
+        ``GET /site/{name}/{quantity}?...``: ``quantity`` is a site total (``"net_power"``) or a
+        dotted path into the ``balance.solve`` result (``"units.BPT.power"``); ``changes`` maps
+        specification paths to values, e.g. ``{"units.MP_users.demand": "40 t/h"}``."""
+        query = {k: str(v) for k, v in (changes or {}).items()}
+        if units:
+            query["units"] = units
+        path = (f"/site/{urllib.parse.quote(name)}/{urllib.parse.quote(quantity)}?"
+                + urllib.parse.urlencode(query, quote_via=urllib.parse.quote))
+        status, text = self._http().get(path)
+        if status != 200:
+            raise errors.Error(text.strip() or f"HTTP {status}", code=None, data={"status": status})
+        return float(text)
+
     def _http(self) -> transport.HttpTransport:
         if not isinstance(self._tr, transport.HttpTransport):
             raise errors.TransportError("this needs an HTTP connection, not stdio")
@@ -434,13 +450,16 @@ for _name, _fn in WRAPPERS.items():
 
 
 def connect(url: Optional[str] = None, binary: Optional[str] = None, *,
-            transport: Optional[str] = None, timeout: float = 600.0) -> Client:
+            transport: Optional[str] = None, timeout: float = 600.0,
+            serve_args: Sequence[str] = ()) -> Client:
     """Connects to a steamcell server.
 
     ``connect("http://127.0.0.1:8790")`` talks to a running server. ``connect()`` finds the binary
     (``binary``, env STEAMCELL_BIN, PATH, the repository's target/ directory) and starts
     ``steamcell serve --listen 127.0.0.1:0``, stopped again by ``close()``, a ``with`` block's
-    end or interpreter exit. ``connect(transport="stdio")`` starts ``steamcell stdio`` instead.
+    end or interpreter exit; ``serve_args`` are extra flags for it, e.g.
+    ``["--site", "mill=site.json"]``. ``connect(transport="stdio")`` starts ``steamcell stdio``
+    instead.
     """
     kind = transport or ("http" if url else "spawn")
     if kind == "stdio":
@@ -450,7 +469,8 @@ def connect(url: Optional[str] = None, binary: Optional[str] = None, *,
     if kind not in ("spawn", "http"):
         raise ValueError(f"transport must be 'http' or 'stdio', not {kind!r}")
     return Client(_transport_mod.SpawnedHttpTransport(_transport_mod.find_binary(binary),
-                                                      timeout=timeout))
+                                                      timeout=timeout,
+                                                      extra_args=serve_args))
 
 
 _transport_mod = transport

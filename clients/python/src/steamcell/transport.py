@@ -239,9 +239,10 @@ class _Child:
 class SpawnedHttpTransport(HttpTransport):
     """Starts ``steamcell serve --listen 127.0.0.1:0`` and talks HTTP to it."""
 
-    def __init__(self, binary: str, listen: str = "127.0.0.1:0", timeout: float = 600.0):
+    def __init__(self, binary: str, listen: str = "127.0.0.1:0", timeout: float = 600.0,
+                 extra_args=()):
         self.binary = binary
-        self.child = _Child([binary, "serve", "--listen", listen], stdin=False)
+        self.child = _Child([binary, "serve", "--listen", listen, *extra_args], stdin=False)
         line = self.child.proc.stdout.readline().decode("utf-8", "replace")
         m = _LISTEN_RE.search(line)
         if not m:
