@@ -104,7 +104,9 @@ pub fn known_quantities() -> &'static [String] {
     })
 }
 
-fn wire_value(text: &str) -> Value {
+/// A query value on the wire: a plain finite number as a JSON number, anything else ("10 MPa")
+/// as a string.
+pub fn wire_value(text: &str) -> Value {
     match text.trim().parse::<f64>() {
         Ok(x) if x.is_finite() => serde_json::Number::from_f64(x)
             .map(Value::Number)

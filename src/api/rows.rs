@@ -164,7 +164,8 @@ struct PairKind {
 
 type PairCtor = fn(f64, f64) -> Result<Given>;
 
-fn inv_rho(rho: f64) -> Result<f64> {
+/// 1 / rho for a positive density, else the range error (shared with `water.state`).
+pub(crate) fn inv_rho(rho: f64) -> Result<f64> {
     if rho > 0.0 {
         Ok(1.0 / rho)
     } else {

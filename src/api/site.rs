@@ -15,7 +15,7 @@
 //! copy); every failure is a [`CellError`] with an HTTP status and a one-line reason.
 
 use super::balance::set_path;
-use super::cell::{pairs_from_args, CellError};
+use super::cell::{pairs_from_args, wire_value, CellError};
 use serde_json::{Map, Value};
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -85,15 +85,6 @@ pub fn names() -> Vec<String> {
         .get()
         .map(|m| m.keys().cloned().collect())
         .unwrap_or_default()
-}
-
-fn wire_value(text: &str) -> Value {
-    match text.trim().parse::<f64>() {
-        Ok(x) if x.is_finite() => serde_json::Number::from_f64(x)
-            .map(Value::Number)
-            .unwrap_or_else(|| Value::String(text.to_string())),
-        _ => Value::String(text.to_string()),
-    }
 }
 
 /// Solves `network` after applying the query pairs; returns the `balance.solve` result.

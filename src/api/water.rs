@@ -198,20 +198,7 @@ pub fn pair_from_values(vals: &BTreeMap<&str, f64>) -> Result<Given> {
         )));
     }
     let g = |k: &str| vals.get(k).copied();
-    let inv = |rho: f64| -> Result<f64> {
-        if rho > 0.0 {
-            Ok(1.0 / rho)
-        } else {
-            Err(Error::out_of_range(
-                "rho",
-                rho,
-                0.0,
-                "kg/m3",
-                crate::error::Bound::Below,
-                "IAPWS-IF97",
-            ))
-        }
-    };
+    let inv = super::rows::inv_rho;
     let pair = if let (Some(p), Some(t)) = (g("p"), g("T")) {
         Given::PT(p, t)
     } else if let (Some(p), Some(h)) = (g("p"), g("h")) {

@@ -78,19 +78,36 @@ pub struct HelmholtzDerivs {
     pub f_dt: f64,
 }
 
+/// pi, tau, R T and the first-order properties v, u, h, s from gamma and its first derivatives
+/// (R7-97(2012) Tables 3 and 12); shared by [`Props::from_gibbs`] and
+/// [`Props::from_gibbs_first`], so the two agree bit for bit by construction.
+#[inline(always)]
+#[allow(clippy::type_complexity)]
+fn gibbs_first_order(
+    p: f64,
+    t: f64,
+    p_star: f64,
+    t_star: f64,
+    r: f64,
+    d: &GibbsDerivs,
+) -> (f64, f64, f64, f64, f64, f64, f64) {
+    let pi = p / p_star;
+    let tau = t_star / t;
+    let rt = r * t; // kJ/kg
+                    // v = (R T / p) pi gamma_pi; R T in kJ/kg = kPa m3/kg, p in MPa -> factor 1e-3.
+    let v = rt / p * pi * d.g_p * 1e-3;
+    let h = rt * tau * d.g_t;
+    let u = rt * (tau * d.g_t - pi * d.g_p);
+    let s = r * (tau * d.g_t - d.g);
+    (pi, tau, rt, v, u, h, s)
+}
+
 impl Props {
     /// Properties from Gibbs derivatives at (p, T). `p_star` in MPa and `t_star` in K are the
     /// equation's reducing values, `r` the specific gas constant in kJ/(kg K).
     /// Relations: IAPWS R7-97(2012), Table 3 (region 1) and Table 12 (region 2).
     pub fn from_gibbs(p: f64, t: f64, p_star: f64, t_star: f64, r: f64, d: &GibbsDerivs) -> Props {
-        let pi = p / p_star;
-        let tau = t_star / t;
-        let rt = r * t; // kJ/kg
-                        // v = (R T / p) pi gamma_pi; R T in kJ/kg = kPa m3/kg, p in MPa -> factor 1e-3.
-        let v = rt / p * pi * d.g_p * 1e-3;
-        let h = rt * tau * d.g_t;
-        let u = rt * (tau * d.g_t - pi * d.g_p);
-        let s = r * (tau * d.g_t - d.g);
+        let (pi, tau, rt, v, u, h, s) = gibbs_first_order(p, t, p_star, t_star, r, d);
         let cp = -r * tau * tau * d.g_tt;
         let a = d.g_p - tau * d.g_pt;
         let cv = r * (-tau * tau * d.g_tt + a * a / d.g_pp);
@@ -114,13 +131,7 @@ impl Props {
         r: f64,
         d: &GibbsDerivs,
     ) -> Props {
-        let pi = p / p_star;
-        let tau = t_star / t;
-        let rt = r * t;
-        let v = rt / p * pi * d.g_p * 1e-3;
-        let h = rt * tau * d.g_t;
-        let u = rt * (tau * d.g_t - pi * d.g_p);
-        let s = r * (tau * d.g_t - d.g);
+        let (_, _, _, v, u, h, s) = gibbs_first_order(p, t, p_star, t_star, r, d);
         let nan = f64::NAN;
         Props::finish(p, t, v, u, h, s, nan, nan, nan, nan, nan, r)
     }
