@@ -255,3 +255,21 @@ fn range_limits() {
         }
     }
 }
+
+/// A cold liquid at low pressure, where p = rho R T (1 + delta phi_r_delta) is a small
+/// difference: (p, s) once stopped with p off by 9e-12 rho R T (the Newton scale floor was
+/// rho R T); the solver now asks p to 1e-12 rho R T. The point is a proptest case from CI.
+#[test]
+fn low_pressure_liquid_p_to_its_rounding_level() {
+    let (p, t) = (0.03312448857492941, 281.7709206622141);
+    let st = state95::at_pt(p, t).unwrap();
+    let opts = Options {
+        prefer: Some(st.phase),
+        ..O
+    };
+    let got = state95::solve(Given::PS(st.props.p, st.props.s), &opts).unwrap();
+    let rrt = got.props.rho * iapws95::R * got.props.t * 1e-3;
+    let err = (got.props.p - p).abs() / rrt;
+    assert!(err <= 2e-12, "p off by {err:e} rho R T");
+    assert!(close(got.props.t, t, REL));
+}

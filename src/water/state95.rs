@@ -233,10 +233,12 @@ fn newton_rt(
     opts: &Options,
 ) -> Result<(Props, u32)> {
     // The pressure of a liquid carries an absolute rounding error of a few 1e-13 rho R T
-    // (p = rho R T (1 + delta phi_r_delta), a small bracket): its scale never goes below that.
+    // (p = rho R T (1 + delta phi_r_delta), a small bracket): its scale never goes below
+    // 0.1 rho R T, so the standard tolerance (1e-11) asks p to 1e-12 rho R T, just above that
+    // rounding level (a floor of rho R T let a low-pressure liquid stop at ~1e-11 rho R T).
     let scale = |q: Q, v: f64, pr: &Props| {
         if q == Q::P {
-            v.abs().max(pr.rho * iapws95::R * pr.t * 1e-3)
+            v.abs().max(0.1 * pr.rho * iapws95::R * pr.t * 1e-3)
         } else {
             q.scale(v)
         }
