@@ -309,3 +309,43 @@ fn wet_hs_at_the_triple_point() {
     assert!((got.props.t - 273.16).abs() < 1e-7, "{}", got.props.t);
     assert!((got.x.unwrap() - 0.001).abs() < 1e-9);
 }
+
+/// On the B23 line IF97's region 3 and region 2 give slightly different v (about 1e-4
+/// relative at 770 K: IAPWS R7-97(2012) accepts this inconsistency between the two equations),
+/// so some (T, v) fall in a gap with no state in either region. Such a (T, v) is answered by
+/// region 3 carried just past B23 (region 3 is explicit in rho and T, so v and T are exact),
+/// and a (u, v) round trip whose root search once stepped into the gap (a proptest case,
+/// p = 53.765 MPa, T = 770.246 K in region 3) holds.
+#[test]
+fn b23_gap_in_v() {
+    use steamcell::water::if97::{b23, region2, region3};
+    let t = 770.31;
+    let pb = b23::p_b23(t);
+    let v2 = region2::props(pb, t).v;
+    let v3 = 1.0 / region3::rho_from_pt(pb, t, 1.0 / v2).unwrap();
+    assert!(
+        v3 < v2 && v2 / v3 - 1.0 > 5e-5,
+        "no gap at {t} K: v3 = {v3}, v2 = {v2}"
+    );
+    let v = 0.5 * (v2 + v3);
+    let st = state::solve(Given::TV(t, v), &O).unwrap();
+    assert_eq!(st.region, Region::R3);
+    assert!(close(st.props.v, v, 1e-15) && st.props.t == t);
+    assert!(
+        st.props.p < pb && st.props.p > pb * (1.0 - 1e-3),
+        "p = {}",
+        st.props.p
+    );
+    // Just outside the gap the ordinary regions answer.
+    let above = state::solve(Given::TV(t, v2 * (1.0 + 1e-6)), &O).unwrap();
+    assert_eq!(above.region, Region::R2);
+    let below = state::solve(Given::TV(t, v3 * (1.0 - 1e-6)), &O).unwrap();
+    assert_eq!(below.region, Region::R3);
+    assert!(below.props.p > pb);
+
+    let (p, t) = (53.76533040601196, 770.2456902473934);
+    let pr = state::at_pt(p, t, &O).unwrap().props;
+    let got = state::solve(Given::UV(pr.u, pr.v), &O).unwrap();
+    assert!(close(got.props.u, pr.u, REL) && close(got.props.v, pr.v, REL));
+    assert!(close(got.props.p, p, 1e-8) && close(got.props.t, t, REL));
+}

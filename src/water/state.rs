@@ -16,7 +16,7 @@
 use crate::error::{Bound, Error, Result};
 use crate::water::if97::backward;
 use crate::water::if97::regions::{self, Region};
-use crate::water::if97::{region1, region2, region3, region4, region5};
+use crate::water::if97::{b23, region1, region2, region3, region4, region5};
 use crate::water::props::Props;
 
 /// Formulation name used in error messages.
@@ -1314,6 +1314,24 @@ fn region3_tv(t: f64, v: f64) -> Result<Option<State>> {
     Ok(Some(single(region3::props(rho, t), Region::R3, 0)))
 }
 
+/// Region 3 at (T, v) just beyond the B23 line, where v falls in the gap IF97 leaves there: at
+/// 623.15 K < T < 863.15 K, region 3 at the B23 pressure gives v3 and region 2 gives v2, and
+/// when v3 < v < v2 (up to about 2e-4 relative, the inconsistency IAPWS accepted for the two
+/// equations on B23) neither region has the state. Region 3 is explicit in (rho, T), so the
+/// answer is region 3 carried past B23 by that gap, with v and T exact; None elsewhere.
+fn region3_tv_b23_gap(t: f64, v: f64) -> Option<State> {
+    if !(T_13..=863.15).contains(&t) {
+        return None;
+    }
+    let pb = b23::p_b23(t);
+    let p3 = region3::pressure(1.0 / v, t);
+    let v2 = region2::props(pb, t).v;
+    if p3 > 0.0 && p3 < pb && v < v2 {
+        return Some(single(region3::props(1.0 / v, t), Region::R3, 0));
+    }
+    None
+}
+
 /// States at fixed T with q = target (q is H, S or V), with the two-phase part.
 fn at_t_q(t: f64, q: Q, target: f64, opts: &Options) -> Result<State> {
     check_t(t)?;
@@ -1370,6 +1388,9 @@ fn at_t_q(t: f64, q: Q, target: f64, opts: &Options) -> Result<State> {
             target,
             opts,
         )?);
+    }
+    if cands.is_empty() && q == Q::V {
+        cands.extend(region3_tv_b23_gap(t, target));
     }
     choose(cands, &what, opts)
 }
