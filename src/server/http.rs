@@ -545,8 +545,24 @@ where
                 Ok(Ok(c)) => c.to_bytes(),
             };
             if columns_route {
+                // A bulk request counts as a method call in flight, like every JSON-RPC call.
+                let most = u64::from(api::limits::current().max_in_flight);
+                let Some(running) = counters::InFlight::try_begin(most) else {
+                    return Ok(rpc_refusal(
+                        503,
+                        codes::LIMIT_EXCEEDED,
+                        format!(
+                            "server busy: {most} method calls are in flight (the --max-in-flight limit); retry shortly"
+                        ),
+                        "method calls in flight",
+                        most as f64,
+                    ));
+                };
                 let left = limit.saturating_sub(started.elapsed());
-                let job = tokio::task::spawn_blocking(move || api::columns::columns(&bytes));
+                let job = tokio::task::spawn_blocking(move || {
+                    let _running = running;
+                    api::columns::columns(&bytes)
+                });
                 let mut resp = match tokio::time::timeout(left, job).await {
                     Ok(Ok(Ok(body))) => http::Response::builder()
                         .status(200)
