@@ -85,15 +85,45 @@ fn run_call(
     answer
 }
 
-/// The JSON-RPC module with every registry method registered (as a blocking method).
+/// Methods whose one call is a handful of property evaluations (microseconds, bounded by the
+/// solvers' iteration limits): they run on the connection's async worker, without the hand-off
+/// to the blocking pool that costs tens of microseconds per call. Everything else (columns,
+/// curves, cycles, site balances, the schema, the self-test) runs as a blocking method.
+pub const QUICK_METHODS: &[&str] = &[
+    "water.state",
+    "water.saturation",
+    "turbine.expand",
+    "pump.raise",
+    "valve.throttle",
+    "desuperheater.spray",
+    "flash.separate",
+    "header.mix",
+    "exchanger.balance",
+    "boiler.fire",
+    "deaerator.balance",
+    "server.info",
+];
+
+/// The JSON-RPC module with every registry method registered: [`QUICK_METHODS`] inline, the
+/// rest as blocking methods.
 pub fn rpc_module() -> RpcModule<()> {
     let mut module = RpcModule::new(());
     for spec in api::registry() {
         let name = spec.name;
-        let result = module.register_blocking_method(name, move |params, _ctx, ext| {
-            run_call(name, params.as_str(), ext.get::<http::RequestId>().copied())
-                .map_err(to_error_object)
-        });
+        let body =
+            move |params: jsonrpsee::types::Params, _ctx: &(), ext: &jsonrpsee::Extensions| {
+                run_call(name, params.as_str(), ext.get::<http::RequestId>().copied())
+                    .map_err(to_error_object)
+            };
+        let result = if QUICK_METHODS.contains(&name) {
+            module
+                .register_method(name, move |params, ctx, ext| body(params, ctx, ext))
+                .map(|_| ())
+        } else {
+            module
+                .register_blocking_method(name, move |params, ctx, ext| body(params, &ctx, &ext))
+                .map(|_| ())
+        };
         if let Err(e) = result {
             tracing::error!("method {name} not registered: {e}");
         }
@@ -290,4 +320,36 @@ pub async fn serve(cfg: &ServeConfig) -> std::io::Result<()> {
     let _ = running.handle.stop();
     running.handle.stopped().await;
     Ok(())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A misspelt name in QUICK_METHODS would silently fall back to the blocking pool, and a
+    /// bulk method in it would stall a connection worker: every name is a registry method,
+    /// and none of the methods that take columns, curves, cycles or networks is listed.
+    #[test]
+    fn quick_methods_are_real_and_small() {
+        let names: Vec<&str> = api::registry().iter().map(|s| s.name).collect();
+        for q in QUICK_METHODS {
+            assert!(names.contains(q), "{q} is not a registered method");
+        }
+        for bulk in [
+            "water.batch",
+            "water.curve",
+            "turbine.train",
+            "cycle.rankine",
+            "balance.solve",
+            "balance.sweep",
+            "server.schema",
+            "server.selftest",
+        ] {
+            assert!(names.contains(&bulk), "{bulk} is not a registered method");
+            assert!(
+                !QUICK_METHODS.contains(&bulk),
+                "{bulk} must run as a blocking method"
+            );
+        }
+    }
 }
