@@ -12,14 +12,20 @@
 //! a dotted path reaches anything else (`units.BPT.power`, `streams.ds1_out.state.T`).
 //!
 //! Invariants: the registered networks never change while the server runs (a request edits a
-//! copy); every failure is a [`CellError`] with an HTTP status and a one-line reason.
+//! copy), and `balance.solve` is deterministic, so a solved result is kept per (site, query
+//! pairs in their order) and the other cells of a workbook page that ask the same site with
+//! the same pairs for another quantity are answered from it (up to [`CACHE_ENTRIES`] results,
+//! then the cache starts afresh); every failure is a [`CellError`] with an HTTP status and a
+//! one-line reason.
 
 use super::balance::set_path;
 use super::cell::{pairs_from_args, wire_value, CellError};
 use serde_json::{Map, Value};
 use std::collections::BTreeMap;
+use std::collections::HashMap;
 use std::path::Path;
-use std::sync::OnceLock;
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::{Arc, Mutex, OnceLock};
 
 /// The method a site request calls.
 pub const SOLVE_METHOD: &str = "balance.solve";
@@ -28,6 +34,44 @@ pub const SOLVE_METHOD: &str = "balance.solve";
 pub const RESERVED: &[&str] = &["units", "ambient"];
 
 static SITES: OnceLock<BTreeMap<String, Value>> = OnceLock::new();
+
+/// Solved site results kept for the GET route (see the module invariants).
+pub const CACHE_ENTRIES: usize = 256;
+
+type CacheKey = (String, Vec<(String, String)>);
+
+static SOLVED: OnceLock<Mutex<HashMap<CacheKey, Arc<Value>>>> = OnceLock::new();
+
+/// How many site networks the GET route has solved (cache misses), for tests and the log.
+static SOLVES: AtomicU64 = AtomicU64::new(0);
+
+/// The number of site solves done for the GET route so far.
+pub fn solves() -> u64 {
+    SOLVES.load(Ordering::Relaxed)
+}
+
+/// The solved result of site `name` (network `network`) with `pairs` applied, from the cache
+/// when the same site was asked with the same pairs before.
+fn solved_cached(
+    name: &str,
+    network: &Value,
+    pairs: &[(String, String)],
+) -> Result<Arc<Value>, CellError> {
+    let cache = SOLVED.get_or_init(|| Mutex::new(HashMap::new()));
+    let key = (name.to_string(), pairs.to_vec());
+    if let Some(hit) = cache.lock().ok().and_then(|c| c.get(&key).cloned()) {
+        return Ok(hit);
+    }
+    SOLVES.fetch_add(1, Ordering::Relaxed);
+    let result = Arc::new(solve(network, pairs)?);
+    if let Ok(mut c) = cache.lock() {
+        if c.len() >= CACHE_ENTRIES {
+            c.clear();
+        }
+        c.insert(key, Arc::clone(&result));
+    }
+    Ok(result)
+}
 
 fn err(status: u16, reason: impl Into<String>) -> CellError {
     CellError {
@@ -198,7 +242,10 @@ pub fn site_cell(
             },
         ));
     };
-    answer(net, quantity, pairs)
+    if quantity.is_empty() {
+        return answer(net, quantity, pairs);
+    }
+    pick(solved_cached(name, net, pairs)?.as_ref(), quantity)
 }
 
 /// `steamcell site FILE QUANTITY [path=value...]`: the same answer from a network file.
@@ -206,4 +253,50 @@ pub fn from_file(file: &Path, quantity: &str, args: &[String]) -> Result<String,
     let pairs = pairs_from_args(args)?;
     let net = read(file).map_err(|e| err(400, e))?;
     answer(&net, quantity, &pairs)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn pairs(list: &[(&str, &str)]) -> Vec<(String, String)> {
+        list.iter()
+            .map(|(k, v)| (k.to_string(), v.to_string()))
+            .collect()
+    }
+
+    /// Two quantities with the same pairs cost one solve and agree with an uncached answer;
+    /// other pairs solve again. (The name keys the cache; this one is never registered.)
+    #[test]
+    fn same_site_and_pairs_solve_once() {
+        let net: Value =
+            serde_json::from_str(include_str!("../../examples/site/site.json")).unwrap();
+        let name = "cache-test-site";
+        let q = pairs(&[("units.MP_users.demand", "40 t/h")]);
+        let before = solves();
+        let a = solved_cached(name, &net, &q).unwrap();
+        let b = solved_cached(name, &net, &q).unwrap();
+        assert!(
+            Arc::ptr_eq(&a, &b),
+            "the second ask is answered from the cache"
+        );
+        assert_eq!(
+            pick(&a, "net_power").unwrap(),
+            answer(&net, "net_power", &q).unwrap()
+        );
+        assert_eq!(
+            pick(&b, "fuel_heat_input").unwrap(),
+            answer(&net, "fuel_heat_input", &q).unwrap()
+        );
+        let other = pairs(&[("units.MP_users.demand", "30 t/h")]);
+        let c = solved_cached(name, &net, &other).unwrap();
+        assert_ne!(
+            pick(&a, "net_power").unwrap(),
+            pick(&c, "net_power").unwrap()
+        );
+        // Other tests in this binary may solve sites at the same time: at least our 2 misses.
+        assert!(solves() - before >= 2);
+        let d = solved_cached(name, &net, &other).unwrap();
+        assert!(Arc::ptr_eq(&c, &d));
+    }
 }
