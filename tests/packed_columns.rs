@@ -56,7 +56,10 @@ fn packed_and_json_paths_are_bit_identical() {
     )
     .unwrap();
     assert_eq!(packed_res["encoding"], "f64le");
-    assert_eq!(packed_res["errors"].as_array().unwrap().len(), 0);
+    // Sparse errors with f64le: the failed rows only, the same entries as `failed_rows`.
+    assert_eq!(packed_res["errors"], packed_res["failed_rows"]);
+    assert_eq!(packed_res["errors"].as_array().unwrap().len(), 2);
+    assert_eq!(json_res["errors"].as_array().unwrap().len(), 5000);
     let failed: Vec<u64> = packed_res["failed_rows"]
         .as_array()
         .unwrap()

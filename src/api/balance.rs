@@ -675,7 +675,7 @@ pub struct SweepParams {
     pub from: f64,
     /// Last value.
     pub to: f64,
-    /// Number of points, 2 to 1000 (1 gives `from` only).
+    /// Number of points, 1 to 1000 (1 gives `from` only).
     pub points: usize,
     /// Streams whose flow and state to report per point (default: none).
     #[serde(default)]

@@ -30,7 +30,7 @@ pub fn methods() -> Vec<MethodSpec> {
         MethodSpec::new::<BatchParams, BatchResult>(
             "water.batch",
             "Properties for columns of states (historian data): one row per state",
-            "Give two columns in `given` (arrays of equal length, numbers in the preset's units or strings with units) and the properties wanted. A bad row gives null in its columns and an entry in `errors`; it never fails the whole call.",
+            "Give two columns in `given` (of equal length: JSON arrays of numbers in the preset's units or strings with units, or packed columns {\"f64le\": base64 of little-endian doubles}) and the properties wanted. A bad row gives null (NaN in packed columns) in its columns and an entry in `errors` (one entry per row with encoding \"json\", the failed rows only with \"f64le\"); it never fails the whole call.",
             water_batch,
         ),
         MethodSpec::new::<SaturationParams, SaturationResult>(
@@ -721,14 +721,25 @@ pub enum ColumnOut {
     Packed(PackedColumn),
 }
 
+/// The per-row errors of `water.batch`, dense or sparse by encoding.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(untagged)]
+pub enum BatchErrors {
+    /// Encoding "f64le": the failed rows only, in row order, each with its row index.
+    Sparse(Vec<RowErrorAt>),
+    /// Encoding "json": one entry per row, null or the row's error.
+    Dense(Vec<Option<RowError>>),
+}
+
 /// Result of `water.batch`: one column per wanted property, plus per-row errors.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct BatchResult {
     /// Result columns keyed by property, in the preset's units; "phase" holds texts and
     /// "region" the IF97 region numbers.
     pub columns: BTreeMap<String, ColumnOut>,
-    /// With encoding "json": one entry per row, null or the row's error. Empty with "f64le".
-    pub errors: Vec<Option<RowError>>,
+    /// Per-row errors: with encoding "json" one entry per row, null or the row's error; with
+    /// "f64le" the failed rows only (sparse), each with its row index.
+    pub errors: BatchErrors,
     /// The failed rows only (both encodings), in row order.
     pub failed_rows: Vec<RowErrorAt>,
     /// Number of rows.
@@ -875,7 +886,7 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
         columns.insert(w.clone(), col);
     }
     let mut failed_rows = Vec::with_capacity(rows.failed.len());
-    let mut errors = if packed_out {
+    let mut dense = if packed_out {
         Vec::new()
     } else {
         vec![None; n]
@@ -884,7 +895,7 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
         let api: super::ApiError = e.into();
         let message = format!("row {i}: {}", api.message);
         if !packed_out {
-            errors[i] = Some(RowError {
+            dense[i] = Some(RowError {
                 code: api.code,
                 message: message.clone(),
             });
@@ -895,6 +906,11 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
             message,
         });
     }
+    let errors = if packed_out {
+        BatchErrors::Sparse(failed_rows.clone())
+    } else {
+        BatchErrors::Dense(dense)
+    };
     let mut units_map = BTreeMap::new();
     for w in &want {
         if let Some(d) = dim_of(w) {
