@@ -93,11 +93,55 @@ def test_packed_path_equals_json_path(client):
     t = np.array([20.0 + (i % 331) * 1.5 for i in range(n)])
     t[5] = -50.0
     df = pd.DataFrame({"p": p, "T": t})
-    fast = client.batch(df, want=["h", "s", "v"], progress=False, chunk=12000)
+    posts = []
+    real_post = client._tr.post_bytes
+
+    def counting(path, body, ctype):
+        posts.append(path)
+        return real_post(path, body, ctype)
+
+    client._tr.post_bytes = counting
+    try:
+        fast = client.batch(df, want=["h", "s", "v"], progress=False, chunk=12000)
+    finally:
+        del client._tr.post_bytes
+    assert posts == ["/columns"] * 3, posts  # 30,000 rows in chunks of 12,000
+    assert client.last_packed_route == "/columns"
     slow = client.batch(df, want=["h", "s", "v"], progress=False, packed=False)
+    assert client.last_packed_route is None
     for w in ("h", "s", "v"):
         a = fast[w].to_numpy()
         b = slow[w].to_numpy(dtype=float)
         assert np.array_equal(a.view(np.uint64)[~np.isnan(a)], b.view(np.uint64)[~np.isnan(b)]), w
         assert np.isnan(a[5]) and np.isnan(b[5])
     assert "row 5" in fast["errors"].iloc[5] and fast["errors"].iloc[0] is None
+
+
+def test_packed_path_with_another_formulation(client):
+    """/columns computes with IF97 only: with formulation iapws95 the packed rows go through
+    water.batch with f64le columns, and equal the JSON path bit for bit."""
+    np = pytest.importorskip("numpy")
+    n = 300
+    df = pd.DataFrame({"p": np.linspace(0.1, 30.0, n), "T": np.linspace(30.0, 600.0, n)})
+    fast = client.batch(df, want=["h", "s"], progress=False, formulation="iapws95")
+    assert client.last_packed_route == "water.batch f64le"
+    slow = client.batch(df, want=["h", "s"], progress=False, packed=False, formulation="iapws95")
+    if97 = client.batch(df, want=["h", "s"], progress=False)
+    for w in ("h", "s"):
+        a, b = fast[w].to_numpy(), slow[w].to_numpy(dtype=float)
+        assert np.array_equal(a.view(np.uint64), b.view(np.uint64)), w
+        assert not np.array_equal(a, if97[w].to_numpy()), "the formulation reached the server"
+    assert fast["errors"].isna().all()
+
+
+def test_without_numpy_the_json_path_is_used(client, monkeypatch):
+    """No numpy: batch falls back to JSON and still answers (with NaN and an error for a bad
+    row)."""
+    import sys
+    monkeypatch.setitem(sys.modules, "numpy", None)  # makes `import numpy` raise ImportError
+    out = client.batch({"p": [1.0, 2.0, 3.0], "T": [300.0, -60.0, 400.0]}, want=["h"],
+                       progress=False)
+    assert client.last_packed_route is None
+    import math
+    assert not math.isnan(out["h"][0]) and math.isnan(out["h"][1]), out["h"]
+    assert out["errors"][0] is None and "row 1" in out["errors"][1], out["errors"]

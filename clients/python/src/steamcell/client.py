@@ -45,6 +45,9 @@ class Client:
         self._tr = tr
         self.url: Optional[str] = getattr(tr, "url", None)
         self.banner: Optional[str] = getattr(tr, "banner", None)
+        #: The packed route the last :meth:`batch` took: "/columns", "water.batch f64le" or
+        #: None (the JSON path).
+        self.last_packed_route: Optional[str] = None
 
     # -- life cycle
     def close(self) -> None:
@@ -175,9 +178,12 @@ class Client:
         With numpy installed and plain numeric columns (``packed`` not False, no "phase" in
         ``want``) the numbers travel packed: ``POST /columns`` with raw little-endian doubles
         over HTTP, ``water.batch`` with base64 ``f64le`` columns over stdio; chunks of
-        ``chunk`` rows (default 250,000) on the kept-alive connection. The numbers are the same
-        bit for bit as on the JSON path (default chunk 50,000), which ``packed=False`` forces.
+        ``chunk`` rows (default 250,000) on the kept-alive connection (``formulation`` other
+        than IF97: packed ``water.batch`` over HTTP too). The numbers are the same bit for bit
+        as on the JSON path (default chunk 50,000), which ``packed=False`` forces.
+        ``last_packed_route`` tells which packed route the last call took (None: JSON).
         """
+        self.last_packed_route = None
         if packed is not False:
             fast = self._batch_packed(data, given, units, want, chunk, progress, opts)
             if fast is not None:
@@ -294,6 +300,11 @@ class Client:
         if units is not None:
             header_base["units"] = units
         post = getattr(self._tr, "post_bytes", None)
+        # /columns computes with IAPWS-IF97 only: another formulation goes packed through
+        # water.batch (base64 f64le columns) on the same connection.
+        if str(opts.get("formulation", "if97")).lower() not in ("if97", "iapws-if97"):
+            post = None
+        self.last_packed_route = "/columns" if post is not None else "water.batch f64le"
         try:
             for start in range(0, n, step):
                 stop = min(n, start + step)
