@@ -46,8 +46,16 @@ def test_sweep_and_charts(client, tmp_path):
     first = users[0]
     demand = net["units"][first]["demand"]
     assert isinstance(demand, (int, float)) or isinstance(demand, str)
-    table = balance.sweep(client, net, f"units.{first}.demand", 1.0, 6.0, points=4)
+    stream = next(n for n, st in net["streams"].items() if st["to"] == first)
+    table = balance.sweep(client, net, f"units.{first}.demand", 1.0, 6.0, points=4,
+                          streams=[stream])
     assert len(table) == 4 and "fuel_heat_input" in table.columns
+    # The chosen stream's values per point: its flow follows the swept demand (in the
+    # engineering preset, t/h).
+    assert table["ok"].all()
+    flows = table[f"{stream}.flow"].tolist()
+    assert flows == sorted(flows) and flows[0] < flows[-1], flows
+    assert table[f"{stream}.T"].notna().all()
     fig = balance.plot_sweep(table)
     fig.savefig(tmp_path / "sweep.png")
     fig2 = balance.plot_energy_flows(client.balance(net))

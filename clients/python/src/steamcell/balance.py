@@ -83,8 +83,10 @@ def solve(c, network: Any, units: Optional[str] = None, **opts: Any) -> Balance:
 def sweep(c, network: Any, path: str, from_: float, to: float, points: int = 11,
           streams: Sequence[str] = (), units: Optional[str] = None) -> Any:
     """Varies one specification (``path`` such as ``units.LP_users.demand``) with
-    ``balance.sweep``; returns a DataFrame (one row per point: value, ok, error, totals) or a
-    list of dicts without pandas."""
+    ``balance.sweep``; returns a DataFrame (one row per point: value, ok, error, iterations,
+    the totals, and for each stream of ``streams`` its ``NAME.flow``, ``NAME.p``, ``NAME.T``,
+    ``NAME.h``, ``NAME.x``; None where a point was not solved) or a list of dicts without
+    pandas."""
     params: Dict[str, Any] = {"network": _network(network), "path": path, "from": from_,
                               "to": to, "points": points, "streams": list(streams)}
     if units is not None:
@@ -92,8 +94,14 @@ def sweep(c, network: Any, path: str, from_: float, to: float, points: int = 11,
     res = c.call_raw("balance.sweep", params)
     rows = []
     for pt in res["points"]:
-        row = {"value": pt["value"], "ok": pt["ok"], "error": pt.get("error")}
+        row = {"value": pt["value"], "ok": pt["ok"], "error": pt.get("error"),
+               "iterations": pt.get("iterations")}
         row.update(pt.get("totals") or {})
+        picked = pt.get("streams") or {}
+        for name in streams:
+            got = picked.get(name) or {}
+            for field in ("flow", "p", "T", "h", "x"):
+                row[f"{name}.{field}"] = got.get(field)
         rows.append(row)
     try:
         import pandas as pd  # type: ignore
