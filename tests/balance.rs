@@ -458,3 +458,89 @@ fn a_warm_start_reproduces_the_cold_answer() {
     }
     let _ = ph; // keep the import list honest for future checks
 }
+
+/// A flash vessel fed with hot condensate at 10 bar, flashed at 2 bar: the network gives what
+/// `flash_separate` gives, and the vessel's balance closes.
+#[test]
+fn a_single_flash_vessel_gives_exactly_what_flash_separate_gives() {
+    let v = json!({
+        "units": {
+            "M": { "kind": "makeup", "T": "170 degC" },
+            "F": { "kind": "flash", "p": "2 bar", "vapour": "v" },
+            "V1": { "kind": "vent" },
+            "V2": { "kind": "vent" }
+        },
+        "streams": {
+            "a": { "from": "M", "to": "F", "flow": 5, "p": "10 bar" },
+            "v": { "from": "F", "to": "V1" },
+            "l": { "from": "F", "to": "V2" }
+        }
+    });
+    let net = network(&v);
+    let sol = b::solve(&net).unwrap();
+    check_closure(&sol, &net);
+    let inlet = pt(1.0, 443.15).unwrap();
+    let f = c::flash_separate(&inlet, 0.2, Some(5.0)).unwrap();
+    assert!(rel(sol.streams["v"].flow, f.vapour_flow) < 1e-12);
+    assert!(rel(sol.streams["l"].flow, f.liquid_flow) < 1e-12);
+    assert!(rel(sol.streams["v"].state.props.h, f.vapour.props.h) < 1e-14);
+    assert!(rel(sol.streams["l"].state.props.h, f.liquid.props.h) < 1e-14);
+    assert_eq!(sol.streams["v"].state.x, Some(1.0));
+}
+
+fn exchanger_net(hot_out: Value) -> Value {
+    json!({
+        "units": {
+            "M1": { "kind": "makeup", "T": "170 degC" },
+            "M2": { "kind": "makeup", "T": "20 degC" },
+            "X": { "kind": "exchanger", "hot_in": "hi", "hot_out": "ho" },
+            "V1": { "kind": "vent" },
+            "V2": { "kind": "vent" }
+        },
+        "streams": {
+            "hi": { "from": "M1", "to": "X", "flow": 5, "p": "10 bar" },
+            "ho": hot_out,
+            "ci": { "from": "M2", "to": "X", "flow": 8, "p": "3 bar" },
+            "co": { "from": "X", "to": "V2" }
+        }
+    })
+}
+
+/// Hot water 170 -> 60 degC heating cold water of a known flow: the network gives what
+/// `exchanger_balance` gives; fixing the hot outlet by h instead of T gives the same answer.
+#[test]
+fn a_single_exchanger_gives_exactly_what_exchanger_balance_gives() {
+    let v = exchanger_net(json!({ "from": "X", "to": "V1", "T": "60 degC" }));
+    let net = network(&v);
+    let sol = b::solve(&net).unwrap();
+    check_closure(&sol, &net);
+    let hot = c::Side {
+        inlet: pt(1.0, 443.15).unwrap(),
+        outlet: Some(pt(1.0, 333.15).unwrap()),
+        flow: Some(5.0),
+    };
+    let cold = c::Side {
+        inlet: pt(0.3, 293.15).unwrap(),
+        outlet: None,
+        flow: Some(8.0),
+    };
+    let x = c::exchanger_balance(&hot, &cold).unwrap();
+    assert!(rel(sol.units["X"].duty.unwrap(), x.duty) < 1e-12);
+    assert!(rel(sol.streams["co"].state.props.h, x.cold_out.props.h) < 1e-12);
+    assert!(rel(sol.streams["co"].state.props.t, x.cold_out.props.t) < 1e-12);
+
+    // The same hot outlet given by its enthalpy (in kJ/kg).
+    let h = sol.streams["ho"].state.props.h;
+    let v = exchanger_net(json!({ "from": "X", "to": "V1", "h": h }));
+    let net_h = network(&v);
+    let sol_h = b::solve(&net_h).unwrap();
+    check_closure(&sol_h, &net_h);
+    // (p, h) -> T holds h to the solver's 1e-11 relative, T here to about 2e-12.
+    let t_h = sol_h.streams["ho"].state.props.t;
+    assert!(
+        rel(t_h, 333.15) < 1e-10,
+        "T = {t_h}, p = {}",
+        sol_h.streams["ho"].state.props.p
+    );
+    assert!(rel(sol_h.units["X"].duty.unwrap(), x.duty) < 1e-9);
+}
