@@ -18,14 +18,16 @@ struct Cli {
 
 #[derive(Subcommand)]
 enum Command {
-    /// Serve JSON-RPC 2.0 over HTTP POST and WebSocket, plus GET /health, /schema, /cell/{quantity}.
+    /// Serve JSON-RPC 2.0 over HTTP POST and WebSocket, plus GET /health, /schema,
+    /// /cell/{quantity}, /site/{name}/{quantity} and the bulk route POST /columns.
     ///
     /// Security: listens on loopback by default. A non-loopback address needs a token
     /// (--token-file or STEAMCELL_TOKEN); with a token every request except GET /health needs
     /// `Authorization: Bearer <token>` (else 401). The Host header must name this server
     /// (localhost, a loopback or the listen address, or --allow-host; else 403). Requests with
     /// an Origin header are refused (403) unless --allow-origin names it; CORS headers are sent
-    /// only for such origins. POST bodies must be Content-Type: application/json (else 415).
+    /// only for such origins. POST bodies must be Content-Type: application/json (else 415;
+    /// /columns takes application/x-steamcell-columns).
     /// Beyond a limit: body 413, nesting/in-flight JSON-RPC error 1008, time limit 408/503.
     #[command(verbatim_doc_comment)]
     Serve(Box<ServeArgs>),
