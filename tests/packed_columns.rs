@@ -1,4 +1,4 @@
-//! Packed binary columns for `water.batch`: the packed and JSON paths give bit-identical numbers,
+//! Packed binary columns for `water.batch` and `water.curve`: the packed and JSON paths give bit-identical numbers,
 //! the parallel path equals the sequential one bit for bit, malformed columns get clear errors,
 //! and a 1,000,000-row packed round trip works.
 
@@ -222,4 +222,45 @@ fn json_numbers_parse_exactly() {
     );
     assert_eq!(a[0].to_bits(), b[0].to_bits());
     assert_eq!(a[1].to_bits(), b[1].to_bits());
+}
+
+/// `water.curve` with encoding "f64le": every series' columns come packed and unpack to the
+/// JSON numbers bit for bit; an unknown encoding is refused by name.
+#[test]
+fn curve_series_pack_bit_for_bit() {
+    for kind in [json!({"kind": "dome"}), json!({"kind": "isobar", "p": 10})] {
+        let mut packed_params = kind.clone();
+        packed_params["encoding"] = json!("f64le");
+        packed_params["points"] = json!(200);
+        let mut json_params = kind.clone();
+        json_params["points"] = json!(200);
+        let a = call("water.curve", json_params).unwrap();
+        let b = call("water.curve", packed_params).unwrap();
+        let (sa, sb) = (
+            a["series"].as_array().unwrap(),
+            b["series"].as_array().unwrap(),
+        );
+        assert_eq!(sa.len(), sb.len());
+        for (x, y) in sa.iter().zip(sb) {
+            assert_eq!(x["name"], y["name"]);
+            for q in ["T", "s", "h", "p", "v"] {
+                assert!(y[q]["f64le"].is_string(), "{q} packed");
+                let want: Vec<u64> = x[q]
+                    .as_array()
+                    .unwrap()
+                    .iter()
+                    .map(|v| v.as_f64().unwrap().to_bits())
+                    .collect();
+                let got: Vec<u64> = unpack(&y[q]).iter().map(|v| v.to_bits()).collect();
+                assert!(got.len() >= 200);
+                assert_eq!(got, want, "{} {q}", x["name"]);
+            }
+        }
+    }
+    let e = call("water.curve", json!({"kind": "dome", "encoding": "f32"})).unwrap_err();
+    assert!(
+        e.message.contains("encoding") && e.message.contains("f64le"),
+        "{}",
+        e.message
+    );
 }

@@ -721,6 +721,17 @@ pub enum ColumnOut {
     Packed(PackedColumn),
 }
 
+/// Whether an `encoding` param asks for packed result columns ("f64le") or JSON numbers.
+fn packed_encoding(encoding: Option<&str>) -> Result<bool> {
+    match encoding {
+        None | Some("json") => Ok(false),
+        Some("f64le") => Ok(true),
+        Some(other) => Err(Error::invalid(format!(
+            "encoding = '{other}'; accepted: json, f64le"
+        ))),
+    }
+}
+
 /// The per-row errors of `water.batch`, dense or sparse by encoding.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 #[serde(untagged)]
@@ -810,15 +821,7 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
     let f = parse_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
     let opts = p.flags.options()?;
-    let packed_out = match p.encoding.as_deref() {
-        None | Some("json") => false,
-        Some("f64le") => true,
-        Some(other) => {
-            return Err(Error::invalid(format!(
-                "encoding = '{other}'; accepted: json, f64le"
-            )))
-        }
-    };
+    let packed_out = packed_encoding(p.encoding.as_deref())?;
     if p.given.len() != 2 {
         return Err(Error::invalid(format!(
             "give exactly two input columns in `given` (got {}); accepted pairs: {PAIRS}",
@@ -1094,6 +1097,51 @@ pub struct CurveParams {
     /// Unit preset (see `water.state`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub units: Option<String>,
+    /// "json" (default) or "f64le": each series' T, s, h, p, v as packed columns (base64 of
+    /// little-endian doubles), the same numbers bit for bit.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub encoding: Option<String>,
+}
+
+/// One series of chart points, its columns packed (encoding "f64le").
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct PackedSeries {
+    /// What the series is, e.g. "saturated liquid" or "isobar 1 MPa".
+    pub name: String,
+    /// Temperatures.
+    #[serde(rename = "T")]
+    pub t: PackedColumn,
+    /// Entropies.
+    pub s: PackedColumn,
+    /// Enthalpies.
+    pub h: PackedColumn,
+    /// Pressures.
+    pub p: PackedColumn,
+    /// Specific volumes.
+    pub v: PackedColumn,
+}
+
+impl From<&Series> for PackedSeries {
+    fn from(s: &Series) -> Self {
+        PackedSeries {
+            name: s.name.clone(),
+            t: PackedColumn::pack(&s.t),
+            s: PackedColumn::pack(&s.s),
+            h: PackedColumn::pack(&s.h),
+            p: PackedColumn::pack(&s.p),
+            v: PackedColumn::pack(&s.v),
+        }
+    }
+}
+
+/// A series of `water.curve`: JSON numbers, or packed with encoding "f64le".
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+#[serde(untagged)]
+pub enum SeriesOut {
+    /// Encoding "json".
+    Numbers(Series),
+    /// Encoding "f64le".
+    Packed(PackedSeries),
 }
 
 /// One series of chart points.
@@ -1118,7 +1166,7 @@ pub struct Series {
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct CurveResult {
     /// The series of points.
-    pub series: Vec<Series>,
+    pub series: Vec<SeriesOut>,
     /// Units of T, s, h, p, v.
     pub units: BTreeMap<String, String>,
 }
@@ -1154,6 +1202,7 @@ impl<'a> SeriesBuilder<'a> {
 
 fn water_curve(c: CurveParams) -> Result<CurveResult> {
     let ctx = Ctx::new(c.units.as_deref(), None)?;
+    let packed = packed_encoding(c.encoding.as_deref())?;
     let n = c.points.unwrap_or(60);
     if !(2..=2000).contains(&n) {
         return Err(Error::invalid(format!("points = {n} is outside 2..2000")));
@@ -1310,6 +1359,16 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
     units_map.insert("p".into(), ctx.unit(Dim::Pressure).into());
     units_map.insert("v".into(), ctx.unit(Dim::SpecificVolume).into());
     units_map.insert("preset".into(), ctx.preset.name().into());
+    let series = series
+        .iter()
+        .map(|s| {
+            if packed {
+                SeriesOut::Packed(s.into())
+            } else {
+                SeriesOut::Numbers(s.clone())
+            }
+        })
+        .collect();
     Ok(CurveResult {
         series,
         units: units_map,

@@ -21,7 +21,7 @@ CONTRACT = {
     "water.batch": {"given", "want", "encoding", "units", "ambient", "formulation", "backward_only",
                     "metastable", "prefer"},
     "water.saturation": {"T", "p", "units", "ambient", "formulation"},
-    "water.curve": {"kind", "p", "T", "s", "from", "to", "points", "units"},
+    "water.curve": {"kind", "p", "T", "s", "from", "to", "points", "units", "encoding"},
     "turbine.expand": {"inlet", "outlet_p", "efficiency", "outlet", "units", "ambient"},
     "turbine.train": {"inlet", "stages", "units", "ambient"},
     "pump.raise": {"inlet", "outlet_p", "efficiency", "efficiency_kind", "units", "ambient"},
