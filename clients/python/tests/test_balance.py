@@ -87,3 +87,18 @@ def test_registered_site_numbers_match_balance_solve(binary, client):
         assert got == want
         with pytest.raises(steamcell.Error, match="registered: mill"):
             c.site("other", "net_power")
+
+
+def test_the_notebook_style_example_runs(tmp_path):
+    """examples/site/site_balance.py, as the README tells a user to run it: it prints the
+    totals and writes both charts."""
+    import os
+    import subprocess
+    import sys
+    env = dict(os.environ, MPLBACKEND="Agg")
+    out = subprocess.run([sys.executable, str(REPO / "examples" / "site" / "site_balance.py")],
+                         cwd=tmp_path, env=env, capture_output=True, text=True, timeout=300)
+    assert out.returncode == 0, out.stderr[-2000:]
+    assert "net_power" in out.stdout and "fuel_heat_input" in out.stdout, out.stdout[-2000:]
+    for png in ("site-flows.png", "site-sweep.png"):
+        assert (tmp_path / png).stat().st_size > 5000, png
