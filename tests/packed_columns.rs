@@ -137,6 +137,11 @@ fn malformed_columns_get_clear_errors() {
     .unwrap();
     assert_eq!(r["failed"], 1);
     assert_eq!(r["errors"][1]["code"], 1002);
+    let msg = r["errors"][1]["message"].as_str().unwrap();
+    assert!(
+        msg.contains("row 1") && msg.contains('p') && msg.contains("NaN"),
+        "the message names the row, the quantity and the value: {msg}"
+    );
     assert!(r["columns"]["h"][0].is_number());
 }
 
