@@ -19,6 +19,11 @@ apt_install() {
   apt-get install -y -q --no-install-recommends "$@"
 }
 
+echo "== clients: R for the stdio guide's R example"
+if ! command -v Rscript >/dev/null 2>&1 || ! Rscript -e 'library(jsonlite)' >/dev/null 2>&1; then
+  apt_install r-base-core r-cran-jsonlite
+fi
+
 echo "== clients: python package (venv .venv)"
 PY=${PYTHON:-python3}
 if ! "$PY" -c "import venv, ensurepip" >/dev/null 2>&1; then

@@ -38,3 +38,27 @@ def test_guide_shell_block(binary, name, script):
         assert [a["id"] for a in answers] == [300, 350, 400]
         hs = [a["result"]["h"] for a in answers]
         assert hs == sorted(hs) and hs[0] < hs[-1]
+
+
+def test_guide_r_block(binary, client):
+    """The guide's R example (jsonlite and system2 over `steamcell stdio`) gives the numbers the
+    server gives for the same two calls. clients/run-tests.sh installs Debian's r-base-core
+    and r-cran-jsonlite; without Rscript this test is skipped."""
+    import shutil
+    if shutil.which("Rscript") is None:
+        pytest.skip("Rscript is not installed (clients/run-tests.sh installs it)")
+    text = GUIDE.read_text(encoding="utf-8")
+    found = re.findall(r"```r\n(.*?)```", text, re.S)
+    assert len(found) == 1, "the guide's R block is missing"
+    script = found[0] + (
+        '\ncat(sprintf("%.17g\\n%.17g\\n", answers[[1]]$result$h, answers[[2]]$result$outlet$T))\n')
+    env = dict(os.environ)
+    env["PATH"] = str(Path(binary).resolve().parent) + os.pathsep + env.get("PATH", "")
+    out = subprocess.run(["Rscript", "-"], input=script, capture_output=True, text=True,
+                         timeout=120, env=env)
+    assert out.returncode == 0, out.stderr
+    h, t_out = [float(x) for x in out.stdout.split()[-2:]]
+    want_h = client.call_raw("water.state", {"given": {"p": "42 barg", "T": "410 degC"}})["h"]
+    want_t = client.call_raw("valve.throttle", {"inlet": {"p": "42 barg", "T": "410 degC"},
+                                                "outlet_p": "4 barg"})["outlet"]["T"]
+    assert h == pytest.approx(want_h, rel=1e-14) and t_out == pytest.approx(want_t, rel=1e-14)
