@@ -57,39 +57,56 @@ fn columns_over_http() {
     common::assert_check(&r.json());
 }
 
-/// A bulk request counts against `--max-in-flight` like a JSON-RPC call: while a large
-/// /columns request runs with the limit at 1, a second /columns request gets 503 with the
-/// limit error (1008), and the first completes.
+/// A bulk request counts against `--max-in-flight` like a JSON-RPC call: while a long
+/// `balance.sweep` (one core, seconds) holds the only slot, a /columns request gets 503 with
+/// the limit error (1008); once the sweep is done, /columns answers again. (A large /columns
+/// request as the slot holder would occupy both cores of a small machine with its parallel
+/// rows, so the refusal could not be observed reliably.)
 #[test]
 fn columns_count_as_calls_in_flight() {
     let s = common::start(&["--max-in-flight", "1"], &[]);
-    let n = 1_000_000;
-    let p: Vec<f64> = (0..n).map(|i| 0.1 + (i % 500) as f64 * 0.05).collect();
-    let t: Vec<f64> = (0..n).map(|i| 150.0 + (i % 301) as f64).collect();
-    let big = frame(
-        &json!({"given": ["p", "T"], "rows": n, "want": ["h", "s", "v", "cp", "w"]}),
-        &[p, t],
-    );
+    let site: serde_json::Value =
+        serde_json::from_str(include_str!("../examples/site/site.json")).unwrap();
+    let sweep = json!({
+        "jsonrpc": "2.0", "id": 1, "method": "balance.sweep",
+        "params": {"network": site, "path": "units.LP_users.demand", "from": 6, "to": 18, "points": 1000}
+    })
+    .to_string();
     let small = frame(
         &json!({"given": ["p", "T"], "rows": 1, "want": ["h"]}),
         &[vec![3.0], vec![300.0]],
     );
     let ct = format!("Content-Type: {CONTENT_TYPE}");
-    let addr = s.addr.clone();
-    let ct2 = ct.clone();
-    let slow =
-        std::thread::spawn(move || common::request(&addr, "POST", "/columns", &[&ct2], &big));
-    let t0 = std::time::Instant::now();
-    let mut refused = None;
-    while t0.elapsed() < std::time::Duration::from_secs(30) && !slow.is_finished() {
-        let r = common::request(&s.addr, "POST", "/columns", &[&ct], &small);
-        if r.status == 503 {
-            refused = Some(r);
+    let mut seen = None;
+    for _attempt in 0..3 {
+        let addr = s.addr.clone();
+        let body = sweep.clone();
+        let slow = std::thread::spawn(move || common::post(&addr, &[], body.as_bytes()));
+        // Let the sweep take the slot first (else the first probe may take it and the
+        // sweep is the one refused; then the attempt is repeated).
+        std::thread::sleep(std::time::Duration::from_millis(100));
+        let t0 = std::time::Instant::now();
+        let mut refused = None;
+        while t0.elapsed() < std::time::Duration::from_secs(60) && !slow.is_finished() {
+            let r = common::request(&s.addr, "POST", "/columns", &[&ct], &small);
+            if r.status == 503 {
+                refused = Some(r);
+                break;
+            }
+            std::thread::sleep(std::time::Duration::from_millis(5));
+        }
+        let done = slow.join().unwrap().json();
+        if let Some(r) = refused {
+            assert_eq!(
+                done["result"]["points"].as_array().map(Vec::len),
+                Some(1000),
+                "{done}"
+            );
+            seen = Some(r);
             break;
         }
-        std::thread::sleep(std::time::Duration::from_millis(2));
     }
-    let r = refused.expect("a second bulk request while one runs is refused");
+    let r = seen.expect("a bulk request while a call holds the only slot is refused");
     let v = r.json();
     assert_eq!(v["error"]["code"], 1008, "{v}");
     assert!(
@@ -99,9 +116,6 @@ fn columns_count_as_calls_in_flight() {
             .contains("in flight"),
         "{v}"
     );
-    let done = slow.join().unwrap();
-    assert_eq!(done.status, 200, "{}", done.text());
-    assert_eq!(split_frame(&done.body).unwrap().0["rows"], n);
     let r = common::request(&s.addr, "POST", "/columns", &[&ct], &small);
     assert_eq!(r.status, 200, "{}", r.text());
 }
