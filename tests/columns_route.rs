@@ -107,15 +107,7 @@ fn columns_count_as_calls_in_flight() {
         }
     }
     let r = seen.expect("a bulk request while a call holds the only slot is refused");
-    let v = r.json();
-    assert_eq!(v["error"]["code"], 1008, "{v}");
-    assert!(
-        v["error"]["message"]
-            .as_str()
-            .unwrap()
-            .contains("in flight"),
-        "{v}"
-    );
+    common::assert_in_flight_refusal(&r.json());
     let r = common::request(&s.addr, "POST", "/columns", &[&ct], &small);
     assert_eq!(r.status, 200, "{}", r.text());
 }

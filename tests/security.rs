@@ -339,13 +339,7 @@ fn in_flight_limit_answers_1008() {
         std::thread::sleep(Duration::from_millis(5));
     }
     let v = refused.expect("a second call while one runs is refused");
-    assert!(
-        v["error"]["message"]
-            .as_str()
-            .unwrap()
-            .contains("in flight"),
-        "{v}"
-    );
+    assert_in_flight_refusal(&v);
     let r = slow.join().unwrap().json();
     assert_eq!(r["result"]["rows"], 200_000);
     assert_check(&post(&s.addr, &[], CHECK_REQUEST.as_bytes()).json());

@@ -184,3 +184,10 @@ pub fn assert_check(v: &serde_json::Value) {
         "h = {h}, IAPWS R7-97(2012) Table 5 prints 115.331273"
     );
 }
+
+/// Asserts a refusal by the in-flight limit: error 1008 whose message names the calls in flight.
+pub fn assert_in_flight_refusal(v: &serde_json::Value) {
+    assert_eq!(v["error"]["code"], 1008, "{v}");
+    let msg = v["error"]["message"].as_str().unwrap_or_default();
+    assert!(msg.contains("in flight"), "{v}");
+}
