@@ -1360,12 +1360,12 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
     units_map.insert("v".into(), ctx.unit(Dim::SpecificVolume).into());
     units_map.insert("preset".into(), ctx.preset.name().into());
     let series = series
-        .iter()
+        .into_iter()
         .map(|s| {
             if packed {
-                SeriesOut::Packed(s.into())
+                SeriesOut::Packed((&s).into())
             } else {
-                SeriesOut::Numbers(s.clone())
+                SeriesOut::Numbers(s)
             }
         })
         .collect();
