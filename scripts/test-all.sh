@@ -8,11 +8,14 @@ cd "$(dirname "$0")/.."
 echo "== cargo fmt --check"
 cargo fmt --all -- --check
 
-echo "== cargo clippy (all targets, warnings are errors)"
-cargo clippy --all-targets --locked -- -D warnings
+echo "== generated coefficient tables match tools/coefficients"
+python3 tools/gen_tables.py --check
 
-echo "== cargo test (all targets)"
-cargo test --all-targets --locked
+echo "== cargo clippy (all targets, warnings are errors)"
+cargo clippy --workspace --all-targets --locked -- -D warnings
+
+echo "== cargo test (workspace, all targets)"
+cargo test --workspace --all-targets --locked
 
 if [ -f clients/run-tests.sh ]; then
   echo "== clients (Python package, stdio guide, spreadsheet)"

@@ -1,18 +1,22 @@
 #!/usr/bin/env python3
-"""Generate the Rust coefficient tables in src/water/tables/ from the IAPWS coefficient collection.
+"""Generate the Rust coefficient tables in crates/steamcell-core/src/water/tables/ from the IAPWS coefficient collection.
 
-Usage: python3 tools/gen_tables.py DIR_WITH_COEFFICIENT_JSON
+Usage: python3 tools/gen_tables.py [--check] [DIR_WITH_COEFFICIENT_JSON]
 
-The collection (one JSON file per equation, every digit as the IAPWS release prints it) is kept
-outside the repository; the generated Rust is committed, so a clone builds without it. Re-run this
-script only when the collection changes, then review the diff.
+The collection (one JSON file per equation, every digit as the IAPWS release prints it) is
+`tools/coefficients/` (its README gives the source and the verification status of each file); the
+generated Rust is committed, so a build needs no Python. Re-run this script when the collection
+changes, then review the diff. `--check` writes nothing: it regenerates into memory and fails when
+a committed table differs (run by scripts/test-all.sh).
 """
 import json
 import os
 import re
 import sys
 
-OUT = os.path.join(os.path.dirname(os.path.abspath(__file__)), "..", "src", "water", "tables")
+OUT = os.path.join(
+    os.path.dirname(os.path.abspath(__file__)), "..", "crates", "steamcell-core", "src", "water", "tables"
+)
 
 
 class RawFloat(float):
@@ -229,9 +233,11 @@ def gen_file(path):
                 for g, ts in groups.items():
                     gname = "TERMS_" + re.sub(r"[^A-Za-z0-9]", "_", g).upper()
                     emit_terms(gname, ts, f"{cite}: {g} terms (row number in the trailing comment).", out)
+    # One printed row per line: rustfmt would spread each struct literal over five lines.
+    out = [("#[rustfmt::skip]\n" + line) if re.match(r"pub const \w+: \[\w+; \d+\] = \[$", line) else line
+           for line in out]
     text = "\n".join(out).rstrip() + "\n"
-    with open(os.path.join(OUT, mod + ".rs"), "w") as f:
-        f.write(text)
+    write(os.path.join(OUT, mod + ".rs"), text)
     return mod, d["release"], d["equation"]
 
 
@@ -373,10 +379,33 @@ pub struct Ab {
 '''
 
 
+CHECK = {"on": False, "stale": []}
+
+
+def write(path, text):
+    """Writes a generated file, or in --check mode records it when the committed text differs."""
+    if CHECK["on"]:
+        try:
+            with open(path) as f:
+                same = f.read() == text
+        except FileNotFoundError:
+            same = False
+        if not same:
+            CHECK["stale"].append(os.path.normpath(path))
+        return
+    with open(path, "w") as f:
+        f.write(text)
+
+
 def main():
-    if len(sys.argv) != 2:
+    args = sys.argv[1:]
+    if args[:1] == ["--check"]:
+        CHECK["on"] = True
+        args = args[1:]
+    if len(args) > 1:
         raise SystemExit(__doc__)
-    src = sys.argv[1]
+    here = os.path.dirname(os.path.abspath(__file__))
+    src = args[0] if args else os.path.join(here, "coefficients")
     os.makedirs(OUT, exist_ok=True)
     mods = []
     for name in sorted(os.listdir(src)):
@@ -386,8 +415,12 @@ def main():
     for mod, release, equation in mods:
         lines.append(f"/// {release}: {equation}.")
         lines.append(f"pub mod {mod};")
-    with open(os.path.join(OUT, "mod.rs"), "w") as f:
-        f.write("\n".join(lines) + "\n")
+    write(os.path.join(OUT, "mod.rs"), "\n".join(lines) + "\n")
+    if CHECK["on"]:
+        if CHECK["stale"]:
+            raise SystemExit("generated tables differ from tools/gen_tables.py's output: " + ", ".join(CHECK["stale"]))
+        print(f"{len(mods)} generated table modules match {os.path.normpath(src)}")
+        return
     print(f"wrote {len(mods)} modules to {os.path.normpath(OUT)}")
 
 
