@@ -1,5 +1,5 @@
 #!/usr/bin/env python3
-"""Writes site-steam.fods: the invented "Kettlewell Mills" site steam balance, whose cells call a
+"""Writes site-steam.fods: the invented "Imaginary Falls Mill" site steam balance, whose cells call a
 local steamcell server through the spreadsheet web-call function (COM.MICROSOFT.WEBSERVICE).
 
 Usage: python3 make_workbook.py [--port 8790] [--out site-steam.fods]
@@ -48,7 +48,7 @@ def q(name: str, value_ref: str, unit_ref: str = None):
 
 # (key, label, value or formula, unit, note); value: number, string, or "of:=..." formula.
 ROWS = [
-    ("title", "Kettlewell Mills: site steam header, back-pressure turbine and let-down station", None, None,
+    ("title", "Imaginary Falls Mill: site steam header, back-pressure turbine and let-down station", None, None,
      "An invented example site. Cells in column B marked 'server' call steamcell."),
     (None, None, None, None, None),
     ("port", "steamcell server port", DEFAULT_PORT, None, "Start: steamcell serve --listen 127.0.0.1:8790"),
