@@ -128,7 +128,8 @@ class HttpTransport:
     the server closed in the meantime is replaced once, transparently.
     """
 
-    def __init__(self, url: str, timeout: float = 600.0, pool_size: int = 32):
+    def __init__(self, url: str, timeout: float = 600.0, pool_size: int = 32,
+                 token: Optional[str] = None):
         parsed = urllib.parse.urlsplit(url if "://" in url else "http://" + url)
         if parsed.scheme != "http":
             raise TransportError(f"only http:// URLs are supported, got {url}")
@@ -138,6 +139,8 @@ class HttpTransport:
         self.path = parsed.path or "/"
         self.timeout = timeout
         self.pool_size = max(1, int(pool_size))
+        #: Bearer token sent with every request (a team server's), default env STEAMCELL_TOKEN.
+        self.token = token if token is not None else os.environ.get("STEAMCELL_TOKEN") or None
         self._idle: List[http.client.HTTPConnection] = []
         self._lock = threading.Lock()
         self._closed = False
@@ -166,6 +169,8 @@ class HttpTransport:
         """One HTTP request on a pooled connection: (status, content type, body bytes)."""
         hdrs = dict(headers or {})
         hdrs.setdefault("Connection", "keep-alive")
+        if self.token:
+            hdrs["Authorization"] = f"Bearer {self.token}"
         while True:
             conn = self._acquire()
             reused = conn.sock is not None
@@ -287,7 +292,7 @@ class SpawnedHttpTransport(HttpTransport):
     """Starts ``steamcell serve --listen 127.0.0.1:0`` and talks HTTP to it."""
 
     def __init__(self, binary: str, listen: str = "127.0.0.1:0", timeout: float = 600.0,
-                 extra_args=()):
+                 extra_args=(), token: Optional[str] = None):
         self.binary = binary
         self.child = _Child([binary, "serve", "--listen", listen, *extra_args], stdin=False)
         line = self.child.proc.stdout.readline().decode("utf-8", "replace")
@@ -300,7 +305,7 @@ class SpawnedHttpTransport(HttpTransport):
                 f"{binary} serve did not report its address (first line {line!r}); stderr: {err}")
         self.banner = line.strip()
         threading.Thread(target=_drain, args=(self.child.proc.stdout,), daemon=True).start()
-        super().__init__("http://" + m.group(1), timeout=timeout)
+        super().__init__("http://" + m.group(1), timeout=timeout, token=token)
 
     def close(self) -> None:
         super().close()
