@@ -50,9 +50,9 @@ class Chart:
         return getattr(self.figure, name)
 
     def savefig(self, fname, **kwargs) -> None:
-        """Saves the chart; the format follows the file name (.png, .svg, .pdf)."""
+        """Saves the chart at its figure size; the format follows the file name (.png, .svg,
+        .pdf). Keywords go to matplotlib's ``savefig`` (``bbox_inches="tight"`` trims it)."""
         kwargs.setdefault("dpi", self.dpi)
-        kwargs.setdefault("bbox_inches", "tight")
         self.figure.savefig(fname, **kwargs)
 
     def _repr_png_(self) -> bytes:
