@@ -8,7 +8,8 @@
 
 :func:`batch` (also reached as ``Client.batch`` with a Dask DataFrame) returns a lazy Dask
 DataFrame with the same partitions and index as its input and one float64 column per wanted
-property plus ``errors`` (None, or the row's message). Nothing is computed until the result is.
+property plus ``errors`` (a string column: missing, or the row's message, which names the row by
+its index label). Nothing is computed until the result is.
 Each partition is computed on the worker that holds it, through packed columns
 (``POST /columns``), by:
 
@@ -23,7 +24,8 @@ Each partition is computed on the worker that holds it, through packed columns
 Every row is accounted for: a bad row gives NaN and its message, as in ``Client.batch``; a
 partition whose engine is lost (the process died, the server cannot be reached) fails the
 computation with :class:`steamcell.WorkerEngineLost` naming the worker, the engine and the
-partition's rows, never with fewer rows. The next computation starts a fresh engine.
+partition's rows, never with fewer rows. Each worker reports its own lost engine once; a
+computation after that starts a fresh engine there.
 
 Inputs must be numeric columns in the preset ``units`` (default engineering: MPa, degC, ...);
 a missing column or a column of text is refused when the graph is built, before anything runs.
@@ -32,6 +34,7 @@ a missing column or a column of text is refused when the graph is built, before 
 from __future__ import annotations
 
 import os
+import re
 import threading
 from typing import Any, Dict, List, Optional, Sequence
 
@@ -41,6 +44,7 @@ from .client import DEFAULT_WANT, STATE_KEYS
 _ENGINES: Dict[Any, Any] = {}
 _LOCK = threading.Lock()
 PLUGIN_NAME = "steamcell-engines"
+_ROW = re.compile(r"^row (\d+):")
 
 
 class _EngineSpec:
@@ -175,7 +179,11 @@ def _partition(df, spec: _EngineSpec, given: Dict[str, str], want: List[str],
             f"{first!r} to {last!r}), which was not computed: {e.message}") from None
     if c.last_packed_route is None:  # cannot happen for numeric columns; never silently slow
         raise errors.InvalidInput("steamcell.dask: the partition did not travel packed")
-    out["errors"] = pd.Series(out["errors"].to_numpy(dtype=object), index=out.index, dtype=object)
+    # "row i:" of a message counts within the partition: name the row by its index label
+    labels = df.index
+    errs = [e if e is None else _ROW.sub(lambda m: f"row {labels[int(m.group(1))]}:", e, count=1)
+            for e in out["errors"].tolist()]
+    out["errors"] = pd.Series(errs, index=out.index, dtype="string")
     return out
 
 
@@ -183,7 +191,7 @@ def _meta(want: Sequence[str], index):
     import pandas as pd  # type: ignore
     cols = {w: pd.Series([], dtype="float64", index=index[:0]) for w in want}
     frame = pd.DataFrame(cols, index=index[:0])
-    frame["errors"] = pd.Series([], dtype=object, index=index[:0])
+    frame["errors"] = pd.Series([], dtype="string", index=index[:0])
     return frame
 
 
