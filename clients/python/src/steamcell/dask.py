@@ -181,9 +181,13 @@ def _partition(df, spec: _EngineSpec, given: Dict[str, str], want: List[str],
         raise errors.InvalidInput("steamcell.dask: the partition did not travel packed")
     # "row i:" of a message counts within the partition: name the row by its index label
     labels = df.index
-    errs = [e if e is None else _ROW.sub(lambda m: f"row {labels[int(m.group(1))]}:", e, count=1)
-            for e in out["errors"].tolist()]
-    out["errors"] = pd.Series(errs, index=out.index, dtype="string")
+    errs = out["errors"]
+    bad = errs.notna().to_numpy()
+    col = pd.Series(pd.NA, index=out.index, dtype="string")
+    if bad.any():
+        col[bad] = [_ROW.sub(lambda m: f"row {labels[int(m.group(1))]}:", e, count=1)
+                    for e in errs[bad].tolist()]
+    out["errors"] = col
     return out
 
 
