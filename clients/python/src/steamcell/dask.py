@@ -36,6 +36,7 @@ from __future__ import annotations
 import os
 import re
 import threading
+import uuid
 from typing import Any, Dict, List, Optional, Sequence
 
 from . import errors
@@ -53,6 +54,9 @@ class _EngineSpec:
     def __init__(self, server: Optional[str], token: Optional[str], binary: Optional[str],
                  timeout: float):
         self.server, self.token, self.binary, self.timeout = server, token, binary, timeout
+        # each batch() is a graph of its own: its result depends on the engines' state, so a
+        # failed computation is never answered again from the scheduler's memory
+        self.call = uuid.uuid4().hex
 
     def key(self):
         return (self.server, self.token, self.binary)
