@@ -31,7 +31,13 @@ if ! "$PY" -c "import venv, ensurepip" >/dev/null 2>&1; then
   PY=/usr/bin/python3
 fi
 [ -x .venv/bin/python ] || "$PY" -m venv .venv
-.venv/bin/python -m pip install -q "./clients/python[all]" pytest
+.venv/bin/python -m pip install -q "./clients/python[all,test]"
+# the install builds out of tree (flit_core): nothing new in the checkout
+leftovers=$(git status --porcelain --ignored clients/python 2>/dev/null | grep -E '/build/|\.egg-info' || true)
+if [ -n "$leftovers" ]; then
+  echo "$leftovers" >&2
+  echo "installing the client left files in the checkout" >&2; exit 1
+fi
 set +e
 (cd clients/python && "$ROOT/.venv/bin/python" -m pytest -q -p no:cacheprovider tests)
 rc=$?

@@ -33,7 +33,7 @@ pub fn methods() -> Vec<MethodSpec> {
         MethodSpec::new::<SweepParams, SweepResult>(
             "balance.sweep",
             "Vary one specification of a site network over a range and solve each point",
-            concat!("`path` is a dotted path into the network, e.g. `units.LP_users.demand` or `streams.S1.flow`; the value goes from `from` to `to` in `points` equal steps (numbers in the request's preset). Each point is solved from the previous answer; a point that cannot be solved is reported with its error, not dropped. Returns the site totals and the chosen streams' flow, p, T, h and x per point.", " Caution: the model is only as good as its specifications; results are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
+            concat!("`path` is a dotted path into the network, e.g. `units.LP_users.demand` or `streams.S1.flow`; the value goes from `from` to `to` in `points` equal steps (each a number in the request's preset or a text with its unit such as \"20 t/h\", read in the dimension of that field; the result's `unit` is the unit of every point's value). Each point is solved from the previous answer; a point that cannot be solved is reported with its error, not dropped. Returns the site totals and the chosen streams' flow, p, T, h and x per point.", " Caution: the model is only as good as its specifications; results are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             balance_sweep,
         ),
     ]
@@ -671,10 +671,11 @@ pub struct SweepParams {
     /// Dotted path of the specification to vary, e.g. "units.LP_users.demand" or
     /// "streams.S1.flow" (the field is created when absent; its parent must exist).
     pub path: String,
-    /// First value (a number in the request's preset for that quantity).
-    pub from: f64,
-    /// Last value.
-    pub to: f64,
+    /// First value: a number in the request's preset for the swept quantity, or a text with
+    /// its unit ("20 t/h", "5 barg", "91 %"), read in the dimension of the field at `path`.
+    pub from: Input,
+    /// Last value (number or text with its unit, like `from`).
+    pub to: Input,
     /// Number of points, 1 to 1000 (1 gives `from` only).
     pub points: usize,
     /// Streams whose flow and state to report per point (default: none).
@@ -707,7 +708,7 @@ pub struct PickOut {
 /// One sweep point.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct PointOut {
-    /// The value of the varied specification.
+    /// The value of the varied specification, in `unit` of the result.
     pub value: f64,
     /// Whether the point was solved.
     pub ok: bool,
@@ -728,6 +729,8 @@ pub struct PointOut {
 pub struct SweepResult {
     /// The varied path.
     pub path: String,
+    /// Unit of every point's `value`: the preset's unit of the swept quantity.
+    pub unit: String,
     /// Points in order.
     pub points: Vec<PointOut>,
     /// Points that could not be solved.
@@ -736,6 +739,29 @@ pub struct SweepResult {
     pub caution: String,
     /// Units of the numeric fields.
     pub units_used: BTreeMap<String, String>,
+}
+
+/// The dimension of the specification at a dotted network path (its last part), as
+/// [`NetworkIn::to_network`] reads it: the dimension in which `balance.sweep` reads `from`/`to`.
+pub fn spec_dim(path: &str) -> Result<Dim> {
+    use Dim::*;
+    let field = path.rsplit('.').next().unwrap_or_default();
+    Ok(match field {
+        "p" => Pressure,
+        "T" | "return_T" => Temperature,
+        "superheat" => TemperatureDifference,
+        "h" => SpecificEnergy,
+        "flow" | "steam_flow" | "demand" => MassFlow,
+        "power" => Power,
+        "efficiency" | "blowdown_fraction" | "vent_fraction" | "return_fraction" | "x" => {
+            Dimensionless
+        }
+        other => {
+            return Err(Error::invalid(format!(
+                "path '{path}': '{other}' is not a numeric specification (p, T, h, x, flow, steam_flow, demand, power, efficiency, superheat, return_T, blowdown_fraction, vent_fraction, return_fraction)"
+            )))
+        }
+    })
 }
 
 /// Sets the value at a dotted path of a JSON object; the parent must exist.
@@ -775,13 +801,22 @@ fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
             value: p.points as f64,
         });
     }
-    Error::check_finite("from", p.from)?;
-    Error::check_finite("to", p.to)?;
+    let dim = spec_dim(&p.path)?;
+    // from/to in the preset's unit of the swept quantity (a bare number is taken as given)
+    let in_preset = |q: &str, x: &Input| -> Result<f64> {
+        let internal = ctx.value(q, dim, x)?;
+        Ok(match x {
+            Input::Number(v) => *v,
+            Input::Text(_) => ctx.preset.from_internal(dim, internal),
+        })
+    };
+    let from = in_preset("from", &p.from)?;
+    let to = in_preset("to", &p.to)?;
     let base =
         serde_json::to_value(&p.network).map_err(|e| Error::invalid(format!("network: {e}")))?;
     // check the path once
     let mut probe = base.clone();
-    set_path(&mut probe, &p.path, Value::from(p.from))?;
+    set_path(&mut probe, &p.path, Value::from(from))?;
     for s in &p.streams {
         if !p.network.streams.contains_key(s) {
             return Err(Error::invalid(format!(
@@ -792,9 +827,9 @@ fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
     let values: Vec<f64> = (0..p.points)
         .map(|i| {
             if p.points == 1 {
-                p.from
+                from
             } else {
-                p.from + (p.to - p.from) * i as f64 / (p.points - 1) as f64
+                from + (to - from) * i as f64 / (p.points - 1) as f64
             }
         })
         .collect();
@@ -854,6 +889,7 @@ fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
     }
     Ok(SweepResult {
         path: p.path,
+        unit: ctx.unit(dim).into(),
         points,
         failed,
         caution: b::CAUTION.into(),

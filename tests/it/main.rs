@@ -37,5 +37,6 @@ mod security;
 mod site_route;
 mod state95_pairs;
 mod state_pairs;
+mod sweep_units;
 mod textbook_cogeneration;
 mod textbook_rankine;

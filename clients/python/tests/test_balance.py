@@ -64,6 +64,50 @@ def test_sweep_and_charts(client, tmp_path):
     assert fig2.axes[0].get_title().startswith("Site energy flows")
 
 
+def test_sweep_in_units_and_its_table_and_plot_carry_units(client):
+    """from/to as texts with units ("36 t/h" is the site's own MP demand, 10 kg/s in the
+    engineering preset); the table says the unit of each column, the plot's axes too."""
+    net = site()
+    table = balance.sweep(client, net, "units.MP_users.demand", "36 t/h", "54 t/h", points=3)
+    assert table["value"].tolist() == pytest.approx([10.0, 12.5, 15.0], rel=1e-14)
+    assert table.attrs["units"]["value"] == "kg/s"
+    assert table.attrs["units"]["net_power"] == "kW"
+    assert table.attrs["units"]["makeup_water"] == "kg/s"
+    assert table.loc[0, "net_power"] == pytest.approx(client.balance(net).totals["net_power"],
+                                                      rel=1e-9)
+    chart = balance.plot_sweep(table)
+    ax = chart.axes[0]
+    assert ax.get_xlabel() == "units.MP_users.demand [kg/s]"
+    assert "[kW]" in ax.get_ylabel()
+    us = balance.sweep(client, net, "units.MP_users.demand", "36 t/h", "54 t/h", points=2,
+                       units="us")
+    assert us.attrs["units"]["value"] == "lb/h"
+    with pytest.raises(steamcell.WrongDimension):
+        balance.sweep(client, net, "units.MP_users.demand", "3 bar", "54 t/h", points=2)
+
+
+def test_energy_flow_chart_has_values_on_its_links(client):
+    b = client.balance(site())
+    chart = balance.plot_energy_flows(b)
+    links = [e for e in chart.drawn if e["role"] in ("link", "return")]
+    labelled = [e for e in links if e["text"] is not None]
+    top = max(e["energy"] for e in links)
+    # every link of at least 2 % of the largest carries its value, in MW (the preset is kW)
+    assert labelled and all(e["text"] is not None for e in links if e["energy"] >= 0.02 * top)
+    for e in labelled:
+        assert f"{e['energy'] / 1000:.1f} MW" in e["text"].get_text()
+    # the fuel enters on the left, the boundary sinks leave on the right
+    nodes = {e["name"]: e for e in chart.drawn if e["role"] == "node"}
+    assert nodes["fuel"]["x"] == 0 and nodes["power"]["x"] == 1 and nodes["losses"]["x"] == 1
+    # nodes of a column do not overlap
+    cols = {}
+    for n in nodes.values():
+        cols.setdefault(n["x"], []).append((n["y"], n["y"] + n["height"]))
+    for spans in cols.values():
+        spans.sort()
+        assert all(a[1] <= b[0] + 1e-12 for a, b in zip(spans, spans[1:]))
+
+
 def test_underspecified_network_raises_with_the_stream_named(client):
     net = site()
     # Drop every fixed flow of the first boiler steam stream's unit spec: the diagnosis names it.

@@ -10,17 +10,18 @@ Standard library only; pandas, tqdm and matplotlib are used when installed (extr
 """
 
 from .client import Client, connect, WRAPPERS as methods
-from .errors import (Error, TransportError, OutOfRange, NotFinite, NoUniqueState, UnknownUnit,
+from .errors import (Error, TransportError, WorkerEngineLost, OutOfRange, NotFinite, NoUniqueState, UnknownUnit,
                      WrongDimension, InvalidInput, NotConverged, LimitExceeded, Infeasible,
                      ParseError, InvalidRequest, MethodNotFound, InvalidParams, InternalError)
 from .records import Record, State
 from .transport import find_binary
+from . import aio
 
 __version__ = "0.1.0"
 
 __all__ = [
-    "connect", "Client", "State", "Record", "methods", "find_binary",
-    "Error", "TransportError", "OutOfRange", "NotFinite", "NoUniqueState", "UnknownUnit",
+    "connect", "aio", "Client", "State", "Record", "methods", "find_binary",
+    "Error", "TransportError", "WorkerEngineLost", "OutOfRange", "NotFinite", "NoUniqueState", "UnknownUnit",
     "WrongDimension", "InvalidInput", "NotConverged", "LimitExceeded", "Infeasible",
     "ParseError", "InvalidRequest", "MethodNotFound", "InvalidParams", "InternalError",
 ]

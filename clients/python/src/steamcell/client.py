@@ -165,57 +165,80 @@ class Client:
               **opts: Any) -> Any:
         """Properties for many states (historian columns) through ``water.batch``.
 
-        ``data``: a pandas DataFrame or a dict of lists. ``given`` maps a state key to a column
-        name, e.g. ``{"p": "p_bar", "T": "T_C"}``, or to ``(column, unit)`` to send every value as
+        ``data``: a pandas, polars or Dask DataFrame, a pyarrow Table, an xarray Dataset or a
+        dict of lists or numpy arrays. ``given`` maps a state key to a column name, e.g.
+        ``{"p": "p_bar", "T": "T_C"}``, or to ``(column, unit)`` to send every value as
         "<number> <unit>". Without ``given`` the columns named like state keys are used. Numbers
         are read in ``units`` (default engineering). Rows go in chunks of ``chunk`` with a
         progress bar (tqdm if installed, else a line on stderr) when ``progress``.
 
-        Returns a DataFrame (when pandas is installed and ``data`` is one; else a dict of lists)
-        with one column per ``want`` plus ``errors`` (None or the row's message). A bad row gives
-        NaN and its error; only a bad request as a whole raises.
+        Returns the same kind of table as ``data`` (a dict of numpy arrays for a dict when numpy
+        is installed, else of lists) with one column per ``want`` plus ``errors`` (None or the
+        row's message). A bad row gives NaN and its error; only a bad request as a whole
+        raises. A Dask DataFrame gives a lazy Dask DataFrame (see :mod:`steamcell.dask`): each
+        partition is computed on its worker by the worker's own engine, or by this client's
+        server when it is a URL.
 
         With numpy installed and plain numeric columns (``packed`` not False, no "phase" in
         ``want``) the numbers travel packed: ``POST /columns`` with raw little-endian doubles
         over HTTP, ``water.batch`` with base64 ``f64le`` columns over stdio; chunks of
-        ``chunk`` rows (default 250,000) on the kept-alive connection (``formulation`` other
+        ``chunk`` rows (default 250,000) on a kept-alive connection (``formulation`` other
         than IF97: packed ``water.batch`` over HTTP too). The numbers are the same bit for bit
         as on the JSON path (default chunk 50,000), which ``packed=False`` forces.
         ``last_packed_route`` tells which packed route the last call took (None: JSON).
         """
+        if _is_dask(data):
+            from . import dask as _dask
+            return _dask.batch(data, given=given, want=want, units=units, chunk=chunk,
+                               **self._dask_engine(), **opts)
+        frame = _Frame(data)
         self.last_packed_route = None
-        if packed is not False:
-            fast = self._batch_packed(data, given, units, want, chunk, progress, opts)
-            if fast is not None:
-                return fast
-        chunk = chunk or 50000
-        columns, index, is_frame = _columns_of(data)
         if given is None:
-            given = {k: k for k in STATE_KEYS if k in columns}
+            given = {k: k for k in STATE_KEYS if k in frame.names}
         if len(given) != 2:
             raise errors.InvalidInput(
                 f"batch needs exactly two state columns in `given`, got {list(given)}")
+        for key, spec in given.items():
+            col_name = spec[0] if isinstance(spec, tuple) else spec
+            if col_name not in frame.names:
+                raise errors.InvalidInput(
+                    f"column {col_name!r} (for {key}) is not in the data; its columns: "
+                    + ", ".join(map(repr, frame.names)))
+        lengths = {len(frame.column(spec[0] if isinstance(spec, tuple) else spec))
+                   for spec in given.values()}
+        if len(lengths) != 1:
+            raise errors.InvalidInput("the input columns differ in length")
+        frame.n = lengths.pop()
+        want_list = list(want) if want is not None else list(DEFAULT_WANT)
+        table = None
+        if packed is not False:
+            table = self._batch_packed(frame, given, units, want_list, chunk, progress, opts)
+        if table is None:
+            table = self._batch_json(frame, given, units, want_list, chunk, progress, opts)
+        return frame.result(table, want_list)
+
+    def _dask_engine(self) -> Dict[str, Any]:
+        """Where Dask workers compute: this client's server when it was given by URL, else
+        an engine of their own started from the same binary."""
+        tr = self._tr
+        if isinstance(tr, transport.SpawnedHttpTransport) or isinstance(tr, transport.StdioTransport):
+            return {"binary": tr.binary}
+        return {"server": self.url, "server_token": getattr(tr, "token", None)}
+
+    def _batch_json(self, frame, given, units, want_list, chunk, progress, opts):
+        chunk = chunk or 50000
         inputs: Dict[str, List[Any]] = {}
         bad: Dict[int, str] = {}
-        n: Optional[int] = None
+        n = frame.n
         for key, spec in given.items():
             col_name, unit = (spec if isinstance(spec, tuple) else (spec, None))
-            if col_name not in columns:
-                raise errors.InvalidInput(f"column {col_name!r} (for {key}) is not in the data")
-            col = columns[col_name]
-            if n is None:
-                n = len(col)
-            elif len(col) != n:
-                raise errors.InvalidInput("the input columns differ in length")
             vals: List[Any] = []
-            for i, v in enumerate(col):
+            for i, v in enumerate(frame.values(col_name)):
                 item, why = _cell(v, unit)
                 if why:
                     bad.setdefault(i, f"row {i}: {key} ({col_name}) {why}")
                 vals.append(item)
             inputs[key] = vals
-        n = n or 0
-        want_list = list(want) if want is not None else list(DEFAULT_WANT)
         out: Dict[str, List[Any]] = {w: [None] * n for w in want_list}
         errs: List[Optional[str]] = [None] * n
         for i, why in bad.items():
@@ -248,13 +271,17 @@ class Client:
                 bar.update(len(rows))
         finally:
             bar.close()
-        return _result_table(out, errs, want_list, index, is_frame)
-
+        nan = float("nan")
+        table: Dict[str, Any] = {w: (out[w] if w == "phase" else
+                                     [nan if v is None else v for v in out[w]])
+                                 for w in want_list}
+        table["errors"] = errs
+        return table
 
     # -- packed columns (numpy present): numbers travel as raw little-endian doubles
     PACKED_CHUNK = 250_000
 
-    def _batch_packed(self, data, given, units, want, chunk, progress, opts):
+    def _batch_packed(self, frame, given, units, want_list, chunk, progress, opts):
         """The packed path of :meth:`batch`, or None when it does not apply (no numpy,
         columns that are not plain numbers, unit tuples in ``given``, or "phase" wanted)."""
         try:
@@ -264,33 +291,17 @@ class Client:
         if opts.get("encoding") == "json":
             return None
         opts = {k: v for k, v in opts.items() if k != "encoding"}
-        want_list = list(want) if want is not None else list(DEFAULT_WANT)
         if "phase" in want_list:
             return None
-        try:
-            import pandas as pd  # type: ignore
-        except ImportError:
-            pd = None
-        is_frame = pd is not None and isinstance(data, pd.DataFrame)
-        if not (is_frame or isinstance(data, dict)):
-            return None
-        names = list(data.columns) if is_frame else list(data.keys())
-        if given is None:
-            given = {k: k for k in STATE_KEYS if k in names}
-        if len(given) != 2 or any(not isinstance(v, str) for v in given.values()):
+        if any(not isinstance(v, str) for v in given.values()):
             return None
         arrays = []
-        for key, col in given.items():
-            if col not in names:
-                return None
-            try:
-                a = np.ascontiguousarray(np.asarray(data[col], dtype="<f8"))
-            except (TypeError, ValueError):
+        for col in given.values():
+            a = frame.numeric(col)
+            if a is None:
                 return None
             arrays.append(a)
-        n = len(arrays[0])
-        if len(arrays[1]) != n:
-            raise errors.InvalidInput("the input columns differ in length")
+        n = frame.n
         keys = list(given.keys())
         out = {w: np.empty(n, dtype="<f8") for w in want_list}
         errs: List[Optional[str]] = [None] * n
@@ -319,10 +330,6 @@ class Client:
                 bar.update(stop - start)
         finally:
             bar.close()
-        if is_frame:
-            frame = pd.DataFrame(out, index=data.index)
-            frame["errors"] = pd.Series(errs, index=data.index, dtype=object)
-            return frame
         table: Dict[str, Any] = dict(out)
         table["errors"] = errs
         return table
@@ -336,7 +343,7 @@ class Client:
         if post is not None:
             header = dict(header_base, given=keys, rows=rows, want=want_list)
             head = _json.dumps(header).encode()
-            body = struct.pack("<I", len(head)) + head + a.tobytes() + b.tobytes()
+            body = b"".join((struct.pack("<I", len(head)), head, a.tobytes(), b.tobytes()))
             status, ctype, data = post("/columns", body, "application/x-steamcell-columns")
             if status != 200:
                 try:
@@ -358,6 +365,112 @@ class Client:
         return cols, res.get("failed_rows", [])
 
 
+def _is_dask(data: Any) -> bool:
+    mod = type(data).__module__ or ""
+    return mod.startswith("dask") and hasattr(data, "map_partitions")
+
+
+class _Frame:
+    """The tables :meth:`Client.batch` reads and gives back, of the same kind: pandas, polars,
+    pyarrow, xarray or a dict of lists / numpy arrays."""
+
+    def __init__(self, data: Any):
+        self.data = data
+        mod = type(data).__module__ or ""
+        if isinstance(data, dict):
+            self.kind = "dict"
+            self.names = list(data.keys())
+        elif mod.startswith("pandas") and hasattr(data, "columns") and hasattr(data, "index"):
+            self.kind = "pandas"
+            self.names = list(data.columns)
+        elif mod.startswith("polars") and hasattr(data, "get_column"):
+            self.kind = "polars"
+            self.names = list(data.columns)
+        elif mod.startswith("pyarrow") and hasattr(data, "column_names"):
+            self.kind = "arrow"
+            self.names = list(data.column_names)
+        elif mod.startswith("xarray") and hasattr(data, "data_vars"):
+            self.kind = "xarray"
+            self.names = [str(k) for k in data.data_vars]
+        else:
+            raise TypeError("batch() takes a pandas, polars or Dask DataFrame, a pyarrow Table, "
+                            f"an xarray Dataset or a dict of columns, not {type(data).__name__}")
+        self.n = 0
+
+    def column(self, name: str) -> Any:
+        d = self.data
+        if self.kind == "polars":
+            return d.get_column(name)
+        if self.kind == "arrow":
+            return d.column(name)
+        if self.kind == "xarray":
+            return d[name].values.reshape(-1)
+        return d[name]
+
+    def numeric(self, name: str) -> Any:
+        """The column as contiguous little-endian doubles, or None when it is not numeric."""
+        import numpy as np  # type: ignore
+        col = self.column(name)
+        try:
+            if self.kind == "polars":
+                if not col.dtype.is_numeric():
+                    return None
+                a = col.cast(float).to_numpy()
+            elif self.kind == "arrow":
+                import pyarrow as pa  # type: ignore
+                if not (pa.types.is_integer(col.type) or pa.types.is_floating(col.type)):
+                    return None
+                a = col.cast(pa.float64()).to_numpy()
+            else:
+                a = np.asarray(col)
+                if a.dtype.kind not in "iuf":
+                    return None
+            return np.ascontiguousarray(a, dtype="<f8")
+        except (TypeError, ValueError):
+            return None
+
+    def values(self, name: str) -> List[Any]:
+        col = self.column(name)
+        if self.kind in ("polars", "arrow"):
+            return col.to_list() if self.kind == "polars" else col.to_pylist()
+        if hasattr(col, "tolist"):
+            return col.tolist()
+        return list(col)
+
+    def result(self, table: Dict[str, Any], want_list: List[str]) -> Any:
+        errs = table["errors"]
+        kind = self.kind
+        if kind == "pandas":
+            import pandas as pd  # type: ignore
+            frame = pd.DataFrame({w: table[w] for w in want_list}, index=self.data.index)
+            frame["errors"] = pd.Series(errs, index=self.data.index, dtype=object)
+            return frame
+        if kind == "polars":
+            import polars as pl  # type: ignore
+            cols = [pl.Series(w, table[w], dtype=pl.Utf8 if w == "phase" else pl.Float64)
+                    for w in want_list]
+            cols.append(pl.Series("errors", errs, dtype=pl.Utf8))
+            return pl.DataFrame(cols)
+        if kind == "arrow":
+            import pyarrow as pa  # type: ignore
+            arrays = [pa.array(table[w], type=pa.string() if w == "phase" else pa.float64())
+                      for w in want_list]
+            arrays.append(pa.array(errs, type=pa.string()))
+            return pa.table(arrays, names=want_list + ["errors"])
+        if kind == "xarray":
+            import numpy as np  # type: ignore
+            import xarray as xr  # type: ignore
+            first = self.data[self.names[0]]
+            shape, dims = first.shape, first.dims
+            out = {w: (dims, np.asarray(table[w], dtype=object if w == "phase" else "f8")
+                       .reshape(shape)) for w in want_list}
+            out["errors"] = (dims, np.asarray(errs, dtype=object).reshape(shape))
+            return xr.Dataset(out, coords=first.coords)
+        result: Dict[str, Any] = {w: table[w] for w in want_list}
+        result["errors"] = errs
+        return result
+
+
 def _cell(v: Any, unit: Optional[str]) -> Tuple[Any, Optional[str]]:
     """(wire value, reason it is bad or None) for one input cell."""
     if v is None:
@@ -373,36 +486,6 @@ def _cell(v: Any, unit: Optional[str]) -> Tuple[Any, Optional[str]]:
     if unit:
         return f"{x!r} {unit}", None
     return x, None
-
-
-def _columns_of(data: Any) -> Tuple[Dict[str, Sequence[Any]], Any, bool]:
-    try:
-        import pandas as pd  # type: ignore
-    except ImportError:
-        pd = None
-    if pd is not None and isinstance(data, pd.DataFrame):
-        return {c: data[c].tolist() for c in data.columns}, data.index, True
-    if isinstance(data, dict):
-        return {k: list(v) for k, v in data.items()}, None, False
-    raise TypeError("batch() takes a pandas DataFrame or a dict of lists")
-
-
-def _result_table(out, errs, want_list, index, is_frame):
-    nan = float("nan")
-
-    def fix(w, col):
-        if w == "phase":
-            return col
-        return [nan if v is None else v for v in col]
-
-    table = {w: fix(w, out[w]) for w in want_list}
-    table["errors"] = errs
-    if is_frame:
-        import pandas as pd  # type: ignore
-        frame = pd.DataFrame({w: table[w] for w in want_list}, index=index)
-        frame["errors"] = pd.Series(errs, index=index, dtype=object)  # None stays None
-        return frame
-    return table
 
 
 class _Progress:
@@ -462,7 +545,8 @@ for _name, _fn in WRAPPERS.items():
 
 def connect(url: Optional[str] = None, binary: Optional[str] = None, *,
             transport: Optional[str] = None, timeout: float = 600.0,
-            serve_args: Sequence[str] = ()) -> Client:
+            serve_args: Sequence[str] = (), token: Optional[str] = None,
+            pool_size: int = 32) -> Client:
     """Connects to a steamcell server.
 
     ``connect("http://127.0.0.1:8790")`` talks to a running server. ``connect()`` finds the binary
@@ -470,18 +554,21 @@ def connect(url: Optional[str] = None, binary: Optional[str] = None, *,
     ``steamcell serve --listen 127.0.0.1:0``, stopped again by ``close()``, a ``with`` block's
     end or interpreter exit; ``serve_args`` are extra flags for it, e.g.
     ``["--site", "mill=site.json"]``. ``connect(transport="stdio")`` starts ``steamcell stdio``
-    instead.
+    instead. ``token``: the bearer token of a team server (default env STEAMCELL_TOKEN).
+    ``pool_size``: how many idle HTTP connections the client keeps for threads that share it.
     """
     kind = transport or ("http" if url else "spawn")
     if kind == "stdio":
         return Client(_transport_mod.StdioTransport(_transport_mod.find_binary(binary)))
     if url:
-        return Client(_transport_mod.HttpTransport(url, timeout=timeout))
+        return Client(_transport_mod.HttpTransport(url, timeout=timeout, token=token,
+                                                   pool_size=pool_size))
     if kind not in ("spawn", "http"):
         raise ValueError(f"transport must be 'http' or 'stdio', not {kind!r}")
-    return Client(_transport_mod.SpawnedHttpTransport(_transport_mod.find_binary(binary),
-                                                      timeout=timeout,
-                                                      extra_args=serve_args))
+    tr = _transport_mod.SpawnedHttpTransport(_transport_mod.find_binary(binary), timeout=timeout,
+                                             extra_args=serve_args, token=token)
+    tr.pool_size = max(1, int(pool_size))
+    return Client(tr)
 
 
 _transport_mod = transport

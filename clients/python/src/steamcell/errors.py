@@ -38,6 +38,11 @@ class TransportError(Error):
     """The server could not be started, reached or understood."""
 
 
+class WorkerEngineLost(TransportError):
+    """A Dask worker's steamcell engine (or its team server) was lost: the partition it was
+    computing was not computed (the message names the worker, the engine and the rows)."""
+
+
 class OutOfRange(Error):
     code, kind_name = 1001, "out_of_range"
 

@@ -18,6 +18,7 @@ import subprocess
 import tempfile
 import threading
 import urllib.parse
+import urllib.request
 import weakref
 from pathlib import Path
 from typing import Any, Dict, List, Optional
@@ -27,12 +28,72 @@ from .errors import TransportError
 _LISTEN_RE = re.compile(r"listening on http://(\S+)")
 
 
+def _checkout_of_install() -> Optional[Path]:
+    """The repository checkout this package was installed from, if pip recorded one.
+
+    ``pip install ./clients/python`` (PEP 610) writes the source directory into the installed
+    distribution's ``direct_url.json`` as a ``file://`` URL; the checkout is two levels above
+    ``clients/python``. When the package is imported from the source tree itself (tests,
+    ``PYTHONPATH=clients/python/src``) that tree's checkout is used.
+    """
+    here = Path(__file__).resolve()
+    # clients/python/src/steamcell/transport.py -> the checkout is four levels up
+    if len(here.parents) > 4 and here.parents[2].name == "python" and \
+            here.parents[3].name == "clients":
+        return here.parents[4]
+    try:
+        from importlib import metadata
+        text = metadata.distribution("steamcell").read_text("direct_url.json")
+    except Exception:
+        return None
+    if not text:
+        return None
+    try:
+        url = json.loads(text).get("url", "")
+    except ValueError:
+        return None
+    if not url.startswith("file://"):
+        return None
+    src = Path(urllib.request.url2pathname(urllib.parse.urlsplit(url).path))
+    if src.name == "python" and src.parent.name == "clients":
+        return src.parent.parent
+    return None
+
+
+def _built_in(root: Path) -> Optional[str]:
+    """The freshest of ``root/target/release/steamcell`` and ``root/target/debug/steamcell``."""
+    name = "steamcell.exe" if os.name == "nt" else "steamcell"
+    found = [root / "target" / profile / name for profile in ("release", "debug")]
+    found = [c for c in found if c.is_file() and os.access(c, os.X_OK)]
+    if not found:
+        return None
+    # the freshest build wins (a stale release build must not shadow a new debug build)
+    return str(max(found, key=lambda c: c.stat().st_mtime))
+
+
+def binary_candidates() -> List[Path]:
+    """The checkouts :func:`find_binary` looks in, in order: the current directory and each of
+    its parents, then the checkout the package was installed from."""
+    cwd = Path.cwd().resolve()
+    roots = [cwd, *cwd.parents]
+    src = _checkout_of_install()
+    if src is not None and src not in roots:
+        roots.append(src)
+    return roots
+
+
 def find_binary(binary: Optional[str] = None) -> str:
     """Path of the steamcell binary.
 
-    Order: the ``binary`` argument, env ``STEAMCELL_BIN``, ``steamcell`` on PATH, then
-    ``target/release/steamcell`` and ``target/debug/steamcell`` of the repository this package
-    lives in (and of the current directory and its parents), if present.
+    Order (the first that exists wins):
+
+    1. the ``binary`` argument;
+    2. env ``STEAMCELL_BIN``;
+    3. ``steamcell`` on ``PATH`` (e.g. after ``cargo install --path .``);
+    4. a checkout with a build: the current directory and each of its parents, then the
+       checkout the package was installed from (``pip install ./clients/python`` records it),
+       each with ``target/release/steamcell`` or ``target/debug/steamcell`` (the fresher of the
+       two when both exist).
     """
     if binary:
         if not Path(binary).exists():
@@ -46,28 +107,29 @@ def find_binary(binary: Optional[str] = None) -> str:
     on_path = shutil.which("steamcell")
     if on_path:
         return on_path
-    roots: List[Path] = []
-    here = Path(__file__).resolve()
-    # clients/python/src/steamcell/transport.py -> the repository root is four levels up
-    if len(here.parents) > 4:
-        roots.append(here.parents[4])
-    cwd = Path.cwd().resolve()
-    roots.extend([cwd, *cwd.parents])
+    roots = binary_candidates()
     for root in roots:
-        found = [root / "target" / profile / "steamcell" for profile in ("release", "debug")]
-        found = [c for c in found if c.is_file() and os.access(c, os.X_OK)]
-        if found:  # the freshest build wins (a stale release build must not shadow debug)
-            return str(max(found, key=lambda c: c.stat().st_mtime))
+        found = _built_in(root)
+        if found:
+            return found
     raise TransportError(
         "steamcell binary not found: set STEAMCELL_BIN, put steamcell on PATH, or build it with "
-        "`cargo build` in the repository"
+        "`cargo build --release` in the repository and run from inside the checkout (looked in "
+        + ", ".join(dict.fromkeys(str(r / "target") for r in roots[:3] + roots[-1:])) + ")"
     )
 
 
 class HttpTransport:
-    """JSON-RPC over HTTP POST with one persistent (keep-alive) connection."""
+    """JSON-RPC over HTTP POST on a pool of kept-alive connections.
 
-    def __init__(self, url: str, timeout: float = 600.0):
+    Each request takes an idle connection from the pool (or opens one) and gives it back when
+    its answer is read, so threads sharing one client run their calls side by side on separate
+    connections; at most ``pool_size`` idle connections are kept. A kept-alive connection that
+    the server closed in the meantime is replaced once, transparently.
+    """
+
+    def __init__(self, url: str, timeout: float = 600.0, pool_size: int = 32,
+                 token: Optional[str] = None):
         parsed = urllib.parse.urlsplit(url if "://" in url else "http://" + url)
         if parsed.scheme != "http":
             raise TransportError(f"only http:// URLs are supported, got {url}")
@@ -76,95 +138,85 @@ class HttpTransport:
         self.port = parsed.port or 80
         self.path = parsed.path or "/"
         self.timeout = timeout
-        self._conn: Optional[http.client.HTTPConnection] = None
+        self.pool_size = max(1, int(pool_size))
+        #: Bearer token sent with every request (a team server's), default env STEAMCELL_TOKEN.
+        self.token = token if token is not None else os.environ.get("STEAMCELL_TOKEN") or None
+        self._idle: List[http.client.HTTPConnection] = []
         self._lock = threading.Lock()
+        self._closed = False
+        #: Connections opened so far (the pool grows with the threads that call at once).
+        self.opened = 0
 
-    def _connection(self) -> http.client.HTTPConnection:
-        if self._conn is None:
-            self._conn = http.client.HTTPConnection(self.host, self.port, timeout=self.timeout)
-        return self._conn
+    def _acquire(self) -> http.client.HTTPConnection:
+        with self._lock:
+            if self._closed:
+                raise TransportError(f"the connection to {self.url} is closed")
+            if self._idle:
+                return self._idle.pop()
+            self.opened += 1
+        return http.client.HTTPConnection(self.host, self.port, timeout=self.timeout)
 
-    def _post(self, body: bytes) -> bytes:
-        conn = self._connection()
-        conn.request("POST", self.path, body=body,
-                     headers={"Content-Type": "application/json", "Connection": "keep-alive"})
-        resp = conn.getresponse()
-        data = resp.read()
-        if resp.getheader("Connection", "").lower() == "close":
-            self._drop()
-        if resp.status != 200 and not data.strip().startswith(b"{"):
-            raise TransportError(f"HTTP {resp.status} from {self.url}: {data[:200]!r}")
-        return data
+    def _release(self, conn: http.client.HTTPConnection, keep: bool) -> None:
+        if keep:
+            with self._lock:
+                if not self._closed and len(self._idle) < self.pool_size:
+                    self._idle.append(conn)
+                    return
+        conn.close()
 
-    def _drop(self) -> None:
-        if self._conn is not None:
+    def request(self, method: str, path: str, body: Optional[bytes] = None,
+                headers: Optional[Dict[str, str]] = None) -> "tuple[int, str, bytes]":
+        """One HTTP request on a pooled connection: (status, content type, body bytes)."""
+        hdrs = dict(headers or {})
+        hdrs.setdefault("Connection", "keep-alive")
+        if self.token:
+            hdrs["Authorization"] = f"Bearer {self.token}"
+        while True:
+            conn = self._acquire()
+            reused = conn.sock is not None
             try:
-                self._conn.close()
-            finally:
-                self._conn = None
+                conn.request(method, path, body=body, headers=hdrs)
+                resp = conn.getresponse()
+                data = resp.read()
+            except (http.client.RemoteDisconnected, http.client.CannotSendRequest,
+                    http.client.BadStatusLine, ConnectionResetError, BrokenPipeError) as e:
+                conn.close()
+                if reused:  # the server closed a kept-alive connection: try a fresh one
+                    continue
+                raise TransportError(f"cannot reach steamcell at {self.url}: {e}") from e
+            except OSError as e:
+                conn.close()
+                raise TransportError(f"cannot reach steamcell at {self.url}: {e}") from e
+            keep = not resp.will_close and resp.getheader("Connection", "").lower() != "close"
+            self._release(conn, keep)
+            return resp.status, resp.getheader("Content-Type", "") or "", data
 
     def send(self, request: Dict[str, Any]) -> Dict[str, Any]:
         body = json.dumps(request, allow_nan=False).encode()
-        with self._lock:
-            try:
-                data = self._post(body)
-            except (http.client.RemoteDisconnected, http.client.CannotSendRequest,
-                    ConnectionResetError, BrokenPipeError):
-                # the kept-alive connection was closed by the server: one fresh try
-                self._drop()
-                try:
-                    data = self._post(body)
-                except OSError as e:
-                    self._drop()
-                    raise TransportError(f"cannot reach steamcell at {self.url}: {e}") from e
-            except OSError as e:
-                self._drop()
-                raise TransportError(f"cannot reach steamcell at {self.url}: {e}") from e
+        status, _, data = self.request("POST", self.path, body,
+                                       {"Content-Type": "application/json"})
+        if status != 200 and not data.strip().startswith(b"{"):
+            raise TransportError(f"HTTP {status} from {self.url}: {data[:200]!r}")
         try:
             return json.loads(data)
         except ValueError as e:
             raise TransportError(f"not a JSON-RPC answer from {self.url}: {data[:200]!r}") from e
 
     def post_bytes(self, path: str, body: bytes, content_type: str) -> "tuple[int, str, bytes]":
-        """A raw POST on the kept-alive connection: (status, content type, body bytes)."""
-        with self._lock:
-            for attempt in (0, 1):
-                try:
-                    conn = self._connection()
-                    conn.request("POST", path, body=body,
-                                 headers={"Content-Type": content_type,
-                                          "Connection": "keep-alive"})
-                    resp = conn.getresponse()
-                    data = resp.read()
-                    if resp.getheader("Connection", "").lower() == "close":
-                        self._drop()
-                    return resp.status, resp.getheader("Content-Type", ""), data
-                except (http.client.RemoteDisconnected, http.client.CannotSendRequest,
-                        ConnectionResetError, BrokenPipeError) as e:
-                    self._drop()
-                    if attempt:
-                        raise TransportError(f"cannot reach steamcell at {self.url}: {e}") from e
-                except OSError as e:
-                    self._drop()
-                    raise TransportError(f"cannot reach steamcell at {self.url}: {e}") from e
-        raise TransportError("unreachable")
+        """A raw POST on a pooled connection: (status, content type, body bytes)."""
+        return self.request("POST", path, body, {"Content-Type": content_type})
 
     def get(self, path: str) -> "tuple[int, str]":
         """A plain GET (for /health and /cell/...): (status, body text)."""
-        with self._lock:
-            try:
-                conn = self._connection()
-                conn.request("GET", path)
-                resp = conn.getresponse()
-                text = resp.read().decode("utf-8", "replace")
-                return resp.status, text
-            except OSError as e:
-                self._drop()
-                raise TransportError(f"cannot reach steamcell at {self.url}: {e}") from e
+        status, _, data = self.request("GET", path)
+        return status, data.decode("utf-8", "replace")
 
     def close(self) -> None:
         with self._lock:
-            self._drop()
+            self._closed = True
+            idle, self._idle = self._idle, []
+        for conn in idle:
+            conn.close()
 
 
 def _drain(stream) -> None:
@@ -240,7 +292,7 @@ class SpawnedHttpTransport(HttpTransport):
     """Starts ``steamcell serve --listen 127.0.0.1:0`` and talks HTTP to it."""
 
     def __init__(self, binary: str, listen: str = "127.0.0.1:0", timeout: float = 600.0,
-                 extra_args=()):
+                 extra_args=(), token: Optional[str] = None):
         self.binary = binary
         self.child = _Child([binary, "serve", "--listen", listen, *extra_args], stdin=False)
         line = self.child.proc.stdout.readline().decode("utf-8", "replace")
@@ -253,7 +305,7 @@ class SpawnedHttpTransport(HttpTransport):
                 f"{binary} serve did not report its address (first line {line!r}); stderr: {err}")
         self.banner = line.strip()
         threading.Thread(target=_drain, args=(self.child.proc.stdout,), daemon=True).start()
-        super().__init__("http://" + m.group(1), timeout=timeout)
+        super().__init__("http://" + m.group(1), timeout=timeout, token=token)
 
     def close(self) -> None:
         super().close()
