@@ -7,6 +7,5 @@
 //! parses the command line.
 pub mod api;
 pub mod server;
-pub mod validation;
 
 pub use steamcell_core::{error, plant, units, water, Error, Result};
