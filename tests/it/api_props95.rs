@@ -11,7 +11,7 @@ fn rpc(method: &str, params: &str) -> Value {
         .enable_all()
         .build()
         .unwrap();
-    let module = steamcell::server::rpc_module();
+    let module = steamcell::server::rpc_module(Default::default());
     let req = format!(r#"{{"jsonrpc":"2.0","id":1,"method":"{method}","params":{params}}}"#);
     let (resp, _rx) = rt
         .block_on(module.raw_json_request(&req, 1))

@@ -39,3 +39,4 @@ mod state95_pairs;
 mod state_pairs;
 mod textbook_cogeneration;
 mod textbook_rankine;
+mod transports;
