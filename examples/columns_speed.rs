@@ -57,7 +57,7 @@ fn main() {
             &[p, t],
         );
         let t0 = Instant::now();
-        let out = columns(&body).unwrap();
+        let out = columns(&Default::default(), &body).unwrap();
         let dt = t0.elapsed().as_secs_f64();
         println!(
             "{n:>8} rows: {dt:.3} s, {:.2} M rows/s ({} bytes out)",

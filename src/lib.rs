@@ -3,10 +3,9 @@
 //!
 //! Layers (see DEVELOPERS.md): the physics lives in the `steamcell-core` crate (re-exported
 //! here as [`water`], [`plant`], [`units`], [`error`]: no serde, no async, no I/O); [`api`]
-//! holds every wire type and the method registry; [`server`] wires the transports; `main.rs`
-//! parses the command line.
+//! holds every wire type and the method registry; [`server`] wires the transports; only these
+//! two read or write JSON; `main.rs` parses the command line.
 pub mod api;
 pub mod server;
-pub mod validation;
 
 pub use steamcell_core::{error, plant, units, water, Error, Result};

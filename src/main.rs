@@ -1,5 +1,8 @@
 //! The `steamcell` command line: parses arguments and calls the library (`server`, `api`).
 //! Exit codes: 0 success, 1 start-up or I/O failure, 2 a method or cell error.
+//!
+//! Invariant: no JSON here; `call` passes its params text to `api::call_text` and prints the
+//! text it returns.
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
@@ -28,7 +31,10 @@ enum Command {
     /// an Origin header are refused (403) unless --allow-origin names it; CORS headers are sent
     /// only for such origins. POST bodies must be Content-Type: application/json (else 415;
     /// /columns takes application/x-steamcell-columns).
-    /// Beyond a limit: body 413, nesting/in-flight JSON-RPC error 1008, time limit 408/503.
+    /// Beyond a limit: JSON-RPC error 1008 (limit_exceeded) with data {what, limit, value};
+    /// HTTP 413 for body, nesting and batch size, 408 for a slow body, 503 for a late answer;
+    /// a call refused by --max-in-flight answers 1008 in its JSON-RPC response (503 on the
+    /// plain routes GET /cell, /site and POST /columns, which count as calls).
     #[command(verbatim_doc_comment)]
     Serve(Box<ServeArgs>),
     /// Newline-delimited JSON-RPC 2.0 on stdin/stdout (one request or batch per line).
@@ -96,8 +102,9 @@ struct ServeArgs {
     /// Most rows in one water.batch call (beyond it error 1008).
     #[arg(long, value_name = "N", default_value_t = limits::MAX_BATCH_ROWS)]
     max_batch_rows: u32,
-    /// Deepest nesting of [ and { in an HTTP request body (a byte scan before parsing; error
-    /// 1008). WebSocket messages are held to the JSON parser's own limit of 128.
+    /// Deepest nesting of [ and { in a request (a byte scan of an HTTP body before parsing; the
+    /// params of each WebSocket call; error 1008). A WebSocket message deeper than the JSON
+    /// parser's own limit of 128 fails to parse (-32700) first.
     #[arg(long, value_name = "N", default_value_t = limits::MAX_JSON_DEPTH)]
     max_json_depth: u32,
     /// Largest WebSocket message, bytes.
@@ -106,14 +113,15 @@ struct ServeArgs {
     /// Most simultaneous connections (HTTP and WebSocket); beyond it new connections are refused.
     #[arg(long, value_name = "N", default_value_t = limits::MAX_CONNECTIONS)]
     max_connections: u32,
-    /// Most method calls running at once over all connections; beyond it a call answers error
-    /// 1008 (limit_exceeded) at once instead of queueing.
+    /// Most method calls running at once over all connections (GET /cell, /site and
+    /// POST /columns requests included); beyond it a call answers error 1008 (limit_exceeded)
+    /// at once instead of queueing.
     #[arg(long, value_name = "N", default_value_t = limits::MAX_IN_FLIGHT)]
     max_in_flight: u32,
-    /// Time limit of one HTTP request, seconds: a body not received in time answers 408, an
-    /// answer not ready in time 503 (error 1008; the computation itself runs to its end, and
-    /// counts against --max-in-flight until then). Also the time a new connection has to send
-    /// its first request headers. WebSocket calls have no time limit.
+    /// Time limit of one HTTP request (GET routes included), seconds: a body not received in
+    /// time answers 408, an answer not ready in time 503 (error 1008; the computation itself
+    /// runs to its end, and counts against --max-in-flight until then). Also the time a new
+    /// connection has to send its first request headers. WebSocket calls have no time limit.
     #[arg(long, value_name = "SECONDS", default_value_t = limits::REQUEST_TIMEOUT_MS as f64 / 1000.0)]
     request_timeout: f64,
     /// Log level of steamcell's own log lines on stderr: error, warn, info (one line per call
@@ -122,7 +130,8 @@ struct ServeArgs {
     #[arg(long, value_name = "LEVEL", default_value = "warn")]
     log_level: String,
     /// Append one JSON line per method call to this file (time, request id, method, params,
-    /// result digest, error code, version, formulation, validation digest).
+    /// result digest, error code, version, formulation, validation digest); GET /cell, /site
+    /// and POST /columns requests are calls too.
     #[arg(long, value_name = "FILE")]
     audit: Option<std::path::PathBuf>,
     /// Register a site network for GET /site/NAME/QUANTITY (repeatable): NAME=FILE, the file

@@ -7,9 +7,10 @@
 //! params. The answer is the field `{quantity}` of the result, written as the shortest text that
 //! parses back to the same f64 (Rust `{}` of f64). Units are those of the request.
 //!
-//! Invariant: every failure is a [`CellError`] with an HTTP status and a one-line reason.
+//! Invariant: every failure is a [`CellError`] with an HTTP status and a one-line reason; a
+//! failure of the method itself takes the status of [`ApiError::http_status`].
 
-use super::{codes, find, ApiError};
+use super::{find, ApiError};
 use schemars::gen::SchemaSettings;
 use serde_json::{Map, Value};
 use std::sync::OnceLock;
@@ -30,7 +31,8 @@ pub const RESERVED: &[&str] = &[
 /// A failed cell request: an HTTP status and a one-line human-readable reason.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct CellError {
-    /// 400 bad input, 404 unknown quantity or method, 422 no value for this state, 500 fault.
+    /// For a method's error [`ApiError::http_status`]; else 400 for a malformed query, 404 for
+    /// an unknown quantity, 422 for a quantity with no value for this state.
     pub status: u16,
     /// One line, no trailing newline.
     pub reason: String,
@@ -45,29 +47,9 @@ impl CellError {
     }
 }
 
-/// The HTTP status for an API error code: 400 for bad input, 422 for a state that has no
-/// answer, 404 for an unknown method, 500 otherwise.
-pub fn http_status(code: i64) -> u16 {
-    match code {
-        codes::INVALID_PARAMS
-        | codes::INVALID_REQUEST
-        | codes::PARSE_ERROR
-        | codes::NOT_FINITE
-        | codes::UNKNOWN_UNIT
-        | codes::WRONG_DIMENSION
-        | codes::INVALID_INPUT
-        | codes::LIMIT_EXCEEDED => 400,
-        codes::OUT_OF_RANGE | codes::NO_UNIQUE_STATE | codes::NOT_CONVERGED | codes::INFEASIBLE => {
-            422
-        }
-        codes::METHOD_NOT_FOUND => 404,
-        _ => 500,
-    }
-}
-
 impl From<ApiError> for CellError {
     fn from(e: ApiError) -> CellError {
-        CellError::new(http_status(e.code), one_line(&e.message))
+        CellError::new(e.http_status(), one_line(&e.message))
     }
 }
 
@@ -152,8 +134,9 @@ pub fn params_from_pairs(pairs: &[(String, String)]) -> Result<Value, CellError>
     Ok(Value::Object(top))
 }
 
-/// Answers one cell: the field `quantity` of `water.state` for the decoded `pairs`, as text.
-pub fn cell(quantity: &str, pairs: &[(String, String)]) -> Result<String, CellError> {
+/// The `water.state` params of one cell: checks that `quantity` is a result field (404
+/// otherwise) and builds the params from the decoded `pairs` (400 for a malformed pair).
+pub fn request(quantity: &str, pairs: &[(String, String)]) -> Result<Value, CellError> {
     let known = known_quantities();
     if find(STATE_METHOD).is_none() {
         return Err(CellError::new(
@@ -167,8 +150,12 @@ pub fn cell(quantity: &str, pairs: &[(String, String)]) -> Result<String, CellEr
             format!("unknown quantity '{quantity}'; known: {}", known.join(", ")),
         ));
     }
-    let params = params_from_pairs(pairs)?;
-    let result = super::call(STATE_METHOD, params)?;
+    params_from_pairs(pairs)
+}
+
+/// The field `quantity` of a `water.state` result, as text (422 when it is not defined for
+/// the state).
+pub fn pick(result: &Value, quantity: &str) -> Result<String, CellError> {
     match result.get(quantity) {
         Some(Value::Number(n)) => match n.as_f64() {
             Some(x) => Ok(format!("{x}")),
@@ -187,6 +174,15 @@ pub fn cell(quantity: &str, pairs: &[(String, String)]) -> Result<String, CellEr
             format!("{quantity} is not a single value; use the JSON-RPC method {STATE_METHOD}"),
         )),
     }
+}
+
+/// Answers one cell in-process (`steamcell get`): the field `quantity` of `water.state` for the
+/// decoded `pairs`, as text. The server's route makes the same [`request`] and [`pick`] around
+/// its call path.
+pub fn cell(quantity: &str, pairs: &[(String, String)]) -> Result<String, CellError> {
+    let params = request(quantity, pairs)?;
+    let result = super::call(STATE_METHOD, params)?;
+    pick(&result, quantity)
 }
 
 /// Splits command-line `key=value` words into pairs (the value may contain '=' and spaces).

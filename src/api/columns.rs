@@ -88,7 +88,7 @@ pub fn frame(header: &Value, columns: &[Vec<f64>]) -> Vec<u8> {
     out
 }
 
-fn compute(body: &[u8]) -> Result<Vec<u8>> {
+fn compute(body: &[u8], max_rows: usize) -> Result<Vec<u8>> {
     let (header, data) = split_frame(body)?;
     let h: Header =
         serde_json::from_value(header).map_err(|e| bad(format!("columns header: {e}")))?;
@@ -98,7 +98,6 @@ fn compute(body: &[u8]) -> Result<Vec<u8>> {
             h.given.len()
         )));
     }
-    let max_rows = super::limits::max_batch_rows();
     if h.rows > max_rows {
         return Err(Error::LimitExceeded {
             what: "rows in one /columns call".into(),
@@ -169,8 +168,15 @@ fn compute(body: &[u8]) -> Result<Vec<u8>> {
     Ok(body)
 }
 
-/// Answers a `/columns` body, counted like a method call.
-pub fn columns(body: &[u8]) -> std::result::Result<Vec<u8>, ApiError> {
-    super::count_request();
-    compute(body).map_err(ApiError::from)
+/// Answers a `/columns` body under the row limit of `ctx` (the server runs it through its call
+/// path, like a method call).
+pub fn columns(ctx: &super::ServerCtx, body: &[u8]) -> std::result::Result<Vec<u8>, ApiError> {
+    compute(body, ctx.limits.max_batch_rows()).map_err(ApiError::from)
+}
+
+/// The JSON header of a framed body as text (for the call log and the audit line), or `None`
+/// when the frame is broken.
+pub fn header_text(body: &[u8]) -> Option<&str> {
+    let h = u32::from_le_bytes(body.get(..4)?.try_into().ok()?) as usize;
+    std::str::from_utf8(body.get(4..4usize.checked_add(h)?)?).ok()
 }

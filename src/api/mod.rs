@@ -1,31 +1,43 @@
-//! The API layer: the only part of steamcell that knows JSON.
+//! The API layer: every wire type and the method registry. With `src/server` (the transports)
+//! it is the only part of steamcell that reads or writes JSON.
 //!
-//! It owns the wire error type [`ApiError`] (with the stable code table [`ERROR_CODES`]), the
-//! method registry ([`MethodSpec`], [`registry`]) that every transport (HTTP, WebSocket, stdio,
-//! the command line) dispatches through, and the request counters reported by `server.info`.
-//! Units on the wire are whatever the caller asked for; conversion happens in the method bodies.
+//! It owns the wire error type [`ApiError`] (with the stable code table [`ERROR_CODES`] and the
+//! one mapping to an HTTP status, [`ApiError::http_status`]), the method registry
+//! ([`MethodSpec`], [`registry`]) that every transport (HTTP, WebSocket, stdio, the GET routes,
+//! the command line) dispatches through, the limits and their refusals ([`limits`]) and the
+//! state of one server ([`ServerCtx`]: limits, counters, sites, audit file) that the methods
+//! needing it receive. Units on the wire are whatever the caller asked for; conversion happens
+//! in the method bodies.
 //!
-//! Invariant: every method is described once, here, by a [`MethodSpec`]; transports never parse
-//! parameters themselves, so validation and error codes are the same on every transport.
+//! Invariant: every method is described once, here, by a [`MethodSpec`] (name, docs, schemas,
+//! body, and whether it is quick); transports never parse parameters themselves, so validation
+//! and error codes are the same on every transport.
 //!
 //! Adding a method: write `fn my_method(p: MyParams) -> crate::Result<MyResult>` where both types
 //! derive `Deserialize`/`Serialize` and `JsonSchema` (params with `#[serde(deny_unknown_fields)]`,
 //! every field with a `///` doc comment), then push
 //! `MethodSpec::new::<MyParams, MyResult>("group.name", "summary", "description", my_method)`
 //! into the `methods()` list of its module (`water::methods()` or `server_methods::methods()`).
+//! A body that reads the server's limits, counters or sites takes `(&ServerCtx, MyParams)` and
+//! is described with [`MethodSpec::with_ctx`]; append `.quick()` only when one call is bounded
+//! to a handful of property evaluations.
 
 pub mod balance;
 pub mod cell;
 pub mod columns;
+pub mod limits;
 pub mod openrpc;
 pub mod plant;
 pub mod rows;
 pub mod selftest;
+pub mod server_ctx;
 pub mod server_methods;
 pub mod site;
+pub mod validation;
 pub mod water;
 
 pub use selftest::validation_digest;
+pub use server_ctx::ServerCtx;
 
 use crate::error::{Bound, Error};
 use schemars::gen::SchemaGenerator;
@@ -35,168 +47,7 @@ use serde::de::DeserializeOwned;
 use serde::Serialize;
 use serde_json::{json, Value};
 use std::fmt;
-use std::sync::atomic::Ordering;
 use std::sync::OnceLock;
-use std::time::Instant;
-
-/// Limits enforced by the transports and reported by `server.info`: compile-time defaults and
-/// the process-wide settings (`steamcell serve` flags) read by the transports and methods.
-pub mod limits {
-    use std::sync::RwLock;
-
-    /// Default largest accepted request body (HTTP body, stdio line), bytes.
-    pub const MAX_REQUEST_BODY_BYTES: u32 = 16 * 1024 * 1024;
-    /// Default largest response body, bytes.
-    pub const MAX_RESPONSE_BODY_BYTES: u32 = 64 * 1024 * 1024;
-    /// Default most calls in one JSON-RPC batch array.
-    pub const MAX_BATCH_REQUESTS: u32 = 1000;
-    /// Default most rows in one table-style (batch) method call.
-    pub const MAX_BATCH_ROWS: u32 = 1_000_000;
-    /// Default most simultaneous connections.
-    pub const MAX_CONNECTIONS: u32 = 100;
-    /// Default deepest `[`/`{` nesting accepted in a request body.
-    pub const MAX_JSON_DEPTH: u32 = 64;
-    /// Default largest WebSocket message, bytes.
-    pub const MAX_WS_MESSAGE_BYTES: u32 = 16 * 1024 * 1024;
-    /// Default most method calls running at once (all connections).
-    pub const MAX_IN_FLIGHT: u32 = 256;
-    /// Default per-request time limit, milliseconds.
-    pub const REQUEST_TIMEOUT_MS: u64 = 30_000;
-
-    /// The limits in force in this process.
-    #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-    pub struct Settings {
-        /// Largest HTTP request body or stdio line, bytes.
-        pub max_request_body_bytes: u32,
-        /// Largest response body, bytes.
-        pub max_response_body_bytes: u32,
-        /// Most calls in one JSON-RPC batch array.
-        pub max_batch_requests: u32,
-        /// Most rows in one `water.batch` call.
-        pub max_batch_rows: u32,
-        /// Deepest `[`/`{` nesting in a request body.
-        pub max_json_depth: u32,
-        /// Largest WebSocket message, bytes.
-        pub max_ws_message_bytes: u32,
-        /// Most simultaneous connections.
-        pub max_connections: u32,
-        /// Most method calls running at once.
-        pub max_in_flight: u32,
-        /// Per-request time limit on HTTP, milliseconds.
-        pub request_timeout_ms: u64,
-    }
-
-    impl Settings {
-        /// The compile-time defaults.
-        pub const DEFAULT: Settings = Settings {
-            max_request_body_bytes: MAX_REQUEST_BODY_BYTES,
-            max_response_body_bytes: MAX_RESPONSE_BODY_BYTES,
-            max_batch_requests: MAX_BATCH_REQUESTS,
-            max_batch_rows: MAX_BATCH_ROWS,
-            max_json_depth: MAX_JSON_DEPTH,
-            max_ws_message_bytes: MAX_WS_MESSAGE_BYTES,
-            max_connections: MAX_CONNECTIONS,
-            max_in_flight: MAX_IN_FLIGHT,
-            request_timeout_ms: REQUEST_TIMEOUT_MS,
-        };
-    }
-
-    impl Default for Settings {
-        fn default() -> Settings {
-            Settings::DEFAULT
-        }
-    }
-
-    static SETTINGS: RwLock<Settings> = RwLock::new(Settings::DEFAULT);
-
-    /// Replaces the process-wide limits (done once by `steamcell serve` before it listens).
-    pub fn configure(s: Settings) {
-        *SETTINGS.write().unwrap_or_else(|e| e.into_inner()) = s;
-    }
-
-    /// The limits in force.
-    pub fn current() -> Settings {
-        *SETTINGS.read().unwrap_or_else(|e| e.into_inner())
-    }
-
-    /// Most rows in one `water.batch` call (read by the method on every call).
-    pub fn max_batch_rows() -> usize {
-        current().max_batch_rows as usize
-    }
-}
-
-/// Process-wide counters reported by `server.info`: calls served and failed, open
-/// connections, calls in flight. All relaxed atomics; never block.
-pub mod counters {
-    use std::sync::atomic::{AtomicU64, Ordering};
-
-    pub(super) static REQUESTS: AtomicU64 = AtomicU64::new(0);
-    pub(super) static ERRORS: AtomicU64 = AtomicU64::new(0);
-    static CONNECTIONS: AtomicU64 = AtomicU64::new(0);
-    static IN_FLIGHT: AtomicU64 = AtomicU64::new(0);
-
-    /// Method calls that answered an error so far (all transports).
-    pub fn requests_failed() -> u64 {
-        ERRORS.load(Ordering::Relaxed)
-    }
-
-    /// Counts one refused request (limit, timeout) that never reached a method.
-    pub fn count_refused() {
-        REQUESTS.fetch_add(1, Ordering::Relaxed);
-        ERRORS.fetch_add(1, Ordering::Relaxed);
-    }
-
-    /// Connections open now.
-    pub fn connections() -> u64 {
-        CONNECTIONS.load(Ordering::Relaxed)
-    }
-
-    /// Held while a connection is open; counts it in [`connections`].
-    #[derive(Debug)]
-    pub struct ConnectionGuard(());
-
-    impl ConnectionGuard {
-        /// Counts a newly opened connection.
-        pub fn open() -> ConnectionGuard {
-            CONNECTIONS.fetch_add(1, Ordering::Relaxed);
-            ConnectionGuard(())
-        }
-    }
-
-    impl Drop for ConnectionGuard {
-        fn drop(&mut self) {
-            CONNECTIONS.fetch_sub(1, Ordering::Relaxed);
-        }
-    }
-
-    /// Method calls running now.
-    pub fn in_flight() -> u64 {
-        IN_FLIGHT.load(Ordering::Relaxed)
-    }
-
-    /// Held while a method call runs; see [`InFlight::try_begin`].
-    #[derive(Debug)]
-    pub struct InFlight(());
-
-    impl InFlight {
-        /// Starts a call unless `limit` calls already run.
-        pub fn try_begin(limit: u64) -> Option<InFlight> {
-            let prev = IN_FLIGHT.fetch_add(1, Ordering::AcqRel);
-            if prev >= limit {
-                IN_FLIGHT.fetch_sub(1, Ordering::AcqRel);
-                None
-            } else {
-                Some(InFlight(()))
-            }
-        }
-    }
-
-    impl Drop for InFlight {
-        fn drop(&mut self) {
-            IN_FLIGHT.fetch_sub(1, Ordering::AcqRel);
-        }
-    }
-}
 
 /// Stable error codes (outside the JSON-RPC reserved range -32768..-32000 for our own kinds).
 pub mod codes {
@@ -353,6 +204,35 @@ impl ApiError {
         }
     }
 
+    /// The HTTP status of this error where it is answered outside a JSON-RPC response (the
+    /// GET routes, `/columns`, and the refusal of a whole HTTP request): 400 for bad input,
+    /// 422 for a state or operation that has no answer, 404 for an unknown method, 413 for a
+    /// request beyond a size limit (body, batch, nesting, rows), 408 for a body not received in
+    /// time, 503 for a busy server or an answer not ready in time, 500 otherwise. The one
+    /// mapping from an error to a status.
+    pub fn http_status(&self) -> u16 {
+        match self.code {
+            codes::LIMIT_EXCEEDED => match self.data.get("what").and_then(Value::as_str) {
+                Some(limits::what::CALLS_IN_FLIGHT | limits::what::ANSWER_TIME) => 503,
+                Some(limits::what::BODY_TIME) => 408,
+                _ => 413,
+            },
+            codes::INVALID_PARAMS
+            | codes::INVALID_REQUEST
+            | codes::PARSE_ERROR
+            | codes::NOT_FINITE
+            | codes::UNKNOWN_UNIT
+            | codes::WRONG_DIMENSION
+            | codes::INVALID_INPUT => 400,
+            codes::OUT_OF_RANGE
+            | codes::NO_UNIQUE_STATE
+            | codes::NOT_CONVERGED
+            | codes::INFEASIBLE => 422,
+            codes::METHOD_NOT_FOUND => 404,
+            _ => 500,
+        }
+    }
+
     /// The `kind` name of this error (from `data.kind`, else from the code table).
     pub fn kind(&self) -> &str {
         self.data
@@ -453,10 +333,10 @@ impl From<Error> for ApiError {
 
 /// Builds a schema for a type, given the shared generator of one document.
 pub type SchemaFn = Box<dyn Fn(&mut SchemaGenerator) -> Schema + Send + Sync>;
-/// Runs a method on its JSON params.
-pub type CallFn = Box<dyn Fn(Value) -> Result<Value, ApiError> + Send + Sync>;
+/// Runs a method on its JSON params, in the context of one server.
+pub type CallFn = Box<dyn Fn(&ServerCtx, Value) -> Result<Value, ApiError> + Send + Sync>;
 
-/// One API method: its name, documentation, schemas and body.
+/// One API method: its name, documentation, schemas, body, and how a server runs it.
 pub struct MethodSpec {
     /// Wire name, `group.name`, e.g. `water.state`.
     pub name: &'static str,
@@ -468,7 +348,14 @@ pub struct MethodSpec {
     pub params_schema: SchemaFn,
     /// The result schema (usually a `$ref` into the generator's definitions).
     pub result_schema: SchemaFn,
-    /// The method body on decoded JSON: takes the params value, returns the result value.
+    /// True when one call is a handful of property evaluations (microseconds, bounded by the
+    /// solvers' iteration limits): a server runs it inline on the connection's async worker.
+    /// Every other method (columns, curves, cycles, site balances, the schema, the self-test)
+    /// runs on the blocking thread pool, so a long computation never stalls a worker. Set with
+    /// [`MethodSpec::quick`].
+    pub quick: bool,
+    /// The method body on decoded JSON: takes the server context and the params value, returns
+    /// the result value.
     pub call: CallFn,
 }
 
@@ -477,8 +364,15 @@ impl fmt::Debug for MethodSpec {
         f.debug_struct("MethodSpec")
             .field("name", &self.name)
             .field("summary", &self.summary)
+            .field("quick", &self.quick)
             .finish_non_exhaustive()
     }
+}
+
+fn to_result<R: Serialize>(r: crate::Result<R>) -> Result<Value, ApiError> {
+    let r = r.map_err(ApiError::from)?;
+    serde_json::to_value(r)
+        .map_err(|e| ApiError::internal(format!("result does not serialise: {e}")))
 }
 
 impl MethodSpec {
@@ -499,29 +393,45 @@ impl MethodSpec {
             description,
             params_schema: Box::new(|g| P::json_schema(g)),
             result_schema: Box::new(|g| g.subschema_for::<R>()),
-            call: Box::new(move |params| {
-                let p: P = decode_params(params)?;
-                let r = f(p).map_err(ApiError::from)?;
-                serde_json::to_value(r)
-                    .map_err(|e| ApiError::internal(format!("result does not serialise: {e}")))
-            }),
+            quick: false,
+            call: Box::new(move |_, params| to_result(f(decode_params(params)?))),
         }
     }
 
-    /// Runs the method on `params` and counts the request.
-    pub fn invoke(&self, params: Value) -> Result<Value, ApiError> {
-        counters::REQUESTS.fetch_add(1, Ordering::Relaxed);
-        let r = (self.call)(params);
-        if r.is_err() {
-            counters::ERRORS.fetch_add(1, Ordering::Relaxed);
+    /// Describes a method whose body reads the server context (its limits, counters or sites).
+    pub fn with_ctx<P, R>(
+        name: &'static str,
+        summary: &'static str,
+        description: &'static str,
+        f: fn(&ServerCtx, P) -> crate::Result<R>,
+    ) -> MethodSpec
+    where
+        P: DeserializeOwned + JsonSchema + 'static,
+        R: Serialize + JsonSchema + 'static,
+    {
+        MethodSpec {
+            name,
+            summary,
+            description,
+            params_schema: Box::new(|g| P::json_schema(g)),
+            result_schema: Box::new(|g| g.subschema_for::<R>()),
+            quick: false,
+            call: Box::new(move |ctx, params| to_result(f(ctx, decode_params(params)?))),
         }
-        r
     }
-}
 
-/// Counts one served request (for routes that do not go through a [`MethodSpec`]).
-pub fn count_request() {
-    counters::REQUESTS.fetch_add(1, Ordering::Relaxed);
+    /// Marks the method quick (see [`MethodSpec::quick`]): only for a method whose one call is
+    /// bounded to a handful of property evaluations.
+    pub fn quick(mut self) -> MethodSpec {
+        self.quick = true;
+        self
+    }
+
+    /// Runs the method on `params` in the context `ctx` (no limit, count or record: that is the
+    /// server's call path).
+    pub fn run(&self, ctx: &ServerCtx, params: Value) -> Result<Value, ApiError> {
+        (self.call)(ctx, params)
+    }
 }
 
 /// Decodes a params value into `P`. Absent params (`null`) and an empty array count as `{}`;
@@ -572,7 +482,6 @@ fn type_name(v: &Value) -> &'static str {
 }
 
 static REGISTRY: OnceLock<Vec<MethodSpec>> = OnceLock::new();
-static STARTED: OnceLock<Instant> = OnceLock::new();
 
 /// All methods, in documentation order: the water methods, the component methods, then the
 /// server methods.
@@ -592,27 +501,18 @@ pub fn find(name: &str) -> Option<&'static MethodSpec> {
     registry().iter().find(|m| m.name == name)
 }
 
-/// Runs method `name` on `params` in-process (counted like any request).
-pub fn call(name: &str, params: Value) -> Result<Value, ApiError> {
+/// Runs method `name` on `params` in the context `ctx`.
+pub fn call_in(ctx: &ServerCtx, name: &str, params: Value) -> Result<Value, ApiError> {
     match find(name) {
-        Some(m) => m.invoke(params),
+        Some(m) => m.run(ctx, params),
         None => Err(ApiError::method_not_found(name)),
     }
 }
 
-/// Marks the process start for `uptime_s` (the first call wins; later calls do nothing).
-pub fn mark_started() {
-    STARTED.get_or_init(Instant::now);
-}
-
-/// Seconds since [`mark_started`] (or since the first call of this function).
-pub fn uptime_s() -> f64 {
-    STARTED.get_or_init(Instant::now).elapsed().as_secs_f64()
-}
-
-/// Method calls served so far by this process (all transports).
-pub fn requests_served() -> u64 {
-    counters::REQUESTS.load(Ordering::Relaxed)
+/// Runs method `name` on `params` in-process, in a fresh context with the default limits (the
+/// command line, library users, tests).
+pub fn call(name: &str, params: Value) -> Result<Value, ApiError> {
+    call_in(&ServerCtx::default(), name, params)
 }
 
 /// Runs method `name` on params given as JSON text; returns the result as pretty JSON text.

@@ -28,7 +28,8 @@ pub fn methods() -> Vec<MethodSpec> {
             "Steam turbine expansion with an isentropic efficiency or from a measured outlet",
             concat!("Give the inlet stream, the outlet pressure and either the isentropic efficiency or the measured outlet (temperature, or quality for a wet exhaust). Returns inlet, actual and isentropic outlet states, specific work, power (with a flow), the efficiency and the exhaust moisture. Warns above about 12 % exhaust moisture (common practice) and near the critical point.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             turbine_expand,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<TrainParams, TrainResult>(
             "turbine.train",
             "Several turbine stages in series, each with an outlet pressure, efficiency and optional extraction",
@@ -40,49 +41,57 @@ pub fn methods() -> Vec<MethodSpec> {
             "Pump: outlet state, work, power, head and NPSH available",
             concat!("efficiency_kind \"isentropic\" (default: w = (h(p2,s1) - h1)/eta) or \"hydraulic\" (w = v1 (p2 - p1)/eta). NPSH available is (p1 - psat(T1))/(rho1 g) at the inlet (suction) state.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             pump_raise,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<ValveParams, ValveResult>(
             "valve.throttle",
             "Isenthalpic let-down to a lower pressure: outlet state and superheat",
             concat!("A let-down (pressure-reducing) valve or any adiabatic throttling.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             valve_throttle,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<SprayParams, SprayResult>(
             "desuperheater.spray",
             "Spray water needed to bring steam to a target temperature or superheat",
             concat!("Give the steam stream (with flow for a spray flow in kg/s), the spray water state, and target_T or target_superheat; outlet_p defaults to the steam pressure. Refuses targets at or below saturation.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             desuperheater_spray,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<FlashParams, FlashResult>(
             "flash.separate",
             "Hot condensate let down into a flash vessel: flash-steam fraction and the flows of each phase",
             concat!("The vessel separates saturated vapour and saturated liquid at its pressure.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             flash_separate,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<HeaderParams, HeaderResult>(
             "header.mix",
             "Adiabatic mixing of any number of streams into a header at one pressure",
             concat!("Every inlet needs a flow.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             header_mix,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<ExchangerParams, ExchangerResult>(
             "exchanger.balance",
             "Two-stream counterflow heat exchanger or feedwater heater: solve the one unknown of outlets and flows",
             concat!("Give both inlets and three of: hot outlet, cold outlet, hot flow, cold flow. An outlet may give only T (or h, or x); its pressure then defaults to its inlet's. Returns duty, LMTD, end differences, pinch, terminal temperature difference and drain-cooler approach; refuses a temperature cross.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             exchanger_balance,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<BoilerParams, BoilerResult>(
             "boiler.fire",
             "Boiler: heat to steam, fuel heat input, blowdown flow and energy",
             concat!("blowdown_fraction is of the feedwater flow; blowdown leaves as saturated liquid at the steam pressure; efficiency is heat to water and steam over fuel heat input.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             boiler_fire,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<DeaeratorParams, DeaeratorResult>(
             "deaerator.balance",
             "Deaerator: heating steam flow to bring water streams to saturated liquid at the deaerator pressure",
             concat!("Every water stream needs a flow; vent_fraction (default 0) of the heating steam leaves through the vent as saturated vapour.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             deaerator_balance,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<RankineParams, RankineResult>(
             "cycle.rankine",
             "Rankine cycle with optional reheat and open and closed feedwater heaters",

@@ -1,12 +1,12 @@
 //! `server.selftest` and the validation digest reported by `server.info`: the built-in IAPWS
-//! verification cases of `crate::validation`, shaped for the wire.
+//! verification cases of [`super::validation`], shaped for the wire.
 //!
 //! Invariant: values here are in the releases' own units (MPa, K, kJ/kg, kJ/(kg K), m3/kg), as
 //! printed in the verification tables, never in a unit preset.
 
 use super::server_methods::NoParams;
+use super::validation;
 use super::MethodSpec;
-use crate::validation;
 use schemars::JsonSchema;
 use serde::Serialize;
 

@@ -5,7 +5,7 @@
 //! `uptime_s`, `requests_served`, `requests_failed` and `connections`) depends only on the build
 //! and the `serve` flags.
 
-use super::{limits, openrpc, registry, MethodSpec};
+use super::{openrpc, registry, MethodSpec, ServerCtx};
 use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 
@@ -131,7 +131,7 @@ impl JsonSchema for OpenRpcDocument {
 }
 
 /// The `server.info` body.
-pub fn info(_: NoParams) -> crate::Result<ServerInfo> {
+pub fn info(ctx: &ServerCtx, _: NoParams) -> crate::Result<ServerInfo> {
     Ok(ServerInfo {
         name: "steamcell".to_string(),
         version: env!("CARGO_PKG_VERSION").to_string(),
@@ -150,7 +150,7 @@ pub fn info(_: NoParams) -> crate::Result<ServerInfo> {
             })
             .collect(),
         limits: {
-            let l = limits::current();
+            let l = ctx.limits;
             Limits {
                 max_request_body_bytes: l.max_request_body_bytes,
                 max_response_body_bytes: l.max_response_body_bytes,
@@ -165,10 +165,10 @@ pub fn info(_: NoParams) -> crate::Result<ServerInfo> {
         },
         methods: registry().iter().map(|m| m.name.to_string()).collect(),
         digest: super::validation_digest(),
-        uptime_s: super::uptime_s(),
-        requests_served: super::requests_served(),
-        requests_failed: super::counters::requests_failed(),
-        connections: super::counters::connections(),
+        uptime_s: ctx.uptime_s(),
+        requests_served: ctx.requests_served(),
+        requests_failed: ctx.requests_failed(),
+        connections: ctx.connections(),
     })
 }
 
@@ -180,14 +180,15 @@ pub fn schema(_: NoParams) -> crate::Result<OpenRpcDocument> {
 /// The server methods.
 pub fn methods() -> Vec<MethodSpec> {
     vec![
-        MethodSpec::new::<NoParams, ServerInfo>(
+        MethodSpec::with_ctx::<NoParams, ServerInfo>(
             "server.info",
             "What this server is: version, formulations, unit presets, limits, uptime",
             "Returns the program version, the formulations and unit presets offered, the limits \
              enforced, the method names, the validation digest, the uptime in seconds, the \
              number of method calls served and failed, and the open connections. Never fails.",
             info,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<NoParams, OpenRpcDocument>(
             "server.schema",
             "The OpenRPC document describing every method",

@@ -20,12 +20,13 @@
 
 use super::balance::set_path;
 use super::cell::{pairs_from_args, wire_value, CellError};
+use super::ApiError;
 use serde_json::{Map, Value};
 use std::collections::BTreeMap;
 use std::collections::HashMap;
 use std::path::Path;
 use std::sync::atomic::{AtomicU64, Ordering};
-use std::sync::{Arc, Mutex, OnceLock};
+use std::sync::{Arc, Mutex};
 
 /// The method a site request calls.
 pub const SOLVE_METHOD: &str = "balance.solve";
@@ -33,44 +34,98 @@ pub const SOLVE_METHOD: &str = "balance.solve";
 /// Query names that are params of `balance.solve` rather than paths into the network.
 pub const RESERVED: &[&str] = &["units", "ambient"];
 
-static SITES: OnceLock<BTreeMap<String, Value>> = OnceLock::new();
-
 /// Solved site results kept for the GET route (see the module invariants).
 pub const CACHE_ENTRIES: usize = 256;
 
 type CacheKey = (String, Vec<(String, String)>);
 
-static SOLVED: OnceLock<Mutex<HashMap<CacheKey, Arc<Value>>>> = OnceLock::new();
-
-/// How many site networks the GET route has solved (cache misses), for tests and the log.
-static SOLVES: AtomicU64 = AtomicU64::new(0);
-
-/// The number of site solves done for the GET route so far.
-pub fn solves() -> u64 {
-    SOLVES.load(Ordering::Relaxed)
+/// The site networks registered with a server (`serve --site NAME=FILE`) and the results solved
+/// for its GET route; held by the server's [`ServerCtx`](super::server_ctx::ServerCtx).
+#[derive(Debug, Default)]
+pub struct Sites {
+    networks: BTreeMap<String, Value>,
+    solved: Mutex<HashMap<CacheKey, Arc<Value>>>,
+    solves: AtomicU64,
 }
 
-/// The solved result of site `name` (network `network`) with `pairs` applied, from the cache
-/// when the same site was asked with the same pairs before.
-fn solved_cached(
-    name: &str,
-    network: &Value,
-    pairs: &[(String, String)],
-) -> Result<Arc<Value>, CellError> {
-    let cache = SOLVED.get_or_init(|| Mutex::new(HashMap::new()));
-    let key = (name.to_string(), pairs.to_vec());
-    if let Some(hit) = cache.lock().ok().and_then(|c| c.get(&key).cloned()) {
-        return Ok(hit);
-    }
-    SOLVES.fetch_add(1, Ordering::Relaxed);
-    let result = Arc::new(solve(network, pairs)?);
-    if let Ok(mut c) = cache.lock() {
-        if c.len() >= CACHE_ENTRIES {
-            c.clear();
+impl Sites {
+    /// Loads the named networks: each `(name, file)` is read and solved first; a bad name, a
+    /// name given twice or a network that does not solve is refused with its reason.
+    pub fn load(sites: &[(String, std::path::PathBuf)]) -> Result<Sites, String> {
+        let mut map = BTreeMap::new();
+        for (name, file) in sites {
+            if name.is_empty()
+                || !name
+                    .chars()
+                    .all(|c| c.is_ascii_alphanumeric() || "_-".contains(c))
+            {
+                return Err(format!(
+                    "site name '{name}': use letters, digits, '_' and '-' only"
+                ));
+            }
+            if map.insert(name.clone(), load(file)?).is_some() {
+                return Err(format!("site name '{name}' is given twice"));
+            }
         }
-        c.insert(key, Arc::clone(&result));
+        Ok(Sites::from_networks(map))
     }
-    Ok(result)
+
+    /// Sites from networks already read (name -> the `network` of `balance.solve`).
+    pub fn from_networks(networks: BTreeMap<String, Value>) -> Sites {
+        Sites {
+            networks,
+            ..Sites::default()
+        }
+    }
+
+    /// The names of the registered sites.
+    pub fn names(&self) -> Vec<String> {
+        self.networks.keys().cloned().collect()
+    }
+
+    /// The network registered as `name`, or the 404 answer naming the registered ones.
+    pub fn network(&self, name: &str) -> Result<&Value, CellError> {
+        self.networks.get(name).ok_or_else(|| {
+            let known = self.names();
+            err(
+                404,
+                if known.is_empty() {
+                    format!(
+                        "no site '{name}': none is registered (start the server with --site NAME=FILE)"
+                    )
+                } else {
+                    format!("no site '{name}'; registered: {}", known.join(", "))
+                },
+            )
+        })
+    }
+
+    /// How many site networks the GET route has solved (cache misses), for tests and the log.
+    pub fn solves(&self) -> u64 {
+        self.solves.load(Ordering::Relaxed)
+    }
+
+    /// The solved result of site `name` with `pairs` applied, from the cache when the same site
+    /// was asked with the same pairs before.
+    pub fn solved(&self, name: &str, pairs: &[(String, String)]) -> Result<Arc<Value>, ApiError> {
+        let network = self
+            .networks
+            .get(name)
+            .ok_or_else(|| ApiError::invalid_params(".", format!("no site '{name}'")))?;
+        let key = (name.to_string(), pairs.to_vec());
+        if let Some(hit) = self.solved.lock().ok().and_then(|c| c.get(&key).cloned()) {
+            return Ok(hit);
+        }
+        self.solves.fetch_add(1, Ordering::Relaxed);
+        let result = Arc::new(solve(network, pairs)?);
+        if let Ok(mut c) = self.solved.lock() {
+            if c.len() >= CACHE_ENTRIES {
+                c.clear();
+            }
+            c.insert(key, Arc::clone(&result));
+        }
+        Ok(result)
+    }
 }
 
 fn err(status: u16, reason: impl Into<String>) -> CellError {
@@ -96,49 +151,18 @@ pub fn read(path: &Path) -> Result<Value, String> {
 /// Reads a network file and checks that it solves as it stands.
 pub fn load(path: &Path) -> Result<Value, String> {
     let net = read(path)?;
-    solve(&net, &[]).map_err(|e| format!("site file {}: {}", path.display(), e.reason))?;
+    solve(&net, &[]).map_err(|e| format!("site file {}: {}", path.display(), e.message))?;
     Ok(net)
 }
 
-/// Registers the named networks for `GET /site/...` (once per process; later calls are
-/// refused). Each `(name, file)` is loaded and solved first.
-pub fn register(sites: &[(String, std::path::PathBuf)]) -> Result<(), String> {
-    let mut map = BTreeMap::new();
-    for (name, file) in sites {
-        if name.is_empty()
-            || !name
-                .chars()
-                .all(|c| c.is_ascii_alphanumeric() || "_-".contains(c))
-        {
-            return Err(format!(
-                "site name '{name}': use letters, digits, '_' and '-' only"
-            ));
-        }
-        if map.insert(name.clone(), load(file)?).is_some() {
-            return Err(format!("site name '{name}' is given twice"));
-        }
-    }
-    SITES
-        .set(map)
-        .map_err(|_| "the sites are already registered".to_string())
-}
-
-/// The names of the registered sites.
-pub fn names() -> Vec<String> {
-    SITES
-        .get()
-        .map(|m| m.keys().cloned().collect())
-        .unwrap_or_default()
-}
-
 /// Solves `network` after applying the query pairs; returns the `balance.solve` result.
-fn solve(network: &Value, pairs: &[(String, String)]) -> Result<Value, CellError> {
+fn solve(network: &Value, pairs: &[(String, String)]) -> Result<Value, ApiError> {
     let mut net = network.clone();
     let mut top = Map::new();
     let mut seen = std::collections::BTreeSet::new();
     for (k, v) in pairs {
         if !seen.insert(k.as_str()) {
-            return Err(err(400, format!("'{k}' is given twice")));
+            return Err(ApiError::invalid_params(k, format!("'{k}' is given twice")));
         }
         if RESERVED.contains(&k.as_str()) {
             let value = if k == "ambient" {
@@ -148,10 +172,10 @@ fn solve(network: &Value, pairs: &[(String, String)]) -> Result<Value, CellError
             };
             top.insert(k.clone(), value);
         } else if k.starts_with("units.") || k.starts_with("streams.") {
-            set_path(&mut net, k, wire_value(v)).map_err(|e| err(400, e.to_string()))?;
+            set_path(&mut net, k, wire_value(v))?;
         } else {
-            return Err(err(
-                400,
+            return Err(ApiError::invalid_params(
+                k,
                 format!(
                     "'{k}' is not a specification path such as units.NAME.FIELD or \
                      streams.NAME.FIELD, nor one of: {}",
@@ -161,11 +185,31 @@ fn solve(network: &Value, pairs: &[(String, String)]) -> Result<Value, CellError
         }
     }
     top.insert("network".into(), net);
-    Ok(super::call(SOLVE_METHOD, Value::Object(top))?)
+    super::call(SOLVE_METHOD, Value::Object(top))
+}
+
+/// Refuses a name given twice among the query pairs (400), before anything is solved.
+pub fn check_pairs(pairs: &[(String, String)]) -> Result<(), CellError> {
+    let mut seen = std::collections::BTreeSet::new();
+    match pairs.iter().find(|(k, _)| !seen.insert(k.as_str())) {
+        Some((k, _)) => Err(err(400, format!("'{k}' is given twice"))),
+        None => Ok(()),
+    }
+}
+
+/// Refuses an empty quantity (404), before anything is solved.
+pub fn check_quantity(quantity: &str) -> Result<(), CellError> {
+    if quantity.is_empty() {
+        return Err(err(
+            404,
+            "name a quantity, e.g. net_power or units.NAME.power",
+        ));
+    }
+    Ok(())
 }
 
 /// The number at `quantity` in a `balance.solve` result (a bare name: a site total).
-fn pick(result: &Value, quantity: &str) -> Result<String, CellError> {
+pub fn pick(result: &Value, quantity: &str) -> Result<String, CellError> {
     let path: Vec<&str> = if quantity.contains('.') {
         quantity.split('.').collect()
     } else {
@@ -214,38 +258,8 @@ pub fn answer(
     quantity: &str,
     pairs: &[(String, String)],
 ) -> Result<String, CellError> {
-    if quantity.is_empty() {
-        return Err(err(
-            404,
-            "name a quantity, e.g. net_power or units.NAME.power",
-        ));
-    }
+    check_quantity(quantity)?;
     pick(&solve(network, pairs)?, quantity)
-}
-
-/// Answers `GET /site/{name}/{quantity}` against the registered site `name`.
-pub fn site_cell(
-    name: &str,
-    quantity: &str,
-    pairs: &[(String, String)],
-) -> Result<String, CellError> {
-    let Some(net) = SITES.get().and_then(|m| m.get(name)) else {
-        let known = names();
-        return Err(err(
-            404,
-            if known.is_empty() {
-                format!(
-                    "no site '{name}': none is registered (start the server with --site NAME=FILE)"
-                )
-            } else {
-                format!("no site '{name}'; registered: {}", known.join(", "))
-            },
-        ));
-    };
-    if quantity.is_empty() {
-        return answer(net, quantity, pairs);
-    }
-    pick(solved_cached(name, net, pairs)?.as_ref(), quantity)
 }
 
 /// `steamcell site FILE QUANTITY [path=value...]`: the same answer from a network file.
@@ -266,20 +280,21 @@ mod tests {
     }
 
     /// Two quantities with the same pairs cost one solve and agree with an uncached answer;
-    /// other pairs solve again. (The name keys the cache; this one is never registered.)
+    /// other pairs solve again; another server's sites keep their own cache.
     #[test]
     fn same_site_and_pairs_solve_once() {
         let net: Value =
             serde_json::from_str(include_str!("../../examples/site/site.json")).unwrap();
         let name = "cache-test-site";
+        let sites = Sites::from_networks(BTreeMap::from([(name.to_string(), net.clone())]));
         let q = pairs(&[("units.MP_users.demand", "40 t/h")]);
-        let before = solves();
-        let a = solved_cached(name, &net, &q).unwrap();
-        let b = solved_cached(name, &net, &q).unwrap();
+        let a = sites.solved(name, &q).unwrap();
+        let b = sites.solved(name, &q).unwrap();
         assert!(
             Arc::ptr_eq(&a, &b),
             "the second ask is answered from the cache"
         );
+        assert_eq!(sites.solves(), 1);
         assert_eq!(
             pick(&a, "net_power").unwrap(),
             answer(&net, "net_power", &q).unwrap()
@@ -289,14 +304,16 @@ mod tests {
             answer(&net, "fuel_heat_input", &q).unwrap()
         );
         let other = pairs(&[("units.MP_users.demand", "30 t/h")]);
-        let c = solved_cached(name, &net, &other).unwrap();
+        let c = sites.solved(name, &other).unwrap();
         assert_ne!(
             pick(&a, "net_power").unwrap(),
             pick(&c, "net_power").unwrap()
         );
-        // Other tests in this binary may solve sites at the same time: at least our 2 misses.
-        assert!(solves() - before >= 2);
-        let d = solved_cached(name, &net, &other).unwrap();
+        assert_eq!(sites.solves(), 2);
+        let d = sites.solved(name, &other).unwrap();
         assert!(Arc::ptr_eq(&c, &d));
+        let elsewhere = Sites::from_networks(BTreeMap::from([(name.to_string(), net)]));
+        elsewhere.solved(name, &q).unwrap();
+        assert_eq!((sites.solves(), elsewhere.solves()), (2, 1));
     }
 }

@@ -26,8 +26,9 @@ pub fn methods() -> Vec<MethodSpec> {
             "Every property of one state of water or steam from two properties that fix it",
             "Give two of p, T, h, s, u, v, rho, x in `given` (numbers in the `units` preset, or strings with a unit such as \"42 barg\" or \"410 degC\"). Returns p, T, rho, v, u, h, s, cp, cv, w, x and derived properties in the preset's units, with the phase and the IAPWS-IF97 region. Properties that are not defined for the state (cp, cv, w of a wet mixture) are null and `undefined` says why.",
             water_state,
-        ),
-        MethodSpec::new::<BatchParams, BatchResult>(
+        )
+        .quick(),
+        MethodSpec::with_ctx::<BatchParams, BatchResult>(
             "water.batch",
             "Properties for columns of states (historian data): one row per state",
             "Give two columns in `given` (of equal length: JSON arrays of numbers in the preset's units or strings with units, or packed columns {\"f64le\": base64 of little-endian doubles}) and the properties wanted. A bad row gives null (NaN in packed columns) in its columns and an entry in `errors` (one entry per row with encoding \"json\", the failed rows only with \"f64le\"); it never fails the whole call.",
@@ -38,7 +39,8 @@ pub fn methods() -> Vec<MethodSpec> {
             "Saturated liquid and vapour at a temperature or a pressure",
             "Give either T or p. Returns the saturation pressure and temperature, the full saturated-liquid and saturated-vapour states, and the latent enthalpy and entropy of vaporisation.",
             water_saturation,
-        ),
+        )
+        .quick(),
         MethodSpec::new::<CurveParams, CurveResult>(
             "water.curve",
             "Points for charts: the saturation dome, an isobar, an isotherm or an isentrope",
@@ -764,7 +766,7 @@ pub struct BatchResult {
 }
 
 /// Most rows in one `water.batch` call by default (`serve --max-batch-rows` changes the limit in
-/// force, see [`super::limits::max_batch_rows`]).
+/// force, see [`super::limits::Settings::max_batch_rows`]).
 pub const MAX_BATCH_ROWS: usize = super::limits::MAX_BATCH_ROWS as usize;
 
 pub use super::rows::PARALLEL_THRESHOLD;
@@ -816,7 +818,7 @@ pub fn check_want(want: &[String], texts: bool) -> Result<()> {
     Ok(())
 }
 
-fn water_batch(p: BatchParams) -> Result<BatchResult> {
+fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult> {
     use super::rows::InputColumn;
     let f = parse_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
@@ -846,7 +848,7 @@ fn water_batch(p: BatchParams) -> Result<BatchResult> {
             Column::Values(v) => v.len(),
             Column::Packed(pc) => pc.f64le.len() / 4 * 3 / 8,
         };
-        let max_rows = super::limits::max_batch_rows();
+        let max_rows = server.limits.max_batch_rows();
         if n > max_rows {
             return Err(Error::LimitExceeded {
                 what: "rows in one water.batch call".into(),

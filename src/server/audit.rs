@@ -1,8 +1,13 @@
-//! The audit trail of `steamcell serve --audit FILE`: one JSON line appended per method call.
+//! The audit trail of `steamcell serve --audit FILE`: one JSON line appended per call of the
+//! server's call path ([`super::run_call`]): every JSON-RPC method call, and every GET /cell,
+//! GET /site and POST /columns request that reaches it.
 //!
-//! Each line is an object with `time` (RFC 3339, UTC, milliseconds), `request_id`, `method`,
+//! Each line is an object with `time` (RFC 3339, UTC, milliseconds), `request_id`, `method`
+//! (the JSON-RPC method; `water.state` for GET /cell, whose params are the ones the route built;
+//! `GET /site/NAME` with the query pairs; `POST /columns` with the frame's JSON header),
 //! `params` (as received; `null` when absent, the raw text as a string when it is not JSON),
-//! `result_digest` (FNV-1a 64-bit hex of the result JSON text, `null` on error), `error_code`
+//! `result_digest` (FNV-1a 64-bit hex of the result JSON text, or of the response body of
+//! POST /columns; `null` on error), `error_code`
 //! (`null` on success), `version` (steamcell), `formulation` (the `formulation` param, else the
 //! default "IAPWS-IF97") and `validation_digest` (the built-in validation run's digest).
 //!
@@ -10,28 +15,41 @@
 //! the file never holds a partial line from this process; audit I/O failures are logged, never
 //! fail the call. No token, header or address is recorded.
 
+use super::CallParams;
 use serde_json::{json, Value};
 use std::fs::{File, OpenOptions};
 use std::io::Write;
 use std::path::Path;
-use std::sync::{Mutex, OnceLock};
+use std::sync::{Arc, Mutex};
 use std::time::{SystemTime, UNIX_EPOCH};
 
-static AUDIT: OnceLock<Mutex<File>> = OnceLock::new();
-
-/// Opens (creating, appending) the audit file; later calls after a success do nothing.
-pub fn open(path: &Path) -> std::io::Result<()> {
-    if AUDIT.get().is_some() {
-        return Ok(());
-    }
-    let f = OpenOptions::new().create(true).append(true).open(path)?;
-    let _ = AUDIT.set(Mutex::new(f));
-    Ok(())
+/// Opens (creating, appending) the audit file, for [`crate::api::ServerCtx::with_audit`].
+pub fn open(path: &Path) -> std::io::Result<File> {
+    OpenOptions::new().create(true).append(true).open(path)
 }
 
-/// True when an audit file is open.
-pub fn enabled() -> bool {
-    AUDIT.get().is_some()
+/// A call's answer as its audit digest sees it: FNV-1a 64 of its bytes on the wire.
+pub trait Digest {
+    /// The digest of the answer.
+    fn digest(&self) -> u64;
+}
+
+impl Digest for Value {
+    fn digest(&self) -> u64 {
+        fnv1a64(self.to_string().as_bytes())
+    }
+}
+
+impl Digest for Arc<Value> {
+    fn digest(&self) -> u64 {
+        self.as_ref().digest()
+    }
+}
+
+impl Digest for Vec<u8> {
+    fn digest(&self) -> u64 {
+        fnv1a64(self)
+    }
 }
 
 /// FNV-1a, 64 bits, of `bytes`.
@@ -83,15 +101,18 @@ pub fn now_rfc3339() -> String {
 }
 
 /// The audit line of one call (without the newline).
-pub fn line(
+pub fn line<T: Digest>(
     request_id: &str,
     method: &str,
-    params_text: Option<&str>,
-    result: &Result<Value, i64>,
+    params: CallParams<'_>,
+    result: Result<&T, i64>,
 ) -> String {
-    let params: Value = match params_text {
-        None => Value::Null,
-        Some(t) => serde_json::from_str(t).unwrap_or_else(|_| Value::String(t.to_string())),
+    let params: Value = match params {
+        CallParams::Absent => Value::Null,
+        CallParams::Text(t) => {
+            serde_json::from_str(t).unwrap_or_else(|_| Value::String(t.to_string()))
+        }
+        CallParams::Json(v) => v.clone(),
     };
     let formulation = params
         .get("formulation")
@@ -99,10 +120,7 @@ pub fn line(
         .unwrap_or("IAPWS-IF97")
         .to_string();
     let (digest, code) = match result {
-        Ok(v) => (
-            Value::String(format!("{:016x}", fnv1a64(v.to_string().as_bytes()))),
-            Value::Null,
-        ),
+        Ok(v) => (Value::String(format!("{:016x}", v.digest())), Value::Null),
         Err(c) => (Value::Null, json!(c)),
     };
     json!({
@@ -119,15 +137,15 @@ pub fn line(
     .to_string()
 }
 
-/// Appends the line of one call when auditing is on.
-pub fn record(
+/// Appends the line of one call to the audit `file`.
+pub fn record<T: Digest>(
+    file: &Mutex<File>,
     request_id: &str,
     method: &str,
-    params_text: Option<&str>,
-    result: &Result<Value, i64>,
+    params: CallParams<'_>,
+    result: Result<&T, i64>,
 ) {
-    let Some(file) = AUDIT.get() else { return };
-    let mut text = line(request_id, method, params_text, result);
+    let mut text = line(request_id, method, params, result);
     text.push('\n');
     let mut f = file.lock().unwrap_or_else(|e| e.into_inner());
     if let Err(e) = f.write_all(text.as_bytes()).and_then(|()| f.flush()) {
@@ -156,14 +174,24 @@ mod tests {
 
     #[test]
     fn line_fields() {
-        let l = line("7.1", "water.state", Some(r#"{"p":1}"#), &Err(1001));
+        let l = line::<Value>(
+            "7.1",
+            "water.state",
+            CallParams::Text(r#"{"p":1}"#),
+            Err(1001),
+        );
         let v: Value = serde_json::from_str(&l).unwrap();
         assert_eq!(v["method"], "water.state");
         assert_eq!(v["params"]["p"], 1);
         assert_eq!(v["error_code"], 1001);
         assert!(v["result_digest"].is_null());
         assert_eq!(v["formulation"], "IAPWS-IF97");
-        let l = line("8.2", "server.info", None, &Ok(json!({"a": 1})));
+        let l = line(
+            "8.2",
+            "server.info",
+            CallParams::Absent,
+            Ok(&json!({"a": 1})),
+        );
         let v: Value = serde_json::from_str(&l).unwrap();
         assert_eq!(v["result_digest"].as_str().unwrap().len(), 16);
         assert!(v["error_code"].is_null());

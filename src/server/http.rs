@@ -1,6 +1,5 @@
-//! The HTTP front of `steamcell serve`, as two tower layers in front of the jsonrpsee service.
-//!
-//! [`GuardLayer`] (outermost) decides whether a request may reach anything at all:
+//! The HTTP front of `steamcell serve`: one tower layer, [`GuardLayer`], in front of the
+//! jsonrpsee service. It decides whether a request may reach anything at all:
 //!
 //! - `Host` (or the HTTP/2 authority) must name this server: `localhost`, a loopback address,
 //!   the listen address (any IP literal when listening on 0.0.0.0 or ::), or a name given with
@@ -9,48 +8,58 @@
 //!   are sent only for such an origin, and only then is a preflight `OPTIONS` answered (204).
 //! - With a token, every request except `GET /health` and an allowed preflight needs
 //!   `Authorization: Bearer <token>` (compared in constant time); otherwise 401.
-//! - A POST must declare `Content-Type: application/json`; otherwise 415.
-//! - A POST body is read under the size limit (413) and the time limit (408), and its `[`/`{`
-//!   nesting is scanned before any parsing (deeper than the limit: JSON-RPC error 1008).
-//! - The whole request must be answered within the time limit; otherwise 503 with JSON-RPC
-//!   error 1008. WebSocket upgrades pass the Host/Origin/token checks, then live on unlimited
-//!   in time (each message is bounded in size by jsonrpsee).
+//! - A POST must declare `Content-Type: application/json` (`/columns`: its own type);
+//!   otherwise 415.
+//! - A POST body is read under the size limit and the time limit; a JSON-RPC body is then held
+//!   to the nesting and batch limits before any parsing ([`super::check_request_text`], the
+//!   same check as a stdio line).
+//! - The whole request must be answered within the time limit (GET routes included).
+//!   WebSocket upgrades pass the Host/Origin/token checks, then live on unlimited in time (each
+//!   message is bounded in size by jsonrpsee, each call and batch by [`super::MessageLimits`]).
+//!
+//! Beside JSON-RPC it serves the plain routes:
+//!
+//! - `GET /health` -> `ok` (text/plain)
+//! - `GET /schema` -> the OpenRPC document (application/json)
+//! - `GET /cell/{quantity}?{name=value...}` -> the bare number (text/plain), see
+//!   [`crate::api::cell`]: the route's `water.state` call runs through the call path.
+//! - `GET /site/{name}/{quantity}?{path=value...}` -> a number of a registered site's balance
+//!   (text/plain), see [`crate::api::site`]; the (cached) solve runs through the call path.
+//! - `POST /columns` -> packed columns, see [`crate::api::columns`]; through the call path.
+//!
+//! Statuses: a call's answer inside a JSON-RPC response (result or error, including the
+//! in-flight refusal of one call) is 200, as are jsonrpsee's own parse and invalid-request
+//! answers; a refusal of a whole request (body size, body time, UTF-8, nesting, batch size,
+//! answer time) and every failure of a computing plain route take
+//! [`ApiError::http_status`](crate::api::ApiError::http_status). Refusals of a JSON-RPC request
+//! carry a JSON-RPC error response (id null); `/columns` failures the bare error object
+//! {code, message, data}; GET route failures a one-line text reason. Access-control refusals
+//! (400, 401, 403, 405, 415) answer a text reason.
 //!
 //! Every request gets a request id ([`RequestId`], in the request extensions, logged and
 //! written to the audit file); refusals are logged at `info` with the reason, never with the
 //! token.
 //!
-//! [`GetRoutesLayer`] then serves plain HTTP GET routes beside JSON-RPC on the same port:
-//!
-//! - `GET /health` -> `ok` (text/plain)
-//! - `GET /schema` -> the OpenRPC document (application/json)
-//! - `GET /cell/{quantity}?{name=value...}` -> the bare number (text/plain), see
-//!   [`crate::api::cell`]; failures answer 400/404/422/500 with a one-line reason (text/plain).
-//! - `GET /site/{name}/{quantity}?{path=value...}` -> a number of a registered site's balance
-//!   (text/plain), see [`crate::api::site`]; failures as for `/cell`.
-//!
-//! Invariant: anything else (POST, WebSocket upgrades, other paths) passes to jsonrpsee
-//! untouched.
+//! Invariant: anything else (other POSTs, WebSocket upgrades, other GET paths) passes to
+//! jsonrpsee untouched.
 
-use crate::api::{self, cell, codes, counters};
+use super::{check_request_text, refuse, run_call, CallParams};
+use crate::api::server_ctx::Connection;
+use crate::api::site::{self, Sites};
+use crate::api::{self, cell, codes, limits, ApiError, ServerCtx};
 use http_body_util::BodyExt;
 use jsonrpsee::core::BoxError;
 use jsonrpsee::server::{HttpBody, HttpRequest, HttpResponse};
-use serde_json::json;
+use serde_json::{json, Value};
 use std::future::Future;
 use std::net::{IpAddr, SocketAddr};
 use std::pin::Pin;
-use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::Arc;
 use std::task::{Context, Poll};
-use std::time::{Duration, Instant};
+use std::time::Instant;
 use tower::{Layer, Service};
 
-/// The id of one HTTP request (also carried by the WebSocket calls of an upgraded connection).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct RequestId(pub u64);
-
-static NEXT_REQUEST: AtomicU64 = AtomicU64::new(1);
+pub use super::RequestId;
 
 /// Compares two byte strings in time that depends only on the length of `expected`.
 pub fn constant_time_eq(given: &[u8], expected: &[u8]) -> bool {
@@ -60,80 +69,6 @@ pub fn constant_time_eq(given: &[u8], expected: &[u8]) -> bool {
         diff |= std::hint::black_box(g ^ e);
     }
     std::hint::black_box(diff) == 0
-}
-
-/// True when the `[`/`{` nesting of `body`, outside JSON strings, goes deeper than `max`.
-pub fn nesting_exceeds(body: &[u8], max: u32) -> bool {
-    let mut depth = 0u32;
-    let mut in_str = false;
-    let mut esc = false;
-    for &b in body {
-        if in_str {
-            if esc {
-                esc = false;
-            } else if b == b'\\' {
-                esc = true;
-            } else if b == b'"' {
-                in_str = false;
-            }
-        } else {
-            match b {
-                b'"' => in_str = true,
-                b'[' | b'{' => {
-                    depth += 1;
-                    if depth > max {
-                        return true;
-                    }
-                }
-                b']' | b'}' => depth = depth.saturating_sub(1),
-                _ => {}
-            }
-        }
-    }
-    false
-}
-
-/// The number of elements of a top-level JSON array (a batch), by a byte scan counting commas
-/// at depth 1 outside strings; `None` when the body is not an array.
-pub fn batch_len(body: &[u8]) -> Option<usize> {
-    let start = body.iter().position(|b| !b.is_ascii_whitespace())?;
-    if body[start] != b'[' {
-        return None;
-    }
-    let mut depth = 0u32;
-    let mut in_str = false;
-    let mut esc = false;
-    let mut commas = 0usize;
-    let mut any = false;
-    for &b in &body[start..] {
-        if in_str {
-            if esc {
-                esc = false;
-            } else if b == b'\\' {
-                esc = true;
-            } else if b == b'"' {
-                in_str = false;
-            }
-            continue;
-        }
-        match b {
-            b'"' => {
-                in_str = true;
-                any = true;
-            }
-            b'[' | b'{' => {
-                if depth >= 1 {
-                    any = true;
-                }
-                depth += 1;
-            }
-            b']' | b'}' => depth = depth.saturating_sub(1),
-            b',' if depth == 1 => commas += 1,
-            b if depth >= 1 && !b.is_ascii_whitespace() => any = true,
-            _ => {}
-        }
-    }
-    Some(if any { commas + 1 } else { 0 })
 }
 
 /// The host part of a `Host` header value, lower-cased, without port and trailing dot;
@@ -172,14 +107,6 @@ pub struct GuardConfig {
     pub allow_origins: Vec<String>,
     /// The bound address.
     pub listen: SocketAddr,
-    /// Largest request body, bytes.
-    pub max_body_bytes: usize,
-    /// Deepest `[`/`{` nesting of a request body.
-    pub max_json_depth: u32,
-    /// Most calls in one batch array.
-    pub max_batch_requests: usize,
-    /// Time limit of one request.
-    pub request_timeout: Duration,
 }
 
 impl std::fmt::Debug for GuardConfig {
@@ -189,10 +116,6 @@ impl std::fmt::Debug for GuardConfig {
             .field("allow_hosts", &self.allow_hosts)
             .field("allow_origins", &self.allow_origins)
             .field("listen", &self.listen)
-            .field("max_body_bytes", &self.max_body_bytes)
-            .field("max_json_depth", &self.max_json_depth)
-            .field("max_batch_requests", &self.max_batch_requests)
-            .field("request_timeout", &self.request_timeout)
             .finish()
     }
 }
@@ -243,13 +166,16 @@ impl GuardConfig {
 #[derive(Debug, Clone)]
 pub struct GuardLayer {
     config: Arc<GuardConfig>,
+    ctx: Arc<ServerCtx>,
 }
 
 impl GuardLayer {
-    /// A guard enforcing `config`.
-    pub fn new(config: GuardConfig) -> GuardLayer {
+    /// A guard enforcing `config` and the limits of `ctx`, running calls on the call path of
+    /// `ctx`.
+    pub fn new(config: GuardConfig, ctx: Arc<ServerCtx>) -> GuardLayer {
         GuardLayer {
             config: Arc::new(config),
+            ctx,
         }
     }
 }
@@ -262,7 +188,8 @@ impl<S> Layer<S> for GuardLayer {
         Guard {
             inner,
             config: self.config.clone(),
-            _conn: Arc::new(counters::ConnectionGuard::open()),
+            _conn: Arc::new(self.ctx.open_connection()),
+            ctx: self.ctx.clone(),
         }
     }
 }
@@ -272,10 +199,12 @@ impl<S> Layer<S> for GuardLayer {
 pub struct Guard<S> {
     inner: S,
     config: Arc<GuardConfig>,
-    _conn: Arc<counters::ConnectionGuard>,
+    ctx: Arc<ServerCtx>,
+    _conn: Arc<Connection>,
 }
 
-fn refuse(status: u16, reason: String) -> HttpResponse {
+/// An access-control refusal: a text reason.
+fn deny(status: u16, reason: String) -> HttpResponse {
     tracing::info!(status, "refused: {reason}");
     let mut r = text(status, reason);
     if status == 401 {
@@ -287,31 +216,42 @@ fn refuse(status: u16, reason: String) -> HttpResponse {
     r
 }
 
-fn refuse_b(status: u16, reason: String) -> Box<HttpResponse> {
-    Box::new(refuse(status, reason))
+fn deny_b(status: u16, reason: String) -> Box<HttpResponse> {
+    Box::new(deny(status, reason))
 }
 
-fn rpc_refusal(status: u16, code: i64, message: String, what: &str, limit: f64) -> HttpResponse {
-    tracing::info!(status, code, "refused: {message}");
-    counters::count_refused();
-    let body = json!({
-        "jsonrpc": "2.0",
-        "error": {
-            "code": code,
-            "message": message,
-            "data": { "kind": api::error_kind(code).unwrap_or("limit_exceeded"), "what": what, "limit": limit },
-        },
-        "id": null,
-    })
-    .to_string();
+/// How a failure is written: inside a JSON-RPC response (id null), or as the bare error object
+/// (`/columns`). (GET routes write a [`cell::CellError`]'s text reason.)
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Form {
+    Rpc,
+    Object,
+}
+
+fn error_object(e: &ApiError) -> Value {
+    json!({ "code": e.code, "message": e.message, "data": e.data })
+}
+
+/// The answer of a failure `e` with `status`, written in `form`.
+fn failure(status: u16, e: &ApiError, form: Form) -> HttpResponse {
+    let body = match form {
+        Form::Object => error_object(e),
+        Form::Rpc => json!({ "jsonrpc": "2.0", "error": error_object(e), "id": null }),
+    };
     http::Response::builder()
         .status(status)
         .header(
             http::header::CONTENT_TYPE,
             "application/json; charset=utf-8",
         )
-        .body(HttpBody::from(body))
+        .body(HttpBody::from(body.to_string()))
         .unwrap_or_else(|_| http::Response::new(HttpBody::from("internal error")))
+}
+
+/// A refusal of a whole request: counted, logged, answered with its mapped status.
+fn refusal(ctx: &ServerCtx, e: ApiError, form: Form) -> HttpResponse {
+    let e = refuse(ctx, e);
+    failure(e.http_status(), &e, form)
 }
 
 /// jsonrpsee answers a bare `null` to a request object it cannot read (e.g. an object as id);
@@ -327,15 +267,15 @@ async fn fix_null_answer(resp: HttpResponse) -> HttpResponse {
         Err(_) => return http::Response::from_parts(parts, HttpBody::from("")),
     };
     if &bytes[..] == b"null" {
-        return rpc_refusal(
-            200,
-            codes::INVALID_REQUEST,
-            "Invalid request: not a JSON-RPC 2.0 request object (jsonrpc \"2.0\", method, \
-             id a string, number or null)"
+        // A JSON-RPC answer like jsonrpsee's own invalid-request answers: 200.
+        let e = ApiError {
+            code: codes::INVALID_REQUEST,
+            message: "Invalid request: not a JSON-RPC 2.0 request object (jsonrpc \"2.0\", \
+                      method, id a string, number or null)"
                 .to_string(),
-            "request object",
-            0.0,
-        );
+            data: json!({ "kind": "invalid_request" }),
+        };
+        return failure(200, &e, Form::Rpc);
     }
     http::Response::from_parts(parts, HttpBody::from(bytes.to_vec()))
 }
@@ -387,9 +327,9 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
         .map(str::to_string)
         .or_else(|| req.uri().authority().map(|a| a.to_string()));
     match host {
-        None => return Err(refuse_b(400, "missing Host header".to_string())),
+        None => return Err(deny_b(400, "missing Host header".to_string())),
         Some(h) if !config.host_allowed(&h) => {
-            return Err(refuse_b(
+            return Err(deny_b(
                 403,
                 format!(
                     "Host '{}' is not this server (add it with --allow-host)",
@@ -404,7 +344,7 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
         Some(v) => {
             let o = v.to_str().unwrap_or("").to_string();
             if !config.origin_allowed(&o) {
-                return Err(refuse_b(
+                return Err(deny_b(
                     403,
                     format!(
                         "cross-origin request from '{o}' refused (allow it with --allow-origin)"
@@ -417,7 +357,7 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     if req.method() == http::Method::OPTIONS {
         return match origin {
             Some(o) => Err(Box::new(preflight(&o))),
-            None => Err(refuse_b(
+            None => Err(deny_b(
                 405,
                 "OPTIONS is answered only for a CORS preflight".into(),
             )),
@@ -426,7 +366,7 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     let health = (req.method() == http::Method::GET || req.method() == http::Method::HEAD)
         && req.uri().path() == "/health";
     if !health && !config.token_ok(req) {
-        return Err(refuse_b(
+        return Err(deny_b(
             401,
             "missing or wrong token: send Authorization: Bearer <token>".to_string(),
         ));
@@ -434,7 +374,7 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     if req.method() == http::Method::POST {
         if req.uri().path() == "/columns" {
             if !has_content_type(req, api::columns::CONTENT_TYPE) {
-                return Err(refuse_b(
+                return Err(deny_b(
                     415,
                     format!(
                         "unsupported Content-Type: POST /columns takes {}",
@@ -443,7 +383,7 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
                 ));
             }
         } else if !is_json_content_type(req) {
-            return Err(refuse_b(
+            return Err(deny_b(
                 415,
                 "unsupported Content-Type: send application/json".to_string(),
             ));
@@ -466,20 +406,26 @@ where
     }
 
     fn call(&mut self, mut req: HttpRequest) -> Self::Future {
-        let id = NEXT_REQUEST.fetch_add(1, Ordering::Relaxed);
-        let span =
-            tracing::info_span!("request", id, method = %req.method(), path = %req.uri().path());
+        let ctx = self.ctx.clone();
+        let id = RequestId(ctx.next_request_id());
+        let span = tracing::info_span!("request", id = id.0, method = %req.method(), path = %req.uri().path());
         let _enter = span.enter();
-        let config = self.config.clone();
-        let origin = match admit(&config, &req) {
+        let origin = match admit(&self.config, &req) {
             Ok(o) => o,
             Err(resp) => return Box::pin(async move { Ok(*resp) }),
         };
-        req.extensions_mut().insert(RequestId(id));
+        req.extensions_mut().insert(id);
         // The clone that was made ready goes into the future; a fresh clone stays.
         let clone = self.inner.clone();
         let mut inner = std::mem::replace(&mut self.inner, clone);
-        if jsonrpsee::server::ws::is_upgrade_request(&req) || req.method() != http::Method::POST {
+        let upgrade = jsonrpsee::server::ws::is_upgrade_request(&req);
+        let is_get = req.method() == http::Method::GET || req.method() == http::Method::HEAD;
+        let get_route = if is_get && !upgrade {
+            route(req.uri().path(), req.uri().query(), ctx.sites())
+        } else {
+            None
+        };
+        if get_route.is_none() && (upgrade || req.method() != http::Method::POST) {
             return Box::pin(async move {
                 let mut resp = inner.call(req).await?;
                 if let Some(o) = origin {
@@ -491,166 +437,9 @@ where
         let span = span.clone();
         let fut = async move {
             let started = Instant::now();
-            let limit = config.request_timeout;
-            // The bulk route carries raw columns: its body may hold two columns of the most
-            // rows a batch may have.
-            let columns_route = req.uri().path() == "/columns";
-            let max = if columns_route {
-                config
-                    .max_body_bytes
-                    .max(api::limits::max_batch_rows() * 16 + api::columns::MAX_HEADER + 4)
-            } else {
-                config.max_body_bytes
-            };
-            let declared = req
-                .headers()
-                .get(http::header::CONTENT_LENGTH)
-                .and_then(|v| v.to_str().ok())
-                .and_then(|v| v.parse::<u64>().ok());
-            let too_big = || {
-                rpc_refusal(
-                    413,
-                    codes::LIMIT_EXCEEDED,
-                    format!("request body too large: limit {max} bytes"),
-                    "request body bytes",
-                    max as f64,
-                )
-            };
-            if declared.is_some_and(|n| n > max as u64) {
-                return Ok(too_big());
-            }
-            let (parts, body) = req.into_parts();
-            let read = http_body_util::Limited::new(body, max).collect();
-            let bytes = match tokio::time::timeout(limit, read).await {
-                Err(_) => {
-                    return Ok(rpc_refusal(
-                        408,
-                        codes::LIMIT_EXCEEDED,
-                        format!(
-                            "request body not received within the {} s time limit",
-                            limit.as_secs_f64()
-                        ),
-                        "request timeout s",
-                        limit.as_secs_f64(),
-                    ))
-                }
-                Ok(Err(e)) => {
-                    if e.downcast_ref::<http_body_util::LengthLimitError>()
-                        .is_some()
-                    {
-                        return Ok(too_big());
-                    }
-                    return Ok(refuse(400, format!("request body could not be read: {e}")));
-                }
-                Ok(Ok(c)) => c.to_bytes(),
-            };
-            if columns_route {
-                // A bulk request counts as a method call in flight, like every JSON-RPC call.
-                let most = u64::from(api::limits::current().max_in_flight);
-                let Some(running) = counters::InFlight::try_begin(most) else {
-                    return Ok(rpc_refusal(
-                        503,
-                        codes::LIMIT_EXCEEDED,
-                        format!(
-                            "server busy: {most} method calls are in flight (the --max-in-flight limit); retry shortly"
-                        ),
-                        "method calls in flight",
-                        most as f64,
-                    ));
-                };
-                let left = limit.saturating_sub(started.elapsed());
-                let job = tokio::task::spawn_blocking(move || {
-                    let _running = running;
-                    api::columns::columns(&bytes)
-                });
-                let mut resp = match tokio::time::timeout(left, job).await {
-                    Ok(Ok(Ok(body))) => http::Response::builder()
-                        .status(200)
-                        .header(http::header::CONTENT_TYPE, api::columns::CONTENT_TYPE)
-                        .body(HttpBody::from(body))
-                        .unwrap_or_else(|_| http::Response::new(HttpBody::from("internal error"))),
-                    Ok(Ok(Err(e))) => {
-                        let status = if e.code == codes::LIMIT_EXCEEDED {
-                            413
-                        } else {
-                            400
-                        };
-                        let body = serde_json::json!({"code": e.code, "message": e.message, "data": e.data});
-                        http::Response::builder()
-                            .status(status)
-                            .header(
-                                http::header::CONTENT_TYPE,
-                                "application/json; charset=utf-8",
-                            )
-                            .body(HttpBody::from(body.to_string()))
-                            .unwrap_or_else(|_| {
-                                http::Response::new(HttpBody::from("internal error"))
-                            })
-                    }
-                    Ok(Err(e)) => refuse(500, format!("internal error: {e}")),
-                    Err(_) => rpc_refusal(
-                        503,
-                        codes::LIMIT_EXCEEDED,
-                        format!(
-                            "request not answered within the {} s time limit",
-                            limit.as_secs_f64()
-                        ),
-                        "request timeout s",
-                        limit.as_secs_f64(),
-                    ),
-                };
-                if let Some(o) = origin {
-                    add_cors(&mut resp, &o);
-                }
-                return Ok(resp);
-            }
-            if nesting_exceeds(&bytes, config.max_json_depth) {
-                return Ok(rpc_refusal(
-                    200,
-                    codes::LIMIT_EXCEEDED,
-                    format!(
-                        "JSON nested deeper than {} levels of [ and {{",
-                        config.max_json_depth
-                    ),
-                    "JSON nesting depth",
-                    f64::from(config.max_json_depth),
-                ));
-            }
-            if std::str::from_utf8(&bytes).is_err() {
-                return Ok(rpc_refusal(
-                    400,
-                    codes::PARSE_ERROR,
-                    "Parse error: the request body is not valid UTF-8".to_string(),
-                    "UTF-8",
-                    0.0,
-                ));
-            }
-            if let Some(n) = batch_len(&bytes).filter(|n| *n > config.max_batch_requests) {
-                return Ok(rpc_refusal(
-                    200,
-                    codes::LIMIT_EXCEEDED,
-                    format!(
-                        "batch of {n} calls exceeds the limit of {} calls",
-                        config.max_batch_requests
-                    ),
-                    "calls in one batch",
-                    config.max_batch_requests as f64,
-                ));
-            }
-            let req = http::Request::from_parts(parts, HttpBody::from(bytes.to_vec()));
-            let left = limit.saturating_sub(started.elapsed());
-            let mut resp = match tokio::time::timeout(left, inner.call(req)).await {
-                Ok(r) => fix_null_answer(r?).await,
-                Err(_) => rpc_refusal(
-                    503,
-                    codes::LIMIT_EXCEEDED,
-                    format!(
-                        "request not answered within the {} s time limit",
-                        limit.as_secs_f64()
-                    ),
-                    "request timeout s",
-                    limit.as_secs_f64(),
-                ),
+            let mut resp = match get_route {
+                Some(r) => get_answer(ctx, r, id, started).await,
+                None => post_answer(ctx, inner, req, id, started).await?,
             };
             if let Some(o) = origin {
                 add_cors(&mut resp, &o);
@@ -661,22 +450,114 @@ where
     }
 }
 
-/// The layer that adds the GET routes.
-#[derive(Debug, Clone, Copy, Default)]
-pub struct GetRoutesLayer;
-
-impl<S> Layer<S> for GetRoutesLayer {
-    type Service = GetRoutes<S>;
-
-    fn layer(&self, inner: S) -> GetRoutes<S> {
-        GetRoutes { inner }
+/// Runs `f` (a closure around [`run_call`]) and waits for it until the request's time limit:
+/// inline for a quick method, else on the blocking pool; past the limit, the answer-time
+/// refusal (the computation runs on to its end and holds its in-flight slot until then).
+async fn compute<T: Send + 'static>(
+    ctx: &ServerCtx,
+    quick: bool,
+    started: Instant,
+    f: impl FnOnce() -> Result<T, ApiError> + Send + 'static,
+) -> Result<T, ApiError> {
+    if quick {
+        return f();
+    }
+    let limit = ctx.limits.request_timeout();
+    let left = limit.saturating_sub(started.elapsed());
+    match tokio::time::timeout(left, tokio::task::spawn_blocking(f)).await {
+        Ok(Ok(answer)) => answer,
+        Ok(Err(e)) => Err(ApiError::internal(format!("internal error: {e}"))),
+        Err(_) => Err(refuse(ctx, limits::answer_time(limit))),
     }
 }
 
-/// The service made by [`GetRoutesLayer`].
-#[derive(Debug, Clone)]
-pub struct GetRoutes<S> {
-    inner: S,
+/// Reads a POST body under the size and time limits, then answers `/columns` or passes the
+/// JSON-RPC body (after its nesting, UTF-8 and batch checks) to jsonrpsee.
+async fn post_answer<S>(
+    ctx: Arc<ServerCtx>,
+    mut inner: S,
+    req: HttpRequest,
+    id: RequestId,
+    started: Instant,
+) -> Result<HttpResponse, BoxError>
+where
+    S: Service<HttpRequest, Response = HttpResponse, Error = BoxError>,
+{
+    let limit = ctx.limits.request_timeout();
+    // The bulk route carries raw columns: its body may hold two columns of the most rows a
+    // batch may have.
+    let columns_route = req.uri().path() == "/columns";
+    let form = if columns_route {
+        Form::Object
+    } else {
+        Form::Rpc
+    };
+    let body_limit = ctx.limits.max_request_body_bytes as usize;
+    let max = if columns_route {
+        body_limit.max(ctx.limits.max_batch_rows() * 16 + api::columns::MAX_HEADER + 4)
+    } else {
+        body_limit
+    };
+    let declared = req
+        .headers()
+        .get(http::header::CONTENT_LENGTH)
+        .and_then(|v| v.to_str().ok())
+        .and_then(|v| v.parse::<u64>().ok());
+    if let Some(n) = declared.filter(|n| *n > max as u64) {
+        let seen = usize::try_from(n).unwrap_or(usize::MAX);
+        return Ok(refusal(&ctx, limits::body_too_large(max, seen), form));
+    }
+    let (parts, body) = req.into_parts();
+    let read = http_body_util::Limited::new(body, max).collect();
+    let bytes = match tokio::time::timeout(limit, read).await {
+        Err(_) => return Ok(refusal(&ctx, limits::body_time(limit), form)),
+        Ok(Err(e)) => {
+            if e.downcast_ref::<http_body_util::LengthLimitError>()
+                .is_some()
+            {
+                return Ok(refusal(&ctx, limits::body_too_large(max, max + 1), form));
+            }
+            return Ok(deny(400, format!("request body could not be read: {e}")));
+        }
+        Ok(Ok(c)) => c.to_bytes(),
+    };
+    if columns_route {
+        let c = Arc::clone(&ctx);
+        let answer = compute(&ctx, false, started, move || {
+            let header = api::columns::header_text(&bytes);
+            let logged = header.map_or(CallParams::Absent, CallParams::Text);
+            run_call(&c, "POST /columns", logged, Some(id), || {
+                api::columns::columns(&c, &bytes)
+            })
+        })
+        .await;
+        return Ok(match answer {
+            Ok(body) => http::Response::builder()
+                .status(200)
+                .header(http::header::CONTENT_TYPE, api::columns::CONTENT_TYPE)
+                .body(HttpBody::from(body))
+                .unwrap_or_else(|_| http::Response::new(HttpBody::from("internal error"))),
+            Err(e) => failure(e.http_status(), &e, Form::Object),
+        });
+    }
+    if let Err(e) = check_request_text(&ctx.limits, &bytes) {
+        return Ok(refusal(&ctx, e, Form::Rpc));
+    }
+    if std::str::from_utf8(&bytes).is_err() {
+        let e = ApiError {
+            code: codes::PARSE_ERROR,
+            message: "Parse error: the request body is not valid UTF-8".to_string(),
+            data: json!({ "kind": "parse_error" }),
+        };
+        return Ok(refusal(&ctx, e, Form::Rpc));
+    }
+    let mut req = http::Request::from_parts(parts, HttpBody::from(bytes.to_vec()));
+    req.extensions_mut().insert(super::TextChecked);
+    let left = limit.saturating_sub(started.elapsed());
+    Ok(match tokio::time::timeout(left, inner.call(req)).await {
+        Ok(r) => fix_null_answer(r?).await,
+        Err(_) => refusal(&ctx, limits::answer_time(limit), Form::Rpc),
+    })
 }
 
 type BoxFuture<T> = Pin<Box<dyn Future<Output = T> + Send + 'static>>;
@@ -698,7 +579,7 @@ enum Route {
     NotFound(String),
 }
 
-fn route(path: &str, query: Option<&str>) -> Option<Route> {
+fn route(path: &str, query: Option<&str>, sites: &Sites) -> Option<Route> {
     match path {
         "/health" => Some(Route::Health),
         "/schema" => Some(Route::Schema),
@@ -728,7 +609,7 @@ fn route(path: &str, query: Option<&str>) -> Option<Route> {
                 _ => Some(Route::NotFound(format!(
                     "use GET /site/{{name}}/{{quantity}}?path=value&path=value, not {p}; sites: {}",
                     {
-                        let n = api::site::names();
+                        let n = sites.names();
                         if n.is_empty() {
                             "none registered (serve --site NAME=FILE)".to_string()
                         } else {
@@ -769,58 +650,84 @@ fn json_body(body: String) -> HttpResponse {
         .unwrap_or_else(|_| http::Response::new(HttpBody::from("internal error")))
 }
 
-async fn answer(route: Route) -> HttpResponse {
+fn cell_text(answer: Result<String, cell::CellError>) -> HttpResponse {
+    match answer {
+        Ok(number) => text(200, number),
+        Err(e) => text(e.status, e.reason),
+    }
+}
+
+/// Answers a GET route; `/cell` and `/site` run their computation through the call path.
+async fn get_answer(
+    ctx: Arc<ServerCtx>,
+    route: Route,
+    id: RequestId,
+    started: Instant,
+) -> HttpResponse {
     match route {
         Route::Health => text(200, "ok".to_string()),
         Route::Schema => json_body(api::openrpc::document_text()),
         Route::NotFound(reason) => text(404, reason),
         Route::Cell { quantity, query } => {
             let pairs = cell::pairs_from_query(&query);
-            let job = tokio::task::spawn_blocking(move || cell::cell(&quantity, &pairs));
-            match job.await {
-                Ok(Ok(number)) => text(200, number),
-                Ok(Err(e)) => text(e.status, e.reason),
-                Err(e) => text(500, format!("internal error: {e}")),
-            }
+            let params = match cell::request(&quantity, &pairs) {
+                Ok(p) => p,
+                Err(e) => return text(e.status, e.reason),
+            };
+            let Some(spec) = api::find(cell::STATE_METHOD) else {
+                return text(
+                    404,
+                    format!("method {} is not available", cell::STATE_METHOD),
+                );
+            };
+            let c = Arc::clone(&ctx);
+            let result = compute(&ctx, spec.quick, started, move || {
+                run_call(&c, spec.name, CallParams::Json(&params), Some(id), || {
+                    spec.run(&c, params.clone())
+                })
+            })
+            .await;
+            cell_text(
+                result
+                    .map_err(cell::CellError::from)
+                    .and_then(|v| cell::pick(&v, &quantity)),
+            )
         }
         Route::Site {
             name,
             quantity,
             query,
         } => {
+            let checked = ctx
+                .sites()
+                .network(&name)
+                .and_then(|_| site::check_quantity(&quantity));
             let pairs = cell::pairs_from_query(&query);
-            let job =
-                tokio::task::spawn_blocking(move || api::site::site_cell(&name, &quantity, &pairs));
-            match job.await {
-                Ok(Ok(number)) => text(200, number),
-                Ok(Err(e)) => text(e.status, e.reason),
-                Err(e) => text(500, format!("internal error: {e}")),
+            // Route-level refusals come before the call path, as for /cell: the audited query
+            // pairs are then distinct names.
+            if let Err(e) = checked.and_then(|()| site::check_pairs(&pairs)) {
+                return text(e.status, e.reason);
             }
+            let logged = Value::Object(
+                pairs
+                    .iter()
+                    .map(|(k, v)| (k.clone(), Value::String(v.clone())))
+                    .collect(),
+            );
+            let method = format!("GET /site/{name}");
+            let c = Arc::clone(&ctx);
+            let result = compute(&ctx, false, started, move || {
+                run_call(&c, &method, CallParams::Json(&logged), Some(id), || {
+                    c.sites().solved(&name, &pairs)
+                })
+            })
+            .await;
+            cell_text(
+                result
+                    .map_err(cell::CellError::from)
+                    .and_then(|v| site::pick(&v, &quantity)),
+            )
         }
-    }
-}
-
-impl<S> Service<HttpRequest> for GetRoutes<S>
-where
-    S: Service<HttpRequest, Response = HttpResponse, Error = BoxError>,
-    S::Future: Send + 'static,
-{
-    type Response = HttpResponse;
-    type Error = BoxError;
-    type Future = BoxFuture<Result<HttpResponse, BoxError>>;
-
-    fn poll_ready(&mut self, cx: &mut Context<'_>) -> Poll<Result<(), BoxError>> {
-        self.inner.poll_ready(cx)
-    }
-
-    fn call(&mut self, req: HttpRequest) -> Self::Future {
-        let is_get = req.method() == http::Method::GET || req.method() == http::Method::HEAD;
-        if is_get && !jsonrpsee::server::ws::is_upgrade_request(&req) {
-            if let Some(r) = route(req.uri().path(), req.uri().query()) {
-                return Box::pin(async move { Ok(answer(r).await) });
-            }
-        }
-        Box::pin(self.inner.call(req))
     }
 }
 
@@ -830,6 +737,8 @@ mod tests {
 
     #[test]
     fn routes() {
+        let sites = Sites::default();
+        let route = |p, q| route(p, q, &sites);
         assert_eq!(route("/health", None), Some(Route::Health));
         assert_eq!(route("/schema", Some("x=1")), Some(Route::Schema));
         assert_eq!(
@@ -855,26 +764,6 @@ mod tests {
     }
 
     #[test]
-    fn nesting_scan() {
-        assert!(!nesting_exceeds(br#"{"a":[1,[2]]}"#, 3));
-        assert!(nesting_exceeds(br#"{"a":[1,[2]]}"#, 2));
-        // Brackets inside strings (and escaped quotes) do not count.
-        assert!(!nesting_exceeds(br#"{"a":"[[[[\"[[[["}"#, 1));
-        let deep = "[".repeat(100) + &"]".repeat(100);
-        assert!(nesting_exceeds(deep.as_bytes(), 64));
-        assert!(!nesting_exceeds(deep.as_bytes(), 100));
-    }
-
-    #[test]
-    fn batch_lengths() {
-        assert_eq!(batch_len(b"{}"), None);
-        assert_eq!(batch_len(b" [ ] "), Some(0));
-        assert_eq!(batch_len(b"[1]"), Some(1));
-        assert_eq!(batch_len(br#"[{"a":[1,2,3]},{"b":"x,y"},3]"#), Some(3));
-        assert_eq!(batch_len(br#"["\",", 1]"#), Some(2));
-    }
-
-    #[test]
     fn host_names() {
         assert_eq!(host_name("LocalHost:8790"), "localhost");
         assert_eq!(host_name("[::1]:80"), "[::1]");
@@ -884,10 +773,6 @@ mod tests {
             allow_hosts: vec!["calc.plant.example".into()],
             allow_origins: vec![],
             listen: "127.0.0.1:8790".parse().unwrap(),
-            max_body_bytes: 10,
-            max_json_depth: 4,
-            max_batch_requests: 3,
-            request_timeout: Duration::from_secs(1),
         };
         assert!(cfg.host_allowed("localhost:8790"));
         assert!(cfg.host_allowed("127.0.0.1:8790"));
@@ -900,5 +785,17 @@ mod tests {
             ..cfg
         };
         assert!(!format!("{with:?}").contains("s3cret-value"));
+    }
+
+    /// A refusal answers the mapped status; a GET route the error's one-line message.
+    #[test]
+    fn failure_statuses() {
+        let e = limits::busy(1);
+        assert_eq!(failure(e.http_status(), &e, Form::Object).status(), 503);
+        let e = limits::batch_too_large(2, 3);
+        assert_eq!(failure(e.http_status(), &e, Form::Rpc).status(), 413);
+        let c = cell::CellError::from(limits::busy(1));
+        assert_eq!(c.status, 503);
+        assert!(c.reason.contains("in flight"), "{}", c.reason);
     }
 }

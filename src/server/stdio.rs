@@ -5,21 +5,32 @@
 //! is not JSON answers a parse error (-32700) and the loop goes on; blank lines are skipped;
 //! end of input ends the loop.
 //!
-//! Invariant: every call goes through the same [`RpcModule`] as the HTTP/WebSocket server, so
-//! validation and error codes are identical; lines are answered in input order.
+//! Invariant: every call goes through the same [`RpcModule`] and call path as the HTTP/WebSocket
+//! server, and a line refused as a whole (longer than `max_request_body_bytes`, nested deeper
+//! than `max_json_depth`, a batch of more than `max_batch_requests` calls) answers the same
+//! error as an HTTP body would (1008 with `data` {kind, what, limit, value}, from
+//! [`super::check_request_text`]); lines are answered in input order.
 
-use crate::api::{codes, limits};
+use super::{check_request_text, refuse};
+use crate::api::{codes, ApiError, ServerCtx};
 use jsonrpsee::server::RpcModule;
 use serde_json::{json, Value};
+use std::sync::Arc;
 use tokio::io::{AsyncBufReadExt, AsyncWrite, AsyncWriteExt, BufReader};
 
-fn error_line(id: Value, code: i64, message: &str) -> String {
-    json!({
-        "jsonrpc": "2.0",
-        "error": { "code": code, "message": message },
-        "id": id,
-    })
-    .to_string()
+/// A JSON-RPC error response line; `data` only when the error has fields (the JSON-RPC layer's
+/// own parse and invalid-request errors have none, as over HTTP).
+fn error_line(id: Value, code: i64, message: &str, data: Option<&Value>) -> String {
+    let mut error = json!({ "code": code, "message": message });
+    if let Some(d) = data {
+        error["data"] = d.clone();
+    }
+    json!({ "jsonrpc": "2.0", "error": error, "id": id }).to_string()
+}
+
+fn refusal_line(ctx: &ServerCtx, e: ApiError) -> String {
+    let e = refuse(ctx, e);
+    error_line(Value::Null, e.code, &e.message, Some(&e.data))
 }
 
 /// The id of a request-like value if it is a valid JSON-RPC id (string, number or null).
@@ -30,7 +41,7 @@ fn id_of(item: &Value) -> Value {
     }
 }
 
-async fn handle_one(module: &RpcModule<()>, item: Value) -> Option<String> {
+async fn handle_one(module: &RpcModule<ServerCtx>, item: Value) -> Option<String> {
     let is_notification = item.as_object().is_some_and(|o| !o.contains_key("id"));
     if is_notification {
         // Run it (for its effects, e.g. counters) with a stand-in id; answer nothing.
@@ -49,26 +60,34 @@ async fn handle_one(module: &RpcModule<()>, item: Value) -> Option<String> {
             id_of(&item),
             codes::INVALID_REQUEST,
             "Invalid request",
+            None,
         )),
     }
 }
 
 /// Answers one input line; `None` when nothing is to be written (blank line, notifications).
-pub async fn handle_line(module: &RpcModule<()>, line: &str) -> Option<String> {
+pub async fn handle_line(
+    ctx: &ServerCtx,
+    module: &RpcModule<ServerCtx>,
+    line: &str,
+) -> Option<String> {
     let line = line.trim();
     if line.is_empty() {
         return None;
     }
-    if line.len() > limits::current().max_request_body_bytes as usize {
-        return Some(error_line(
-            Value::Null,
-            codes::INVALID_REQUEST,
-            "Request is too big",
-        ));
+    if let Err(e) = check_request_text(&ctx.limits, line.as_bytes()) {
+        return Some(refusal_line(ctx, e));
     }
     let value: Value = match serde_json::from_str(line) {
         Ok(v) => v,
-        Err(_) => return Some(error_line(Value::Null, codes::PARSE_ERROR, "Parse error")),
+        Err(_) => {
+            return Some(error_line(
+                Value::Null,
+                codes::PARSE_ERROR,
+                "Parse error",
+                None,
+            ))
+        }
     };
     match value {
         Value::Array(items) => {
@@ -77,17 +96,7 @@ pub async fn handle_line(module: &RpcModule<()>, line: &str) -> Option<String> {
                     Value::Null,
                     codes::INVALID_REQUEST,
                     "Invalid request",
-                ));
-            }
-            if items.len() > limits::current().max_batch_requests as usize {
-                return Some(error_line(
-                    Value::Null,
-                    codes::INVALID_REQUEST,
-                    &format!(
-                        "The batch request was too large: {} calls, limit {}",
-                        items.len(),
-                        limits::current().max_batch_requests
-                    ),
+                    None,
                 ));
             }
             let mut out = Vec::new();
@@ -107,14 +116,19 @@ pub async fn handle_line(module: &RpcModule<()>, line: &str) -> Option<String> {
 }
 
 /// Runs the stdio loop on `input` and `output` until end of input.
-pub async fn run<R, W>(module: &RpcModule<()>, input: R, mut output: W) -> std::io::Result<()>
+pub async fn run<R, W>(
+    ctx: &ServerCtx,
+    module: &RpcModule<ServerCtx>,
+    input: R,
+    mut output: W,
+) -> std::io::Result<()>
 where
     R: tokio::io::AsyncRead + Unpin,
     W: AsyncWrite + Unpin,
 {
     let mut lines = BufReader::new(input).lines();
     while let Some(line) = lines.next_line().await? {
-        if let Some(answer) = handle_line(module, &line).await {
+        if let Some(answer) = handle_line(ctx, module, &line).await {
             output.write_all(answer.as_bytes()).await?;
             output.write_all(b"\n").await?;
             output.flush().await?;
@@ -123,9 +137,9 @@ where
     Ok(())
 }
 
-/// `steamcell stdio`: the loop on the process's stdin and stdout.
+/// `steamcell stdio`: the loop on the process's stdin and stdout, with the default limits.
 pub async fn serve_stdio() -> std::io::Result<()> {
-    crate::api::mark_started();
-    let module = super::rpc_module();
-    run(&module, tokio::io::stdin(), tokio::io::stdout()).await
+    let ctx = Arc::new(ServerCtx::default());
+    let module = super::rpc_module(Arc::clone(&ctx));
+    run(&ctx, &module, tokio::io::stdin(), tokio::io::stdout()).await
 }

@@ -194,11 +194,27 @@ fn registry_names_are_unique_and_documented() {
     assert_eq!(e.code, codes::METHOD_NOT_FOUND);
 }
 
+/// Calls are counted by the server that runs them (its context), through its call path: one
+/// success and one failure here, none in another server or by an in-process call.
 #[test]
-fn requests_are_counted() {
-    let before = api::requests_served();
+fn requests_are_counted_by_their_server() {
+    let rt = tokio::runtime::Builder::new_current_thread()
+        .enable_all()
+        .build()
+        .unwrap();
+    let ctx = std::sync::Arc::new(api::ServerCtx::default());
+    let other = std::sync::Arc::new(api::ServerCtx::default());
+    let module = steamcell::server::rpc_module(ctx.clone());
+    let _other_module = steamcell::server::rpc_module(other.clone());
+    for req in [
+        r#"{"jsonrpc":"2.0","id":1,"method":"server.info"}"#,
+        r#"{"jsonrpc":"2.0","id":2,"method":"water.state","params":{}}"#,
+    ] {
+        rt.block_on(module.raw_json_request(req, 1)).unwrap();
+    }
     api::call("server.info", json!({})).unwrap();
-    assert!(api::requests_served() > before);
+    assert_eq!((ctx.requests_served(), ctx.requests_failed()), (2, 1));
+    assert_eq!(other.requests_served(), 0);
 }
 
 #[test]
@@ -226,8 +242,16 @@ fn cell_params_put_reserved_names_on_top_and_numbers_as_numbers() {
     assert_eq!(cell::pairs_from_args(&["p"]).unwrap_err().status, 400);
 }
 
+/// The one mapping from an API error to an HTTP status (GET routes, /columns, refusals of a
+/// whole HTTP request): bad input 400, no answer for the state 422, unknown method 404, a size
+/// limit 413 (rows, body, batch, nesting), a busy server or a late answer 503, a late body 408.
 #[test]
 fn http_status_follows_the_error_kind() {
+    let of = |code: i64| ApiError {
+        code,
+        message: String::new(),
+        data: json!({}),
+    };
     for (code, status) in [
         (1001, 422),
         (1002, 400),
@@ -236,14 +260,32 @@ fn http_status_follows_the_error_kind() {
         (1005, 400),
         (1006, 400),
         (1007, 422),
-        (1008, 400),
+        (1008, 413),
         (1009, 422),
+        (-32700, 400),
+        (-32600, 400),
         (-32602, 400),
         (-32601, 404),
         (-32603, 500),
     ] {
-        assert_eq!(cell::http_status(code), status, "code {code}");
+        assert_eq!(of(code).http_status(), status, "code {code}");
     }
+    let rows = ApiError::from(Error::LimitExceeded {
+        what: "rows in one water.batch call".into(),
+        limit: 10.0,
+        value: 11.0,
+    });
+    assert_eq!(rows.http_status(), 413);
+    assert_eq!(api::limits::busy(4).http_status(), 503);
+    let limit = std::time::Duration::from_secs(2);
+    assert_eq!(api::limits::answer_time(limit).http_status(), 503);
+    assert_eq!(api::limits::body_time(limit).http_status(), 408);
+    assert_eq!(api::limits::body_too_large(10, 11).http_status(), 413);
+    assert_eq!(api::limits::too_deep(4, 5).http_status(), 413);
+    assert_eq!(api::limits::batch_too_large(4, 5).http_status(), 413);
+    // A GET route's failure carries the mapped status and the message as one line.
+    let e = cell::CellError::from(api::limits::busy(4));
+    assert_eq!((e.status, e.reason.contains("in flight")), (503, true));
 }
 
 #[test]
@@ -263,7 +305,7 @@ fn rpc(request: &str) -> Value {
         .enable_all()
         .build()
         .unwrap();
-    let module = steamcell::server::rpc_module();
+    let module = steamcell::server::rpc_module(Default::default());
     let (resp, _rx) = rt
         .block_on(module.raw_json_request(request, 1))
         .expect("valid request");
@@ -348,5 +390,41 @@ fn sample_method_responses() {
         let v = rpc(req);
         assert!(v.get("result").is_some(), "{name}: {v}");
         insta::assert_json_snapshot!(name, v);
+    }
+}
+
+/// Only `src/api` and `src/server` read or write JSON: no serde, serde_json, `json!` or
+/// schemars in `src/main.rs`, `src/lib.rs` or the physics crate (DEVELOPERS.md invariant).
+#[test]
+fn json_lives_only_in_api_and_server() {
+    fn rust_files(dir: &std::path::Path, out: &mut Vec<std::path::PathBuf>) {
+        for entry in std::fs::read_dir(dir).unwrap() {
+            let path = entry.unwrap().path();
+            if path.is_dir() {
+                rust_files(&path, out);
+            } else if path.extension().is_some_and(|e| e == "rs") {
+                out.push(path);
+            }
+        }
+    }
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
+    let mut files = Vec::new();
+    rust_files(&root.join("src"), &mut files);
+    rust_files(&root.join("crates/steamcell-core/src"), &mut files);
+    let allowed = [root.join("src/api"), root.join("src/server")];
+    let checked: Vec<_> = files
+        .iter()
+        .filter(|f| !allowed.iter().any(|a| f.starts_with(a)))
+        .collect();
+    assert!(checked.iter().any(|f| f.ends_with("src/main.rs")));
+    for f in checked {
+        let text = std::fs::read_to_string(f).unwrap();
+        for pattern in ["serde_json", "use serde", "serde::", "json!(", "schemars"] {
+            assert!(
+                !text.contains(pattern),
+                "{} uses {pattern}: JSON belongs in src/api or src/server",
+                f.display()
+            );
+        }
     }
 }

@@ -4,13 +4,14 @@
 //! ice inputs refused with a message naming the melting curve (IAPWS R14-08(2011)).
 
 use serde_json::Value;
+use steamcell::api::validation::printed_tolerance;
 
 fn rpc(method: &str, params: &str) -> Value {
     let rt = tokio::runtime::Builder::new_current_thread()
         .enable_all()
         .build()
         .unwrap();
-    let module = steamcell::server::rpc_module();
+    let module = steamcell::server::rpc_module(Default::default());
     let req = format!(r#"{{"jsonrpc":"2.0","id":1,"method":"{method}","params":{params}}}"#);
     let (resp, _rx) = rt
         .block_on(module.raw_json_request(&req, 1))
@@ -22,8 +23,7 @@ fn rpc(method: &str, params: &str) -> Value {
 /// digits, whichever is looser.
 fn check(what: &str, got: &Value, want: f64, digits: i32) {
     let got = got.as_f64().unwrap_or_else(|| panic!("{what}: {got}"));
-    let half = 0.5 * 10f64.powi(want.abs().log10().floor() as i32 - digits + 1);
-    let tol = (1e-9 * want.abs()).max(half);
+    let tol = printed_tolerance(want, digits as u32);
     assert!((got - want).abs() <= tol, "{what}: {got} vs {want}");
 }
 

@@ -10,6 +10,7 @@
 //! printed value and half a unit of its last printed digit (`digits` significant digits).
 
 use serde_json::Value;
+use steamcell::api::validation::printed_tolerance;
 use steamcell::error::{Bound, Error};
 use steamcell::water::if97::regions::{region_pt, Region};
 use steamcell::water::if97::{b23, region1, region2, region3, region4, region5};
@@ -19,15 +20,6 @@ const DATA: &str = include_str!("../data/if97.json");
 
 fn data() -> Value {
     serde_json::from_str(DATA).expect("tests/data/if97.json parses")
-}
-
-/// Allowed deviation for a printed value `x` with `digits` significant digits.
-fn printed_tol(x: f64, digits: i32) -> f64 {
-    if x == 0.0 {
-        return 0.0; // a printed 0 is exact
-    }
-    let last = 10f64.powi(x.abs().log10().floor() as i32 - digits + 1);
-    (1e-9 * x.abs()).max(0.5 * last)
 }
 
 fn num(v: &Value, key: &str, id: &str) -> f64 {
@@ -70,7 +62,7 @@ fn check(case: &Value, key: &str, got: f64, failures: &mut Vec<String>) {
     let id = case["id"].as_str().unwrap_or("?");
     let table = case["table"].as_str().unwrap_or("?");
     let want = num(&case["expected"], key, id);
-    let tol = printed_tol(want, digits_of(case, key, id));
+    let tol = printed_tolerance(want, digits_of(case, key, id) as u32);
     let dev = (got - want).abs();
     if dev.is_nan() || dev > tol {
         failures.push(format!(
@@ -182,10 +174,10 @@ fn every_forward_check_value_of_r7_97() {
 #[test]
 fn printed_tolerance_is_tight() {
     // 0.00100215168 printed with 9 digits: last digit 1e-11.
-    assert!((printed_tol(0.00100215168, 9) - 5e-12).abs() < 1e-24);
+    assert!((printed_tolerance(0.00100215168, 9) - 5e-12).abs() < 1e-24);
     // 2549.91145: half a unit of the 9th digit (5e-6) is looser than 1e-9 relative (2.5e-6).
-    assert!((printed_tol(2549.91145, 9) - 5e-6).abs() < 1e-15);
-    assert_eq!(printed_tol(0.0, 9), 0.0);
+    assert!((printed_tolerance(2549.91145, 9) - 5e-6).abs() < 1e-15);
+    assert_eq!(printed_tolerance(0.0, 9), 0.0);
     let case: Value = serde_json::json!({
         "id": "x", "table": "Table 5", "expected": {"h": 115.331273}, "digits": 9
     });

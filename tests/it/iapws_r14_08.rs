@@ -2,6 +2,7 @@
 //! the release, quoted from memory, see below), the curves' reference points, monotonicity, the
 //! triple-point continuity between curves, the range errors and `check_not_ice`.
 
+use steamcell::api::validation::printed_tolerance;
 use steamcell::water::melting::*;
 use steamcell::{error::Bound, Error};
 
@@ -9,8 +10,7 @@ type Curve = fn(f64) -> steamcell::Result<f64>;
 
 /// Relative 1e-9 or half a unit of the last printed digit, whichever is looser (project rule).
 fn check(id: &str, got: f64, want: f64, digits: i32) {
-    let last = 10f64.powi(want.abs().log10().floor() as i32 - digits + 1);
-    let tol = (1e-9 * want.abs()).max(0.5 * last);
+    let tol = printed_tolerance(want, digits as u32);
     assert!(
         (got - want).abs() <= tol,
         "{id}: got {got:.12e}, want {want:.12e}"

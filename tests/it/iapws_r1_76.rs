@@ -2,6 +2,7 @@
 //! constants of Eq. (1) and the table of values (mN/m, two decimals), plus the range limits.
 
 use serde_json::Value;
+use steamcell::api::validation::printed_tolerance;
 use steamcell::water::tables::surface_tension as tab;
 use steamcell::water::transport::surface_tension;
 use steamcell::Error;
@@ -16,8 +17,7 @@ fn cases(file: &str) -> Vec<Value> {
 /// Tolerance "to all printed digits": relative 1e-9 of the printed value or half a unit of the
 /// last printed digit, whichever is looser (project rule).
 fn check(id: &str, got: f64, want: f64, digits: i32) {
-    let last = 10f64.powi(want.abs().log10().floor() as i32 - digits + 1);
-    let tol = (1e-9 * want.abs()).max(0.5 * last);
+    let tol = printed_tolerance(want, digits as u32);
     assert!(
         (got - want).abs() <= tol,
         "{id}: got {got:.12e}, want {want:.12e} (tol {tol:e})"

@@ -4,6 +4,7 @@
 //! differences, rho(p, T) and saturation round trips, and the solvers' range errors.
 
 use serde_json::Value;
+use steamcell::api::validation::printed_tolerance;
 use steamcell::water::iapws95::{
     self, saturation_p, saturation_t, P_SAT_MAX, P_TRIPLE_95, T_SAT_MAX,
 };
@@ -27,8 +28,7 @@ fn check(id: &str, name: &str, got: f64, want: f64, digits: i32) {
         assert!(got.abs() < 1e-15, "{id} {name}: got {got}, want exactly 0");
         return;
     }
-    let last = 10f64.powi(want.abs().log10().floor() as i32 - digits + 1);
-    let tol = (1e-9 * want.abs()).max(0.5 * last);
+    let tol = printed_tolerance(want, digits as u32);
     assert!(
         (got - want).abs() <= tol,
         "{id} {name}: got {got:.12e}, want {want:.12e} (tol {tol:e})"

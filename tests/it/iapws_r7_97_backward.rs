@@ -4,6 +4,7 @@
 //! digits: relative 1e-9 or half a unit of the last printed digit, whichever is looser.
 
 use serde_json::Value;
+use steamcell::api::validation::printed_tolerance;
 use steamcell::water::if97::backward::{region1, region2};
 
 fn cases() -> Vec<Value> {
@@ -20,16 +21,10 @@ fn num(c: &Value, part: &str, key: &str) -> f64 {
         .unwrap_or_else(|| panic!("{}: {part}.{key}", c["id"]))
 }
 
-/// Printed-digit tolerance: max(1e-9 |x|, half a unit of the last of `digits` significant digits).
-fn tolerance(x: f64, digits: i32) -> f64 {
-    let half_unit = 0.5 * 10f64.powi(x.abs().log10().floor() as i32 - digits + 1);
-    half_unit.max(1e-9 * x.abs())
-}
-
 fn check(c: &Value, key: &str, got: f64) {
     let want = num(c, "expected", key);
     let digits = c["digits"].as_i64().expect("digits") as i32;
-    let tol = tolerance(want, digits);
+    let tol = printed_tolerance(want, digits as u32);
     assert!(
         (got - want).abs() <= tol,
         "{} ({}, IAPWS R7-97(2012)): {key} = {got:.12e}, printed {want:.12e}, tolerance {tol:.1e}",

@@ -40,3 +40,4 @@ mod state_pairs;
 mod sweep_units;
 mod textbook_cogeneration;
 mod textbook_rankine;
+mod transports;

@@ -177,7 +177,8 @@ fn columns_route_codec_matches_batch() {
     let (p, t) = rows(3000);
     let header = json!({"given": ["p", "T"], "rows": p.len(), "want": ["h", "s", "v"]});
     let body = frame(&header, &[p.clone(), t.clone()]);
-    let answer = columns(&body).unwrap();
+    let ctx = steamcell::api::ServerCtx::default();
+    let answer = columns(&ctx, &body).unwrap();
     let (head, data) = split_frame(&answer).unwrap();
     assert_eq!(head["rows"], 3000);
     assert_eq!(head["failed"], 2);
@@ -199,9 +200,9 @@ fn columns_route_codec_matches_batch() {
         );
     }
     // Framing errors are clear.
-    let e = columns(&body[..body.len() - 3]).unwrap_err();
+    let e = columns(&ctx, &body[..body.len() - 3]).unwrap_err();
     assert!(e.message.contains("data bytes"), "{}", e.message);
-    let e = columns(&[1, 0]).unwrap_err();
+    let e = columns(&ctx, &[1, 0]).unwrap_err();
     assert!(e.message.contains("4-byte header"), "{}", e.message);
 }
 

@@ -4,6 +4,7 @@
 //! Check values: IAPWS R6-95(2018) Table 7 (tests/data/iapws95.json) through `at_pt`.
 
 use proptest::prelude::*;
+use steamcell::api::validation::printed_tolerance;
 use steamcell::water::iapws95;
 use steamcell::water::state::{Given, Options, Phase, State};
 use steamcell::water::state95;
@@ -170,9 +171,8 @@ fn table7_through_the_solver() {
         let Some(p) = exp["p"].as_f64() else { continue };
         let st = state95::solve(Given::TV(t, 1.0 / rho), &O).unwrap();
         // The printed p has `digits` significant digits: half a unit of the last one.
-        let digits = c["digits"].as_i64().unwrap_or(9) as i32;
-        let half = |v: f64| 0.5 * 10f64.powi(v.abs().log10().floor() as i32 - digits + 1);
-        let tol = |v: f64| (1e-9 * v.abs()).max(half(v));
+        let digits = c["digits"].as_u64().unwrap_or(9) as u32;
+        let tol = |v: f64| printed_tolerance(v, digits);
         assert!(
             (st.props.p - p).abs() <= tol(p),
             "{}: p {} vs {p}",

@@ -1,5 +1,6 @@
-//! Helpers shared by the black-box server tests (security, bad_input, load): start the real
-//! `steamcell serve` binary with flags, and speak minimal HTTP/1.1 over std `TcpStream`.
+//! Helpers shared by the black-box server tests (security, bad_input, load, transports): start
+//! the real `steamcell serve` binary with flags, and speak minimal HTTP/1.1 and WebSocket over
+//! std `TcpStream`; start `steamcell stdio` and speak lines.
 #![allow(dead_code)]
 
 use std::io::{BufRead, BufReader, Write};
@@ -185,9 +186,137 @@ pub fn assert_check(v: &serde_json::Value) {
     );
 }
 
-/// Asserts a refusal by the in-flight limit: error 1008 whose message names the calls in flight.
+/// Asserts a refusal by the in-flight limit: error 1008 whose message names the calls in flight
+/// and whose `data` names the limit. `v` is a JSON-RPC response (HTTP, WebSocket, stdio) or the
+/// bare error object of a plain route (`POST /columns`).
 pub fn assert_in_flight_refusal(v: &serde_json::Value) {
-    assert_eq!(v["error"]["code"], 1008, "{v}");
-    let msg = v["error"]["message"].as_str().unwrap_or_default();
+    let e = v.get("error").unwrap_or(v);
+    assert_eq!(e["code"], 1008, "{v}");
+    let msg = e["message"].as_str().unwrap_or_default();
     assert!(msg.contains("in flight"), "{v}");
+    assert_eq!(e["data"]["kind"], "limit_exceeded", "{v}");
+    assert_eq!(e["data"]["what"], "method calls in flight", "{v}");
+    assert!(
+        e["data"]["limit"].is_number() && e["data"]["value"].is_number(),
+        "{v}"
+    );
+}
+
+/// Asserts a GET route's refusal by the in-flight limit: 503 with the one-line message of
+/// [`assert_in_flight_refusal`]'s error.
+pub fn assert_in_flight_refusal_text(r: &Response) {
+    assert_eq!(r.status, 503, "{}", r.text());
+    assert!(r.text().contains("in flight"), "{}", r.text());
+    assert!(!r.text().trim_end().contains('\n'), "{}", r.text());
+}
+
+/// A minimal WebSocket client (RFC 6455) for the raw JSON-RPC text of one connection.
+pub struct Ws {
+    s: TcpStream,
+    r: BufReader<TcpStream>,
+}
+
+impl Ws {
+    /// Opens `ws://addr/` with the upgrade handshake.
+    pub fn connect(addr: &str) -> Ws {
+        let mut s = TcpStream::connect(addr).unwrap();
+        s.set_read_timeout(Some(Duration::from_secs(60))).unwrap();
+        write!(
+            s,
+            "GET / HTTP/1.1\r\nHost: {addr}\r\nUpgrade: websocket\r\nConnection: Upgrade\r\n\
+             Sec-WebSocket-Key: dGhlIHNhbXBsZSBub25jZQ==\r\nSec-WebSocket-Version: 13\r\n\r\n"
+        )
+        .unwrap();
+        let mut r = BufReader::new(s.try_clone().unwrap());
+        let mut status = String::new();
+        r.read_line(&mut status).unwrap();
+        assert!(status.contains(" 101 "), "{status}");
+        loop {
+            let mut l = String::new();
+            r.read_line(&mut l).unwrap();
+            if l.trim_end().is_empty() {
+                break;
+            }
+        }
+        Ws { s, r }
+    }
+
+    /// Sends one text message (masked, as a client must) and returns the next text message.
+    pub fn call(&mut self, text: &str) -> String {
+        let payload = text.as_bytes();
+        let mask = [0x5a, 0x17, 0xc3, 0x08];
+        let mut frame = vec![0x81u8];
+        match payload.len() {
+            n if n < 126 => frame.push(0x80 | n as u8),
+            n if n <= 0xffff => {
+                frame.push(0x80 | 126);
+                frame.extend_from_slice(&(n as u16).to_be_bytes());
+            }
+            n => {
+                frame.push(0x80 | 127);
+                frame.extend_from_slice(&(n as u64).to_be_bytes());
+            }
+        }
+        frame.extend_from_slice(&mask);
+        frame.extend(payload.iter().enumerate().map(|(i, b)| b ^ mask[i % 4]));
+        self.s.write_all(&frame).unwrap();
+        loop {
+            let mut head = [0u8; 2];
+            std::io::Read::read_exact(&mut self.r, &mut head).unwrap();
+            let mut len = u64::from(head[1] & 0x7f);
+            if len == 126 {
+                let mut b = [0u8; 2];
+                std::io::Read::read_exact(&mut self.r, &mut b).unwrap();
+                len = u64::from(u16::from_be_bytes(b));
+            } else if len == 127 {
+                let mut b = [0u8; 8];
+                std::io::Read::read_exact(&mut self.r, &mut b).unwrap();
+                len = u64::from_be_bytes(b);
+            }
+            let mut body = vec![0u8; len as usize];
+            std::io::Read::read_exact(&mut self.r, &mut body).unwrap();
+            if head[0] & 0x0f == 1 {
+                return String::from_utf8(body).unwrap();
+            }
+        }
+    }
+}
+
+/// A running `steamcell stdio`, killed when dropped.
+pub struct StdioProc {
+    child: Child,
+    stdin: std::process::ChildStdin,
+    out: BufReader<std::process::ChildStdout>,
+}
+
+impl StdioProc {
+    /// Starts `steamcell stdio`.
+    pub fn start() -> StdioProc {
+        let mut child = Command::new(BIN)
+            .arg("stdio")
+            .stdin(Stdio::piped())
+            .stdout(Stdio::piped())
+            .stderr(Stdio::null())
+            .spawn()
+            .unwrap();
+        let stdin = child.stdin.take().unwrap();
+        let out = BufReader::new(child.stdout.take().unwrap());
+        StdioProc { child, stdin, out }
+    }
+
+    /// Writes one line and reads the answer line.
+    pub fn call(&mut self, line: &str) -> String {
+        writeln!(self.stdin, "{line}").unwrap();
+        self.stdin.flush().unwrap();
+        let mut answer = String::new();
+        self.out.read_line(&mut answer).unwrap();
+        answer
+    }
+}
+
+impl Drop for StdioProc {
+    fn drop(&mut self) {
+        let _ = self.child.kill();
+        let _ = self.child.wait();
+    }
 }

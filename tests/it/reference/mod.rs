@@ -1,9 +1,11 @@
 //! Shared reading of the IAPWS check values in tests/data/ for the per-release test files:
-//! case selection, the printed-digit tolerance and one assertion that names the case, release
-//! and table.
+//! case selection and one assertion that names the case, release
+//! and table, with the project's one printed-digit tolerance
+//! (`steamcell::api::validation::printed_tolerance`).
 #![allow(dead_code)]
 
 use serde_json::Value;
+use steamcell::api::validation::printed_tolerance;
 
 /// The cases of `tests/data/if97-supplementary.json` filed under `release`.
 pub fn supplementary_cases(release: &str) -> Vec<Value> {
@@ -29,17 +31,11 @@ pub fn num(c: &Value, part: &str, key: &str) -> f64 {
         .unwrap_or_else(|| panic!("{}: {part}.{key}", c["id"]))
 }
 
-/// Printed-digit tolerance: max(1e-9 |x|, half a unit of the last of `digits` significant digits).
-pub fn tolerance(x: f64, digits: i32) -> f64 {
-    let half_unit = 0.5 * 10f64.powi(x.abs().log10().floor() as i32 - digits + 1);
-    half_unit.max(1e-9 * x.abs())
-}
-
 /// Asserts that `got` matches the case's printed `key` to its printed digits.
 pub fn check(release: &str, c: &Value, key: &str, got: f64) {
     let want = num(c, "expected", key);
     let digits = c["digits"].as_i64().expect("digits") as i32;
-    let tol = tolerance(want, digits);
+    let tol = printed_tolerance(want, digits as u32);
     assert!(
         (got - want).abs() <= tol,
         "{} (IAPWS {release}, {}): {key} = {got:.12e}, printed {want:.12e}, tolerance {tol:.1e}",

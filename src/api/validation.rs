@@ -5,6 +5,10 @@
 //! `server.selftest` returns every case; `server.info` returns the digest, so a team can confirm
 //! in one call that everybody runs the same validated build.
 //!
+//! It lives in the API layer because the cases are JSON (the check-value files of
+//! `tests/data/`); [`printed_tolerance`] is the project's one rule for matching a printed value
+//! "to all printed digits", used here and by every reference test.
+//!
 //! Invariant: the digest depends only on the computed numbers (bit patterns), the case ids and
 //! the expected values; a change in any equation changes it.
 
@@ -12,8 +16,8 @@ use crate::water::if97::{b23, backward, region1, region2, region3, region4, regi
 use serde_json::Value;
 use std::sync::OnceLock;
 
-const IF97_JSON: &str = include_str!("../tests/data/if97.json");
-const SUPPLEMENTARY_JSON: &str = include_str!("../tests/data/if97-supplementary.json");
+const IF97_JSON: &str = include_str!("../../tests/data/if97.json");
+const SUPPLEMENTARY_JSON: &str = include_str!("../../tests/data/if97-supplementary.json");
 
 /// One evaluated verification value.
 #[derive(Debug, Clone, PartialEq)]
@@ -46,14 +50,15 @@ fn num(v: &Value) -> f64 {
     v.as_f64().unwrap_or(f64::NAN)
 }
 
-/// Relative tolerance for a printed value with `digits` significant digits.
-pub fn printed_tolerance(expected: f64, digits: u32) -> f64 {
-    if expected == 0.0 {
-        return 1e-12;
+/// The tolerance for matching a value printed with `digits` significant digits "to all printed
+/// digits": the larger of 1e-9 |printed| and half a unit in the last printed digit, as an
+/// absolute difference in the printed value's unit. A printed 0 must be matched exactly.
+pub fn printed_tolerance(printed: f64, digits: u32) -> f64 {
+    if printed == 0.0 {
+        return 0.0;
     }
-    let mag = expected.abs().log10().floor();
-    let half_unit = 0.5 * 10f64.powf(mag - (digits as f64 - 1.0));
-    (half_unit / expected.abs()).max(1e-9)
+    let last = printed.abs().log10().floor() as i32 - digits as i32 + 1;
+    (0.5 * 10f64.powi(last)).max(1e-9 * printed.abs())
 }
 
 /// Evaluates one case's quantity with this build's equations, or None when the case is not
@@ -169,11 +174,14 @@ fn run_file(json: &str, release: &str, out: &mut Vec<CaseResult>) {
                 .as_u64()
                 .map(|x| x as u32)
                 .unwrap_or(digits);
-            let tol = printed_tolerance(want, d);
-            let dev = if want == 0.0 {
-                got - want
+            // Relative, like the deviation (absolute where the printed value is 0).
+            let (dev, tol) = if want == 0.0 {
+                (got - want, printed_tolerance(want, d))
             } else {
-                (got - want) / want.abs()
+                (
+                    (got - want) / want.abs(),
+                    printed_tolerance(want, d) / want.abs(),
+                )
             };
             out.push(CaseResult {
                 id: format!("{id}:{q}"),
