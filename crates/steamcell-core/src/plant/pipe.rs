@@ -509,6 +509,58 @@ pub fn check_spec(spec: &LineSpec) -> Result<()> {
     Ok(())
 }
 
+struct Seg<'a> {
+    g: f64,
+    flow: f64,
+    fric_scale: f64,
+    spec: &'a LineSpec,
+}
+
+impl Seg<'_> {
+    /// One segment of length `dx` (rise `dz`, fittings `k`) from `cur` (solved from enthalpy
+    /// `h1`): the end state and [friction, fittings, elevation, acceleration (Pa), heat (kW), the
+    /// end's enthalpy]. An error means the march cannot go this far (pressure used up, sonic,
+    /// out of the formulation's range).
+    fn step(&self, cur: &Local, h1: f64, dx: f64, dz: f64, k: f64) -> Result<(Local, [f64; 6])> {
+        let (g, d) = (self.g, self.spec.wall.inner_diameter);
+        let p1 = cur.st.props.p;
+        let rho1 = cur.st.props.rho;
+        let mut nxt = local(cur.st, g, self.spec)?;
+        for _ in 0..200 {
+            let rho2 = nxt.st.props.rho;
+            let q_seg = dx * 0.5 * (cur.heat.q + nxt.heat.q);
+            let h2 = h1 + (cur.v * cur.v - nxt.v * nxt.v) / 2000.0
+                - G0 * dz / 1000.0
+                - q_seg / self.flow;
+            let f_part = dx
+                * self.fric_scale
+                * 0.5
+                * (cur.f * g * g / (2.0 * d * rho1) + nxt.f * g * g / (2.0 * d * rho2));
+            let k_part = k * 0.5 * (g * g / (2.0 * rho1) + g * g / (2.0 * rho2));
+            let e_part = G0 * dz * 0.5 * (rho1 + rho2);
+            let a_part = g * g * (1.0 / rho2 - 1.0 / rho1);
+            let p2 = p1 - (f_part + k_part + e_part + a_part) / 1e6;
+            if !(p2 > state::P_MIN) {
+                return Err(Error::infeasible("the pressure falls to zero"));
+            }
+            let st2 = ph(p2, h2)?;
+            let done = (st2.props.p - nxt.st.props.p).abs() <= 1e-13 * p2
+                && (st2.props.h - nxt.st.props.h).abs() <= 1e-13 * h2.abs().max(1.0);
+            nxt = local(st2, g, self.spec)?;
+            if done {
+                if nxt.st.phase != Phase::Wet && nxt.v >= nxt.st.props.w {
+                    return Err(Error::infeasible("the velocity reaches the speed of sound"));
+                }
+                return Ok((nxt, [f_part, k_part, e_part, a_part, q_seg, h2]));
+            }
+        }
+        Err(Error::not_converged(
+            "the segment's momentum and energy balance",
+            200,
+        ))
+    }
+}
+
 /// Marches the flow `flow` (kg/s) from `inlet` along the line.
 pub fn line_flow(inlet: &State, flow: f64, spec: &LineSpec) -> Result<LineResult> {
     check_spec(spec)?;
@@ -548,68 +600,44 @@ pub fn line_flow(inlet: &State, flow: f64, spec: &LineSpec) -> Result<LineResult
     // The enthalpy each state was solved from: carried exactly so that the (p, h) solver's own
     // tolerance does not add up along the line.
     let mut h1 = inlet.props.h;
+    let seg = Seg {
+        g,
+        flow,
+        fric_scale,
+        spec,
+    };
     for i in 0..n {
+        let x_start = dx * i as f64;
         let x_end = dx * (i + 1) as f64;
-        let p1 = cur.st.props.p;
-        let rho1 = cur.st.props.rho;
-        let mut nxt = local(cur.st, g, spec)?;
-        let mut parts = (0.0, 0.0, 0.0, 0.0, 0.0, h1);
-        let mut converged = false;
-        for _ in 0..200 {
-            let rho2 = nxt.st.props.rho;
-            let q_seg = dx * 0.5 * (cur.heat.q + nxt.heat.q);
-            let h2 =
-                h1 + (cur.v * cur.v - nxt.v * nxt.v) / 2000.0 - G0 * dz / 1000.0 - q_seg / flow;
-            let f_part = dx
-                * fric_scale
-                * 0.5
-                * (cur.f * g * g / (2.0 * d * rho1) + nxt.f * g * g / (2.0 * d * rho2));
-            let k_part = k_per_seg * 0.5 * (g * g / (2.0 * rho1) + g * g / (2.0 * rho2));
-            let e_part = G0 * dz * 0.5 * (rho1 + rho2);
-            let a_part = g * g * (1.0 / rho2 - 1.0 / rho1);
-            let p2 = p1 - (f_part + k_part + e_part + a_part) / 1e6;
-            if !(p2 > state::P_MIN) {
+        let (nxt, parts) = match seg.step(&cur, h1, dx, dz, k_per_seg) {
+            Ok(ok) => ok,
+            Err(cause) => {
+                // Find how far into this segment the march still goes, for the message.
+                let (mut lo, mut hi) = (0.0, 1.0);
+                for _ in 0..30 {
+                    let th = 0.5 * (lo + hi);
+                    if seg.step(&cur, h1, th * dx, th * dz, th * k_per_seg).is_ok() {
+                        lo = th;
+                    } else {
+                        hi = th;
+                    }
+                }
                 return Err(Error::out_of_range(
                     "length",
                     spec.length,
-                    x_end - dx,
+                    x_start + lo * dx,
                     "m",
                     Bound::Above,
-                    "this line at this flow: the pressure falls to zero within the segment that starts there (friction, fittings and elevation use up the inlet pressure)",
+                    &format!("this line at this flow: the flow chokes or its pressure is used up at that distance from the inlet ({cause})"),
                 ));
             }
-            let st2 = ph(p2, h2).map_err(|e| {
-                Error::infeasible(format!(
-                    "the line's state leaves the formulation's range after {:.6} m of {} m: {e}",
-                    x_end - dx,
-                    spec.length
-                ))
-            })?;
-            let done = (st2.props.p - nxt.st.props.p).abs() <= 1e-13 * p2
-                && (st2.props.h - nxt.st.props.h).abs() <= 1e-13 * h2.abs().max(1.0);
-            nxt = local(st2, g, spec)?;
-            parts = (f_part, k_part, e_part, a_part, q_seg, h2);
-            if done {
-                converged = true;
-                break;
-            }
-        }
-        if !converged || nxt.st.phase != Phase::Wet && nxt.v >= nxt.st.props.w {
-            return Err(Error::out_of_range(
-                "length",
-                spec.length,
-                x_end - dx,
-                "m",
-                Bound::Above,
-                "this line at this flow: the flow approaches the speed of sound (choked) in the segment that starts there",
-            ));
-        }
-        dpf += parts.0;
-        dpk += parts.1;
-        dpe += parts.2;
-        dpa += parts.3;
-        heat += parts.4;
-        h1 = parts.5;
+        };
+        dpf += parts[0];
+        dpk += parts[1];
+        dpe += parts[2];
+        dpa += parts[3];
+        heat += parts[4];
+        h1 = parts[5];
         transitional |= nxt.re > cor::RE_LAMINAR && nxt.re < cor::RE_TURBULENT;
         points.push(Point {
             x: x_end,
