@@ -386,18 +386,16 @@ pub fn check_spec(spec: &LineSpec) -> Result<()> {
             "a pipe (the roughness cannot exceed the inner radius)",
         ));
     }
-    for (name, k) in [("wall_conductivity", w.conductivity)] {
-        Error::check_finite(name, k)?;
-        if k <= 0.0 {
-            return Err(Error::out_of_range(
-                name,
-                k,
-                0.0,
-                "W/(m K)",
-                Bound::Below,
-                "a conductivity (it must be positive)",
-            ));
-        }
+    Error::check_finite("wall_conductivity", w.conductivity)?;
+    if w.conductivity <= 0.0 {
+        return Err(Error::out_of_range(
+            "wall_conductivity",
+            w.conductivity,
+            0.0,
+            "W/(m K)",
+            Bound::Below,
+            "a conductivity (it must be positive)",
+        ));
     }
     for (i, l) in w.layers.iter().enumerate() {
         check_positive(
@@ -540,7 +538,7 @@ impl Seg<'_> {
             let e_part = G0 * dz * 0.5 * (rho1 + rho2);
             let a_part = g * g * (1.0 / rho2 - 1.0 / rho1);
             let p2 = p1 - (f_part + k_part + e_part + a_part) / 1e6;
-            if !(p2 > state::P_MIN) {
+            if p2.is_nan() || p2 <= state::P_MIN {
                 return Err(Error::infeasible("the pressure falls to zero"));
             }
             let st2 = ph(p2, h2)?;
