@@ -353,7 +353,7 @@ fn orifice_flow(p: OrificeParams) -> Result<OrificeResult> {
             "inlet.flow: orifice.flow computes the flow through the hole; give only the upstream state",
         ));
     }
-    let inlet = p.inlet.state(&ctx, "inlet")?;
+    let inlet = p.inlet.state(&ctx, "inlet").map_err(|e| restate(&ctx, e))?;
     let d = length(&ctx, "diameter", &p.diameter)?;
     let p_down = match &p.downstream_p {
         Some(x) => ctx.value("downstream_p", Dim::Pressure, x)?,
@@ -767,7 +767,7 @@ fn condition_out(
 
 fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
-    let inlet = p.inlet.state(&ctx, "inlet")?;
+    let inlet = p.inlet.state(&ctx, "inlet").map_err(|e| restate(&ctx, e))?;
     let flow = p.inlet.flow_required(&ctx, "inlet")?;
     let opt = |name: &str, dim: Dim, v: &Option<Input>, default: f64| -> Result<f64> {
         v.as_ref()

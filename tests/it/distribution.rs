@@ -470,13 +470,18 @@ fn orifice_bad_input() {
         assert_eq!(e.data["quantity"], "diameter");
         assert_eq!(e.data["unit"], "m");
     }
-    // not water or steam: ice, beyond the formulation
+    // not water or steam: ice, beyond the formulation (in the caller's unit, degC here)
     let e = fails(
         "orifice.flow",
         json!({"inlet": {"p": "1 bar", "T": "-20 degC"}, "diameter": "3 mm"}),
     );
     assert_eq!(e.code, 1001, "{e}");
     assert!(e.message.contains("IAPWS-IF97"), "{e}");
+    assert_eq!(e.data["unit"], "degC", "{e}");
+    assert!(
+        (e.data["value"].as_f64().unwrap() + 20.0).abs() < 1e-9,
+        "{e}"
+    );
     let e = fails(
         "orifice.flow",
         json!({"inlet": {"p": "10 bar", "T": "2500 degC"}, "diameter": "3 mm"}),
