@@ -25,6 +25,7 @@
 pub mod balance;
 pub mod cell;
 pub mod columns;
+pub mod distribution;
 pub mod limits;
 pub mod openrpc;
 pub mod plant;
@@ -489,6 +490,7 @@ pub fn registry() -> &'static [MethodSpec] {
     REGISTRY.get_or_init(|| {
         let mut all = water::methods();
         all.extend(plant::methods());
+        all.extend(distribution::methods());
         all.extend(balance::methods());
         all.extend(server_methods::methods());
         all.extend(selftest::methods());

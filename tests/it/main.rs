@@ -15,6 +15,7 @@ mod balance;
 mod balance_dof;
 mod columns_route;
 mod demo_site;
+mod distribution;
 mod e2e_server;
 mod fuzz_like;
 mod iapws_if97_r7_97_forward;

@@ -56,6 +56,18 @@ pub enum Dim {
     SteamRate,
     /// Length or head (internal m).
     Length,
+    /// Energy, e.g. a yearly loss (internal kJ).
+    Energy,
+    /// Mass, e.g. the steam lost in a year (internal kg).
+    Mass,
+    /// A price per unit of (fuel) energy, currency-neutral (internal per kJ).
+    PricePerEnergy,
+    /// A price per unit of mass (of steam), currency-neutral (internal per kg).
+    PricePerMass,
+    /// Heat flow per unit length of pipe (internal kW/m).
+    HeatFlowPerLength,
+    /// Heat-transfer coefficient (internal W/(m2 K)).
+    HeatTransferCoefficient,
 }
 
 impl Dim {
@@ -84,11 +96,17 @@ impl Dim {
             Dim::HeatRate => "heat rate",
             Dim::SteamRate => "steam rate",
             Dim::Length => "length",
+            Dim::Energy => "energy",
+            Dim::Mass => "mass",
+            Dim::PricePerEnergy => "price per energy",
+            Dim::PricePerMass => "price per mass",
+            Dim::HeatFlowPerLength => "heat flow per length",
+            Dim::HeatTransferCoefficient => "heat-transfer coefficient",
         }
     }
 
     /// Every dimension, for listing and tests.
-    pub const ALL: [Dim; 22] = [
+    pub const ALL: [Dim; 28] = [
         Dim::Pressure,
         Dim::Temperature,
         Dim::TemperatureDifference,
@@ -111,6 +129,12 @@ impl Dim {
         Dim::HeatRate,
         Dim::SteamRate,
         Dim::Length,
+        Dim::Energy,
+        Dim::Mass,
+        Dim::PricePerEnergy,
+        Dim::PricePerMass,
+        Dim::HeatFlowPerLength,
+        Dim::HeatTransferCoefficient,
     ];
 }
 
@@ -379,6 +403,89 @@ const UNITS: &[(&str, Unit)] = &[
     ("m", u("m", Dim::Length, 1.0)),
     ("mm", u("mm", Dim::Length, 1e-3)),
     ("ft", u("ft", Dim::Length, FT)),
+    ("cm", u("cm", Dim::Length, 1e-2)),
+    ("km", u("km", Dim::Length, 1e3)),
+    ("in", u("in", Dim::Length, FT / 12.0)),
+    ("inch", u("in", Dim::Length, FT / 12.0)),
+    ("\"", u("in", Dim::Length, FT / 12.0)),
+    // energy (1 kWh = 3600 kJ; 1 therm = 100 000 IT Btu)
+    ("J", u("J", Dim::Energy, 1e-3)),
+    ("kJ", u("kJ", Dim::Energy, 1.0)),
+    ("MJ", u("MJ", Dim::Energy, 1e3)),
+    ("GJ", u("GJ", Dim::Energy, 1e6)),
+    ("kWh", u("kWh", Dim::Energy, 3600.0)),
+    ("MWh", u("MWh", Dim::Energy, 3.6e6)),
+    ("GWh", u("GWh", Dim::Energy, 3.6e9)),
+    ("Btu", u("Btu", Dim::Energy, BTU_KJ)),
+    ("MMBtu", u("MMBtu", Dim::Energy, 1e6 * BTU_KJ)),
+    ("therm", u("therm", Dim::Energy, 1e5 * BTU_KJ)),
+    // mass
+    ("kg", u("kg", Dim::Mass, 1.0)),
+    ("t", u("t", Dim::Mass, 1e3)),
+    ("tonne", u("t", Dim::Mass, 1e3)),
+    ("lb", u("lb", Dim::Mass, LB)),
+    ("klb", u("klb", Dim::Mass, 1e3 * LB)),
+    // price per energy (currency-neutral: "30 /MWh", "30 per MWh", "8 /MMBtu")
+    ("/kJ", u("/kJ", Dim::PricePerEnergy, 1.0)),
+    ("/MJ", u("/MJ", Dim::PricePerEnergy, 1e-3)),
+    ("/GJ", u("/GJ", Dim::PricePerEnergy, 1e-6)),
+    ("/kWh", u("/kWh", Dim::PricePerEnergy, 1.0 / 3600.0)),
+    ("/MWh", u("/MWh", Dim::PricePerEnergy, 1.0 / 3.6e6)),
+    (
+        "/MMBtu",
+        u("/MMBtu", Dim::PricePerEnergy, 1.0 / (1e6 * BTU_KJ)),
+    ),
+    (
+        "/therm",
+        u("/therm", Dim::PricePerEnergy, 1.0 / (1e5 * BTU_KJ)),
+    ),
+    ("perkJ", u("/kJ", Dim::PricePerEnergy, 1.0)),
+    ("perMJ", u("/MJ", Dim::PricePerEnergy, 1e-3)),
+    ("perGJ", u("/GJ", Dim::PricePerEnergy, 1e-6)),
+    ("perkWh", u("/kWh", Dim::PricePerEnergy, 1.0 / 3600.0)),
+    ("perMWh", u("/MWh", Dim::PricePerEnergy, 1.0 / 3.6e6)),
+    (
+        "perMMBtu",
+        u("/MMBtu", Dim::PricePerEnergy, 1.0 / (1e6 * BTU_KJ)),
+    ),
+    (
+        "pertherm",
+        u("/therm", Dim::PricePerEnergy, 1.0 / (1e5 * BTU_KJ)),
+    ),
+    // price per mass (currency-neutral: "25 /t", "12 per klb")
+    ("/kg", u("/kg", Dim::PricePerMass, 1.0)),
+    ("/t", u("/t", Dim::PricePerMass, 1e-3)),
+    ("/tonne", u("/t", Dim::PricePerMass, 1e-3)),
+    ("/lb", u("/lb", Dim::PricePerMass, 1.0 / LB)),
+    ("/klb", u("/klb", Dim::PricePerMass, 1.0 / (1e3 * LB))),
+    ("perkg", u("/kg", Dim::PricePerMass, 1.0)),
+    ("pert", u("/t", Dim::PricePerMass, 1e-3)),
+    ("pertonne", u("/t", Dim::PricePerMass, 1e-3)),
+    ("perlb", u("/lb", Dim::PricePerMass, 1.0 / LB)),
+    ("perklb", u("/klb", Dim::PricePerMass, 1.0 / (1e3 * LB))),
+    // heat flow per length
+    ("W/m", u("W/m", Dim::HeatFlowPerLength, 1e-3)),
+    ("kW/m", u("kW/m", Dim::HeatFlowPerLength, 1.0)),
+    (
+        "Btu/(hft)",
+        u("Btu/(h ft)", Dim::HeatFlowPerLength, BTU_KJ / 3600.0 / FT),
+    ),
+    (
+        "Btu/hft",
+        u("Btu/(h ft)", Dim::HeatFlowPerLength, BTU_KJ / 3600.0 / FT),
+    ),
+    // heat-transfer coefficient
+    ("W/(m2K)", u("W/(m2 K)", Dim::HeatTransferCoefficient, 1.0)),
+    ("W/m2K", u("W/(m2 K)", Dim::HeatTransferCoefficient, 1.0)),
+    ("W/(m^2K)", u("W/(m2 K)", Dim::HeatTransferCoefficient, 1.0)),
+    (
+        "Btu/(hft2F)",
+        u(
+            "Btu/(h ft2 F)",
+            Dim::HeatTransferCoefficient,
+            BTU_KJ * 1e3 / 3600.0 / (FT * FT) / F_K,
+        ),
+    ),
 ];
 
 /// A named set of output units.
@@ -495,6 +602,21 @@ impl Preset {
             (Preset::Us, Dim::SteamRate) => "lb/kWh",
             (Preset::Si | Preset::Engineering, Dim::Length) => "m",
             (Preset::Us, Dim::Length) => "ft",
+            (Preset::Si, Dim::Energy) => "GJ",
+            (Preset::Engineering, Dim::Energy) => "MWh",
+            (Preset::Us, Dim::Energy) => "MMBtu",
+            (Preset::Si, Dim::Mass) => "kg",
+            (Preset::Engineering, Dim::Mass) => "t",
+            (Preset::Us, Dim::Mass) => "klb",
+            (Preset::Si, Dim::PricePerEnergy) => "/GJ",
+            (Preset::Engineering, Dim::PricePerEnergy) => "/MWh",
+            (Preset::Us, Dim::PricePerEnergy) => "/MMBtu",
+            (Preset::Si | Preset::Engineering, Dim::PricePerMass) => "/t",
+            (Preset::Us, Dim::PricePerMass) => "/klb",
+            (Preset::Si | Preset::Engineering, Dim::HeatFlowPerLength) => "W/m",
+            (Preset::Us, Dim::HeatFlowPerLength) => "Btu/(hft)",
+            (Preset::Si | Preset::Engineering, Dim::HeatTransferCoefficient) => "W/(m2K)",
+            (Preset::Us, Dim::HeatTransferCoefficient) => "Btu/(hft2F)",
         };
         lookup(dim, symbol).expect("every preset unit is in the table")
     }
@@ -567,6 +689,11 @@ pub fn accepted(dim: Dim) -> Vec<String> {
 
 /// Finds a unit of dimension `dim` by its spelling. `quantity` names the value for messages.
 pub fn parse_unit(quantity: &str, dim: Dim, text: &str) -> Result<Unit> {
+    // Prices are currency-neutral: "EUR/MWh", "$/t" and "1/MWh" are read as "/MWh", "/t".
+    let text = match (dim, text.find('/')) {
+        (Dim::PricePerEnergy | Dim::PricePerMass, Some(i)) => &text[i..],
+        _ => text,
+    };
     if let Some(unit) = lookup(dim, text) {
         return Ok(unit);
     }
@@ -686,6 +813,9 @@ fn example(dim: Dim) -> &'static str {
         Dim::SpecificEntropy => "6.5 kJ/(kg K)",
         Dim::MassFlow => "90 t/h",
         Dim::Dimensionless => "0.91",
+        Dim::Length => "50 mm",
+        Dim::PricePerEnergy => "30 EUR/MWh",
+        Dim::PricePerMass => "25 $/t",
         _ => "1.5",
     }
 }
@@ -772,5 +902,34 @@ mod tests {
         let e = parse_text("p", Dim::Pressure, "1e999 MPa", Preset::Si, 0.1).unwrap_err();
         assert!(matches!(e, Error::NotFinite { .. }), "{e}");
         assert!(Preset::parse("metric").is_err());
+    }
+
+    #[test]
+    fn prices_lengths_energies() {
+        let v = |q: &str, d: Dim, t: &str| {
+            parse_text(q, d, t, Preset::Engineering, 0.1)
+                .unwrap()
+                .internal
+        };
+        // currency-neutral prices: per kJ and per kg inside
+        assert!((v("fuel_cost", Dim::PricePerEnergy, "36 EUR/MWh") - 1e-5).abs() < 1e-18);
+        assert!((v("fuel_cost", Dim::PricePerEnergy, "36 per MWh") - 1e-5).abs() < 1e-18);
+        assert!((v("fuel_cost", Dim::PricePerEnergy, "36") - 1e-5).abs() < 1e-18);
+        assert!((v("steam_cost", Dim::PricePerMass, "25 $/t") - 0.025).abs() < 1e-15);
+        let mmbtu = v("fuel_cost", Dim::PricePerEnergy, "1 /MMBtu");
+        assert!((1.0 / mmbtu - 1_055_055.852_62).abs() < 1e-6);
+        assert!((v("d", Dim::Length, "2 in") - 0.0508).abs() < 1e-15);
+        assert!((v("d", Dim::Length, "50 mm") - 0.05).abs() < 1e-15);
+        assert!((v("E", Dim::Energy, "1 MWh") - 3.6e6).abs() < 1e-6);
+        assert!((v("m", Dim::Mass, "2 t") - 2000.0).abs() < 1e-12);
+        let e = parse_text(
+            "fuel_cost",
+            Dim::PricePerEnergy,
+            "30 EUR/t",
+            Preset::Si,
+            0.1,
+        )
+        .unwrap_err();
+        assert!(matches!(e, Error::WrongDimension { .. }), "{e}");
     }
 }

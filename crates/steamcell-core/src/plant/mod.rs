@@ -1,6 +1,7 @@
 //! Steam-plant components and cycles over the property core: turbines, pumps, valves,
 //! desuperheaters, flash vessels, headers, heat exchangers, boilers, deaerators and the Rankine
-//! cycle.
+//! cycle; the distribution system's losses (flow through a hole or a failed trap, pressure drop
+//! and heat loss of a line, and what each costs in a year).
 //!
 //! Internal units: p MPa, T K, h kJ/kg, s kJ/(kg K), mass flow kg/s, power and heat flow kW.
 //!
@@ -13,7 +14,11 @@
 
 pub mod balance;
 pub mod components;
+pub mod correlations;
 pub mod cycle;
+pub mod losses;
+pub mod orifice;
+pub mod pipe;
 
 use crate::error::Result;
 use crate::water::state::{self, Given, Options, State};
