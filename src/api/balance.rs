@@ -7,7 +7,7 @@
 //! Invariant: thin wrappers; the network solver is `crate::plant::balance`.
 
 use super::plant::BalanceOut;
-use super::water::{state_result, Ctx, Input, StateResult};
+use super::vocab::{state_result, Ctx, Input, StateResult};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::balance::{self as b, Network, StreamSpec, Unit};
@@ -572,13 +572,13 @@ fn totals_out(ctx: &Ctx, t: &b::Totals) -> TotalsOut {
 
 fn units_used(ctx: &Ctx) -> BTreeMap<String, String> {
     let mut u = BTreeMap::new();
-    u.insert("flow".into(), ctx.unit(Dim::MassFlow).into());
-    u.insert("power".into(), ctx.unit(Dim::Power).into());
-    u.insert("heat".into(), ctx.unit(Dim::HeatFlow).into());
-    u.insert("energy".into(), ctx.unit(Dim::HeatFlow).into());
-    u.insert("p".into(), ctx.unit(Dim::Pressure).into());
-    u.insert("T".into(), ctx.unit(Dim::Temperature).into());
-    u.insert("h".into(), ctx.unit(Dim::SpecificEnergy).into());
+    u.insert("flow".into(), ctx.unit("flow", Dim::MassFlow).into());
+    u.insert("power".into(), ctx.unit("power", Dim::Power).into());
+    u.insert("heat".into(), ctx.unit("heat", Dim::HeatFlow).into());
+    u.insert("energy".into(), ctx.unit("energy", Dim::HeatFlow).into());
+    u.insert("p".into(), ctx.unit("p", Dim::Pressure).into());
+    u.insert("T".into(), ctx.unit("T", Dim::Temperature).into());
+    u.insert("h".into(), ctx.unit("h", Dim::SpecificEnergy).into());
     u.insert("preset".into(), ctx.preset.name().into());
     u
 }

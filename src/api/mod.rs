@@ -23,6 +23,7 @@ pub mod rows;
 pub mod selftest;
 pub mod server_methods;
 pub mod site;
+pub mod vocab;
 pub mod water;
 
 pub use selftest::validation_digest;
