@@ -341,3 +341,40 @@ pub fn state_result_with(st: &State, ctx: &Ctx, f: Formulation) -> StateResult {
         formulation: f.name().to_string(),
     }
 }
+
+#[cfg(test)]
+mod tests {
+    /// Every physics decision is the core's: no API file calls a formulation's solver, its
+    /// saturation line, IF97's region map or the ice check directly; they go through
+    /// `water::solve`, `water::solve_first_order` and `water::saturation`.
+    #[test]
+    fn the_api_solves_through_the_core_entry_points() {
+        let files = [
+            ("balance.rs", include_str!("balance.rs")),
+            ("cell.rs", include_str!("cell.rs")),
+            ("columns.rs", include_str!("columns.rs")),
+            ("plant.rs", include_str!("plant.rs")),
+            ("rows.rs", include_str!("rows.rs")),
+            ("site.rs", include_str!("site.rs")),
+            ("vocab.rs", include_str!("vocab.rs")),
+            ("water.rs", include_str!("water.rs")),
+        ];
+        let banned = [
+            "state::solve",
+            "state::at_",
+            "state::saturation",
+            "state95::",
+            "iapws95::",
+            "regions::",
+            "melting::",
+            "transport::surface_tension",
+        ];
+        for (file, text) in files {
+            // This module's own test names the banned paths; check the code above it only.
+            let code = text.split("#[cfg(test)]").next().unwrap_or(text);
+            for b in banned {
+                assert!(!code.contains(b), "src/api/{file} calls {b} directly");
+            }
+        }
+    }
+}
