@@ -21,7 +21,7 @@ fn main() {
     }
     {
         use steamcell::api::rows::{compute, InputColumn};
-        use steamcell::api::water::Ctx;
+        use steamcell::api::vocab::Ctx;
         use steamcell::units::{Dim, Preset};
         use steamcell::water::state::Options;
         let n = 1_000_000;

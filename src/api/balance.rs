@@ -7,7 +7,7 @@
 //! Invariant: thin wrappers; the network solver is `crate::plant::balance`.
 
 use super::plant::BalanceOut;
-use super::water::{state_result, Ctx, Input, StateResult};
+use super::vocab::{state_result, Ctx, Input, StateResult};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::balance::{self as b, Network, StreamSpec, Unit};
@@ -520,13 +520,13 @@ pub struct SolveResult {
 }
 
 fn bal(ctx: &Ctx, x: &Balance) -> BalanceOut {
-    let m = |v: f64| ctx.preset.from_internal(Dim::MassFlow, v);
-    let e = |v: f64| ctx.preset.from_internal(Dim::HeatFlow, v);
+    let m = |name: &str, v: f64| ctx.out(name, Dim::MassFlow, v);
+    let e = |name: &str, v: f64| ctx.out(name, Dim::HeatFlow, v);
     BalanceOut {
-        mass_in: m(x.mass_in),
-        mass_out: m(x.mass_out),
-        energy_in: e(x.energy_in),
-        energy_out: e(x.energy_out),
+        mass_in: m("balance.mass_in", x.mass_in),
+        mass_out: m("balance.mass_out", x.mass_out),
+        energy_in: e("balance.energy_in", x.energy_in),
+        energy_out: e("balance.energy_out", x.energy_out),
         mass_residual: if x.mass_in == 0.0 && x.mass_out == 0.0 {
             0.0
         } else {
@@ -541,26 +541,26 @@ fn bal(ctx: &Ctx, x: &Balance) -> BalanceOut {
 }
 
 fn totals_out(ctx: &Ctx, t: &b::Totals) -> TotalsOut {
-    let m = |v: f64| ctx.preset.from_internal(Dim::MassFlow, v);
-    let e = |v: f64| ctx.preset.from_internal(Dim::HeatFlow, v);
-    let w = |v: f64| ctx.preset.from_internal(Dim::Power, v);
+    let m = |name: &str, v: f64| ctx.out(name, Dim::MassFlow, v);
+    let e = |name: &str, v: f64| ctx.out(name, Dim::HeatFlow, v);
+    let w = |name: &str, v: f64| ctx.out(name, Dim::Power, v);
     TotalsOut {
-        fuel_heat_input: e(t.fuel_heat_input),
-        boiler_losses: e(t.boiler_losses),
-        turbine_power: w(t.turbine_power),
-        pump_power: w(t.pump_power),
-        net_power: w(t.net_power),
-        process_steam: m(t.process_steam),
-        process_heat: e(t.process_heat),
-        condenser_duty: e(t.condenser_duty),
-        makeup_water: m(t.makeup_water),
-        vented_steam: m(t.vented),
-        condensate_lost: m(t.condensate_lost),
-        blowdown_lost: m(t.blowdown_lost),
-        mass_in: m(t.mass_in),
-        mass_out: m(t.mass_out),
-        energy_in: e(t.energy_in),
-        energy_out: e(t.energy_out),
+        fuel_heat_input: e("totals.fuel_heat_input", t.fuel_heat_input),
+        boiler_losses: e("totals.boiler_losses", t.boiler_losses),
+        turbine_power: w("totals.turbine_power", t.turbine_power),
+        pump_power: w("totals.pump_power", t.pump_power),
+        net_power: w("totals.net_power", t.net_power),
+        process_steam: m("totals.process_steam", t.process_steam),
+        process_heat: e("totals.process_heat", t.process_heat),
+        condenser_duty: e("totals.condenser_duty", t.condenser_duty),
+        makeup_water: m("totals.makeup_water", t.makeup_water),
+        vented_steam: m("totals.vented_steam", t.vented),
+        condensate_lost: m("totals.condensate_lost", t.condensate_lost),
+        blowdown_lost: m("totals.blowdown_lost", t.blowdown_lost),
+        mass_in: m("totals.mass_in", t.mass_in),
+        mass_out: m("totals.mass_out", t.mass_out),
+        energy_in: e("totals.energy_in", t.energy_in),
+        energy_out: e("totals.energy_out", t.energy_out),
         mass_residual: if t.mass_in == 0.0 && t.mass_out == 0.0 {
             0.0
         } else {
@@ -572,22 +572,22 @@ fn totals_out(ctx: &Ctx, t: &b::Totals) -> TotalsOut {
 
 fn units_used(ctx: &Ctx) -> BTreeMap<String, String> {
     let mut u = BTreeMap::new();
-    u.insert("flow".into(), ctx.unit(Dim::MassFlow).into());
-    u.insert("power".into(), ctx.unit(Dim::Power).into());
-    u.insert("heat".into(), ctx.unit(Dim::HeatFlow).into());
-    u.insert("energy".into(), ctx.unit(Dim::HeatFlow).into());
-    u.insert("p".into(), ctx.unit(Dim::Pressure).into());
-    u.insert("T".into(), ctx.unit(Dim::Temperature).into());
-    u.insert("h".into(), ctx.unit(Dim::SpecificEnergy).into());
+    u.insert("flow".into(), ctx.unit("flow", Dim::MassFlow).into());
+    u.insert("power".into(), ctx.unit("power", Dim::Power).into());
+    u.insert("heat".into(), ctx.unit("heat", Dim::HeatFlow).into());
+    u.insert("energy".into(), ctx.unit("energy", Dim::HeatFlow).into());
+    u.insert("p".into(), ctx.unit("p", Dim::Pressure).into());
+    u.insert("T".into(), ctx.unit("T", Dim::Temperature).into());
+    u.insert("h".into(), ctx.unit("h", Dim::SpecificEnergy).into());
     u.insert("preset".into(), ctx.preset.name().into());
     u
 }
 
 /// Shapes a library solution for the wire.
 pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
-    let m = |v: f64| ctx.preset.from_internal(Dim::MassFlow, v);
-    let e = |v: f64| ctx.preset.from_internal(Dim::HeatFlow, v);
-    let w = |v: f64| ctx.preset.from_internal(Dim::Power, v);
+    let m = |name: &str, v: f64| ctx.out(name, Dim::MassFlow, v);
+    let e = |name: &str, v: f64| ctx.out(name, Dim::HeatFlow, v);
+    let w = |name: &str, v: f64| ctx.out(name, Dim::Power, v);
     SolveResult {
         streams: s
             .streams
@@ -598,8 +598,8 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
                     StreamOut {
                         from: r.from.clone(),
                         to: r.to.clone(),
-                        flow: m(r.flow),
-                        energy_flow: e(r.flow * r.state.props.h),
+                        flow: m("streams.flow", r.flow),
+                        energy_flow: e("streams.energy_flow", r.flow * r.state.props.h),
                         state: state_result(&r.state, ctx),
                     },
                 )
@@ -613,12 +613,12 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
                     n.clone(),
                     UnitOut {
                         kind: r.kind.into(),
-                        power: r.power.map(w),
-                        duty: r.duty.map(e),
-                        fuel_heat_input: r.fuel_heat_input.map(e),
+                        power: r.power.map(|v| w("units.power", v)),
+                        duty: r.duty.map(|v| e("units.duty", v)),
+                        fuel_heat_input: r.fuel_heat_input.map(|v| e("units.fuel_heat_input", v)),
                         efficiency: r.efficiency,
-                        mass_lost: m(r.mass_lost),
-                        energy_lost: e(r.energy_lost),
+                        mass_lost: m("units.mass_lost", r.mass_lost),
+                        energy_lost: e("units.energy_lost", r.energy_lost),
                         balance: bal(ctx, &r.balance),
                         warnings: r.warnings.clone(),
                     },
@@ -642,8 +642,8 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
                     source: l.source.clone(),
                     target: l.target.clone(),
                     stream: l.stream.clone(),
-                    energy: e(l.energy),
-                    mass: m(l.mass),
+                    energy: e("sankey.links.energy", l.energy),
+                    mass: m("sankey.links.mass", l.mass),
                 })
                 .collect(),
         },
@@ -854,7 +854,7 @@ fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
                         (
                             n.clone(),
                             PickOut {
-                                flow: ctx.preset.from_internal(Dim::MassFlow, s.flow),
+                                flow: ctx.out("streams.flow", Dim::MassFlow, s.flow),
                                 p: st.p,
                                 t: st.t,
                                 h: st.h,
@@ -888,8 +888,8 @@ fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
         }
     }
     Ok(SweepResult {
+        unit: ctx.unit(&p.path, dim).into(),
         path: p.path,
-        unit: ctx.unit(dim).into(),
         points,
         failed,
         caution: b::CAUTION.into(),

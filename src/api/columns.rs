@@ -20,8 +20,8 @@
 //!
 //! Invariant: results are bit-identical to `water.batch` with `encoding: "f64le"`.
 
-use super::rows::{self, InputColumn};
-use super::water::{self, check_want, column_unit, input_dim, Ctx};
+use super::rows::{self, check_want, column_unit, input_dim, InputColumn};
+use super::vocab::{self, Ctx};
 use super::ApiError;
 use crate::error::{Error, Result};
 use crate::water::Formulation;
@@ -43,11 +43,11 @@ struct Header {
     #[serde(default)]
     units: Option<String>,
     #[serde(default)]
-    ambient: Option<water::Input>,
+    ambient: Option<vocab::Input>,
     #[serde(default)]
     formulation: Option<String>,
     #[serde(flatten)]
-    flags: water::SolveFlags,
+    flags: vocab::SolveFlags,
 }
 
 fn bad(msg: impl Into<String>) -> Error {

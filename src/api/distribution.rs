@@ -11,7 +11,7 @@
 //! are re-stated in the caller's units.
 
 use super::plant::{BalanceOut, Stream};
-use super::water::{state_result, Ctx, Input, StateResult};
+use super::vocab::{state_result, Ctx, Input, StateResult};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::correlations::FrictionModel;
@@ -70,7 +70,7 @@ fn restate(ctx: &Ctx, e: Error) -> Error {
                     quantity,
                     value: ctx.preset.from_internal(d, value),
                     limit: ctx.preset.from_internal(d, limit),
-                    unit: ctx.unit(d).to_string(),
+                    unit: ctx.preset.unit(d).symbol.to_string(),
                     bound,
                     formulation,
                 },
@@ -193,19 +193,23 @@ fn balance_out(ctx: &Ctx, b: &Balance) -> BalanceOut {
 fn units_of(ctx: &Ctx, fields: &[(&str, Dim)]) -> BTreeMap<String, String> {
     let mut m: BTreeMap<String, String> = fields
         .iter()
-        .map(|(n, d)| (n.to_string(), ctx.unit(*d).to_string()))
+        .map(|(n, d)| (n.to_string(), ctx.unit(n, *d).to_string()))
         .collect();
-    m.insert("yearly.steam".into(), ctx.unit(Dim::Mass).into());
-    m.insert("yearly.heat".into(), ctx.unit(Dim::Energy).into());
-    m.insert("yearly.fuel".into(), ctx.unit(Dim::Energy).into());
-    m.insert("yearly.makeup_T".into(), ctx.unit(Dim::Temperature).into());
+    for (key, dim) in [
+        ("yearly.steam", Dim::Mass),
+        ("yearly.heat", Dim::Energy),
+        ("yearly.fuel", Dim::Energy),
+        ("yearly.makeup_T", Dim::Temperature),
+        ("balance.mass", Dim::MassFlow),
+        ("balance.energy", Dim::HeatFlow),
+    ] {
+        m.insert(key.into(), ctx.unit(key, dim).into());
+    }
     m.insert(
         "yearly.cost".into(),
         "currency of the price given (per year)".into(),
     );
     m.insert("yearly.hours_per_year".into(), "h".into());
-    m.insert("balance.mass".into(), ctx.unit(Dim::MassFlow).into());
-    m.insert("balance.energy".into(), ctx.unit(Dim::HeatFlow).into());
     m.insert("preset".into(), ctx.preset.name().into());
     m
 }
@@ -973,9 +977,9 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
             "the {} surface reaches {:.1} {} above the touch limit {:.1} {}: personnel protection (insulation, guards) is needed where it can be touched (common practice; follow local codes)",
             built_name,
             o(&ctx, Dim::Temperature, r.max_surface_t),
-            ctx.unit(Dim::Temperature),
+            ctx.preset.unit(Dim::Temperature).symbol,
             o(&ctx, Dim::Temperature, touch),
-            ctx.unit(Dim::Temperature),
+            ctx.preset.unit(Dim::Temperature).symbol,
         ));
     }
     let vmax = r.max_velocity;
@@ -996,9 +1000,9 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
         warnings.push(format!(
             "the velocity reaches {:.2} {} above about {:.0} {} for {what}: expect noise, erosion and a large pressure drop (common practice, no source)",
             o(&ctx, Dim::Speed, vmax),
-            ctx.unit(Dim::Speed),
+            ctx.preset.unit(Dim::Speed).symbol,
             o(&ctx, Dim::Speed, limit),
-            ctx.unit(Dim::Speed),
+            ctx.preset.unit(Dim::Speed).symbol,
         ));
     }
     if r.transitional {

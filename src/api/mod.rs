@@ -35,6 +35,7 @@ pub mod server_ctx;
 pub mod server_methods;
 pub mod site;
 pub mod validation;
+pub mod vocab;
 pub mod water;
 
 pub use selftest::validation_digest;

@@ -8,14 +8,16 @@
 //!
 //! Invariant: thin wrappers; the calculations are `crate::plant`.
 
-use super::water::{pair_from_values, state_key_values, state_result, Ctx, Input, StateResult};
+use super::vocab::{state_key_values, state_result, Ctx, Input, StateResult};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::components as c;
 use crate::plant::cycle as cy;
 use crate::plant::{Balance, CAUTION};
 use crate::units::Dim;
-use crate::water::state::{self, Options, State};
+use crate::water::pairs::given_from;
+use crate::water::state::{Options, State};
+use crate::water::{self as physics, Field, Formulation, SaturationAt};
 use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -135,29 +137,31 @@ pub struct Stream {
 }
 
 impl Stream {
-    fn values(&self, ctx: &Ctx, name: &str) -> Result<BTreeMap<&'static str, f64>> {
+    fn values(&self, ctx: &Ctx, name: &str) -> Result<Vec<(Field, f64)>> {
         let keys = [
             &self.p, &self.t, &self.h, &self.s, &self.u, &self.v, &self.rho, &self.x,
         ];
         state_key_values(ctx, &format!("{name}."), keys)
     }
 
+    fn solve(name: &str, vals: &[(Field, f64)]) -> Result<State> {
+        let given = given_from(vals).map_err(|e| Error::invalid(format!("{name}: {e}")))?;
+        physics::solve(given, &Options::STANDARD, Formulation::If97)
+    }
+
     /// The stream's state.
     pub fn state(&self, ctx: &Ctx, name: &str) -> Result<State> {
-        let vals = self.values(ctx, name)?;
-        let given = pair_from_values(&vals).map_err(|e| Error::invalid(format!("{name}: {e}")))?;
-        state::solve(given, &Options::STANDARD)
+        Stream::solve(name, &self.values(ctx, name)?)
     }
 
     /// The stream's state, with the pressure defaulting to `p_default` (MPa) when only one
     /// state key is given.
     pub fn state_with_p(&self, ctx: &Ctx, name: &str, p_default: f64) -> Result<State> {
         let mut vals = self.values(ctx, name)?;
-        if vals.len() == 1 && !vals.contains_key("p") {
-            vals.insert("p", p_default);
+        if vals.len() == 1 && vals[0].0 != Field::P {
+            vals.push((Field::P, p_default));
         }
-        let given = pair_from_values(&vals).map_err(|e| Error::invalid(format!("{name}: {e}")))?;
-        state::solve(given, &Options::STANDARD)
+        Stream::solve(name, &vals)
     }
 
     /// The stream's flow in kg/s, if given.
@@ -193,13 +197,13 @@ pub struct BalanceOut {
 }
 
 fn balance(ctx: &Ctx, b: &Balance) -> BalanceOut {
-    let m = |x: f64| ctx.preset.from_internal(Dim::MassFlow, x);
-    let e = |x: f64| ctx.preset.from_internal(Dim::HeatFlow, x);
+    let m = |name: &str, x: f64| ctx.out(name, Dim::MassFlow, x);
+    let e = |name: &str, x: f64| ctx.out(name, Dim::HeatFlow, x);
     BalanceOut {
-        mass_in: m(b.mass_in),
-        mass_out: m(b.mass_out),
-        energy_in: e(b.energy_in),
-        energy_out: e(b.energy_out),
+        mass_in: m("balance.mass_in", b.mass_in),
+        mass_out: m("balance.mass_out", b.mass_out),
+        energy_in: e("balance.energy_in", b.energy_in),
+        energy_out: e("balance.energy_out", b.energy_out),
         mass_residual: b.mass_residual(),
         energy_residual: b.energy_residual(),
     }
@@ -208,12 +212,16 @@ fn balance(ctx: &Ctx, b: &Balance) -> BalanceOut {
 fn units_map(ctx: &Ctx, fields: &[(&str, Dim)]) -> BTreeMap<String, String> {
     let mut m: BTreeMap<String, String> = fields
         .iter()
-        .map(|(n, d)| (n.to_string(), ctx.unit(*d).to_string()))
+        .map(|(n, d)| (n.to_string(), ctx.unit(n, *d).to_string()))
         .collect();
-    m.insert("flows".into(), ctx.unit(Dim::MassFlow).into());
-    m.insert("power".into(), ctx.unit(Dim::Power).into());
-    m.insert("heat".into(), ctx.unit(Dim::HeatFlow).into());
-    m.insert("balance.energy".into(), ctx.unit(Dim::HeatFlow).into());
+    for (n, d) in [
+        ("flows", Dim::MassFlow),
+        ("power", Dim::Power),
+        ("heat", Dim::HeatFlow),
+        ("balance.energy", Dim::HeatFlow),
+    ] {
+        m.insert(n.into(), ctx.unit(n, d).into());
+    }
     m.insert("preset".into(), ctx.preset.name().into());
     m
 }
@@ -222,12 +230,14 @@ fn sr(ctx: &Ctx, st: &State) -> StateResult {
     state_result(st, ctx)
 }
 
-fn o(ctx: &Ctx, dim: Dim, x: f64) -> f64 {
-    ctx.preset.from_internal(dim, x)
+/// The output field `name` in its unit.
+fn o(ctx: &Ctx, name: &str, dim: Dim, x: f64) -> f64 {
+    ctx.out(name, dim, x)
 }
 
-fn of(ctx: &Ctx, dim: Dim, x: Option<f64>) -> Option<f64> {
-    x.map(|x| ctx.preset.from_internal(dim, x))
+/// The optional output field `name` in its unit.
+fn of(ctx: &Ctx, name: &str, dim: Dim, x: Option<f64>) -> Option<f64> {
+    x.map(|x| ctx.out(name, dim, x))
 }
 
 fn pressure(ctx: &Ctx, name: &str, v: &Input) -> Result<f64> {
@@ -297,9 +307,14 @@ fn expansion_out(ctx: &Ctx, ex: &c::Expansion) -> TurbineResult {
         inlet: sr(ctx, &ex.inlet),
         outlet: sr(ctx, &ex.outlet),
         isentropic_outlet: sr(ctx, &ex.isentropic_outlet),
-        specific_work: o(ctx, Dim::SpecificEnergy, ex.specific_work),
-        isentropic_work: o(ctx, Dim::SpecificEnergy, ex.isentropic_work),
-        power: of(ctx, Dim::Power, ex.power),
+        specific_work: o(ctx, "specific_work", Dim::SpecificEnergy, ex.specific_work),
+        isentropic_work: o(
+            ctx,
+            "isentropic_work",
+            Dim::SpecificEnergy,
+            ex.isentropic_work,
+        ),
+        power: of(ctx, "power", Dim::Power, ex.power),
         efficiency: ex.efficiency,
         moisture: ex.moisture,
         balance: balance(ctx, &ex.balance),
@@ -427,10 +442,10 @@ pub struct LinePoint {
 
 fn line_point(ctx: &Ctx, st: &State) -> LinePoint {
     LinePoint {
-        p: o(ctx, Dim::Pressure, st.props.p),
-        t: o(ctx, Dim::Temperature, st.props.t),
-        h: o(ctx, Dim::SpecificEnergy, st.props.h),
-        s: o(ctx, Dim::SpecificEntropy, st.props.s),
+        p: o(ctx, "expansion_line.p", Dim::Pressure, st.props.p),
+        t: o(ctx, "expansion_line.T", Dim::Temperature, st.props.t),
+        h: o(ctx, "expansion_line.h", Dim::SpecificEnergy, st.props.h),
+        s: o(ctx, "expansion_line.s", Dim::SpecificEntropy, st.props.s),
     }
 }
 
@@ -464,10 +479,20 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
                 inlet: sr(&ctx, &s.expansion.inlet),
                 outlet: sr(&ctx, &s.expansion.outlet),
                 isentropic_outlet: sr(&ctx, &s.expansion.isentropic_outlet),
-                flow: o(&ctx, Dim::MassFlow, s.flow),
-                extraction: o(&ctx, Dim::MassFlow, s.extraction),
-                specific_work: o(&ctx, Dim::SpecificEnergy, s.expansion.specific_work),
-                power: o(&ctx, Dim::Power, s.expansion.power.unwrap_or(0.0)),
+                flow: o(&ctx, "stages.flow", Dim::MassFlow, s.flow),
+                extraction: o(&ctx, "stages.extraction", Dim::MassFlow, s.extraction),
+                specific_work: o(
+                    &ctx,
+                    "stages.specific_work",
+                    Dim::SpecificEnergy,
+                    s.expansion.specific_work,
+                ),
+                power: o(
+                    &ctx,
+                    "stages.power",
+                    Dim::Power,
+                    s.expansion.power.unwrap_or(0.0),
+                ),
                 efficiency: s.expansion.efficiency,
             }
         })
@@ -475,8 +500,8 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
     Ok(TrainResult {
         stages: stages_out,
         expansion_line: line,
-        power: o(&ctx, Dim::Power, t.power),
-        exhaust_flow: o(&ctx, Dim::MassFlow, t.exhaust_flow),
+        power: o(&ctx, "power", Dim::Power, t.power),
+        exhaust_flow: o(&ctx, "exhaust_flow", Dim::MassFlow, t.exhaust_flow),
         overall_efficiency: t.overall_efficiency,
         balance: balance(&ctx, &t.balance),
         warnings: t.warnings,
@@ -570,15 +595,15 @@ fn pump_raise(p: PumpParams) -> Result<PumpResult> {
         inlet: sr(&ctx, &r.inlet),
         outlet: sr(&ctx, &r.outlet),
         isentropic_outlet: sr(&ctx, &r.isentropic_outlet),
-        specific_work: o(&ctx, Dim::SpecificEnergy, r.specific_work),
-        power: of(&ctx, Dim::Power, r.power),
+        specific_work: o(&ctx, "specific_work", Dim::SpecificEnergy, r.specific_work),
+        power: of(&ctx, "power", Dim::Power, r.power),
         efficiency: r.efficiency,
         efficiency_kind: match kind {
             c::PumpEfficiencyKind::Isentropic => "isentropic".into(),
             c::PumpEfficiencyKind::Hydraulic => "hydraulic".into(),
         },
-        head: o(&ctx, Dim::Length, r.head),
-        npsh_available: of(&ctx, Dim::Length, r.npsh_available),
+        head: o(&ctx, "head", Dim::Length, r.head),
+        npsh_available: of(&ctx, "npsh_available", Dim::Length, r.npsh_available),
         balance: balance(&ctx, &r.balance),
         warnings: r.warnings,
         caution: CAUTION.into(),
@@ -642,8 +667,13 @@ fn valve_throttle(p: ValveParams) -> Result<ValveResult> {
     Ok(ValveResult {
         inlet: sr(&ctx, &r.inlet),
         outlet: sr(&ctx, &r.outlet),
-        superheat: of(&ctx, Dim::TemperatureDifference, r.superheat),
-        temperature_drop: o(&ctx, Dim::TemperatureDifference, r.temperature_drop),
+        superheat: of(&ctx, "superheat", Dim::TemperatureDifference, r.superheat),
+        temperature_drop: o(
+            &ctx,
+            "temperature_drop",
+            Dim::TemperatureDifference,
+            r.temperature_drop,
+        ),
         balance: balance(&ctx, &r.balance),
         warnings: r.warnings,
         caution: CAUTION.into(),
@@ -741,10 +771,10 @@ fn desuperheater_spray(p: SprayParams) -> Result<SprayResult> {
         steam: sr(&ctx, &r.steam),
         water: sr(&ctx, &r.water),
         outlet: sr(&ctx, &r.outlet),
-        spray_flow: o(&ctx, Dim::MassFlow, r.spray_flow),
+        spray_flow: o(&ctx, "spray_flow", Dim::MassFlow, r.spray_flow),
         spray_ratio: r.spray_ratio,
-        outlet_flow: o(&ctx, Dim::MassFlow, r.outlet_flow),
-        superheat: o(&ctx, Dim::TemperatureDifference, r.superheat),
+        outlet_flow: o(&ctx, "outlet_flow", Dim::MassFlow, r.outlet_flow),
+        superheat: o(&ctx, "superheat", Dim::TemperatureDifference, r.superheat),
         balance: balance(&ctx, &r.balance),
         warnings: r.warnings,
         caution: CAUTION.into(),
@@ -816,8 +846,8 @@ fn flash_separate(p: FlashParams) -> Result<FlashResult> {
         vapour: sr(&ctx, &r.vapour),
         liquid: sr(&ctx, &r.liquid),
         flash_fraction: r.flash_fraction,
-        vapour_flow: o(&ctx, Dim::MassFlow, r.vapour_flow),
-        liquid_flow: o(&ctx, Dim::MassFlow, r.liquid_flow),
+        vapour_flow: o(&ctx, "vapour_flow", Dim::MassFlow, r.vapour_flow),
+        liquid_flow: o(&ctx, "liquid_flow", Dim::MassFlow, r.liquid_flow),
         balance: balance(&ctx, &r.balance),
         warnings: r.warnings,
         caution: CAUTION.into(),
@@ -881,7 +911,7 @@ fn header_mix(p: HeaderParams) -> Result<HeaderResult> {
     let r = c::header_mix(&inlets, ph)?;
     Ok(HeaderResult {
         outlet: sr(&ctx, &r.outlet),
-        flow: o(&ctx, Dim::MassFlow, r.flow),
+        flow: o(&ctx, "flow", Dim::MassFlow, r.flow),
         balance: balance(&ctx, &r.balance),
         warnings: r.warnings,
         caution: CAUTION.into(),
@@ -983,21 +1013,23 @@ fn exchanger_balance(p: ExchangerParams) -> Result<ExchangerResult> {
     let hot = side(&p.hot, "hot")?;
     let cold = side(&p.cold, "cold")?;
     let r = c::exchanger_balance(&hot, &cold)?;
-    let dt = |x: f64| o(&ctx, Dim::TemperatureDifference, x);
+    let dt = |name: &str, x: f64| o(&ctx, name, Dim::TemperatureDifference, x);
     Ok(ExchangerResult {
         hot_in: sr(&ctx, &r.hot_in),
         hot_out: sr(&ctx, &r.hot_out),
-        hot_flow: o(&ctx, Dim::MassFlow, r.hot_flow),
+        hot_flow: o(&ctx, "hot_flow", Dim::MassFlow, r.hot_flow),
         cold_in: sr(&ctx, &r.cold_in),
         cold_out: sr(&ctx, &r.cold_out),
-        cold_flow: o(&ctx, Dim::MassFlow, r.cold_flow),
-        duty: o(&ctx, Dim::HeatFlow, r.duty),
-        lmtd: dt(r.lmtd),
-        hot_end_difference: dt(r.hot_end_difference),
-        cold_end_difference: dt(r.cold_end_difference),
-        pinch: dt(r.pinch),
-        terminal_temperature_difference: r.terminal_temperature_difference.map(dt),
-        drain_cooler_approach: dt(r.drain_cooler_approach),
+        cold_flow: o(&ctx, "cold_flow", Dim::MassFlow, r.cold_flow),
+        duty: o(&ctx, "duty", Dim::HeatFlow, r.duty),
+        lmtd: dt("lmtd", r.lmtd),
+        hot_end_difference: dt("hot_end_difference", r.hot_end_difference),
+        cold_end_difference: dt("cold_end_difference", r.cold_end_difference),
+        pinch: dt("pinch", r.pinch),
+        terminal_temperature_difference: r
+            .terminal_temperature_difference
+            .map(|x| dt("terminal_temperature_difference", x)),
+        drain_cooler_approach: dt("drain_cooler_approach", r.drain_cooler_approach),
         balance: balance(&ctx, &r.balance),
         warnings: r.warnings,
         caution: CAUTION.into(),
@@ -1094,19 +1126,19 @@ fn boiler_fire(p: BoilerParams) -> Result<BoilerResult> {
         .unwrap_or(0.0);
     let eta = number(&ctx, "efficiency", &p.efficiency)?;
     let r = c::boiler_fire(&fw, &st, flow, bd, eta)?;
-    let q = |x: f64| o(&ctx, Dim::HeatFlow, x);
-    let m = |x: f64| o(&ctx, Dim::MassFlow, x);
+    let q = |name: &str, x: f64| o(&ctx, name, Dim::HeatFlow, x);
+    let m = |name: &str, x: f64| o(&ctx, name, Dim::MassFlow, x);
     Ok(BoilerResult {
         feedwater: sr(&ctx, &r.feedwater),
         steam: sr(&ctx, &r.steam),
         blowdown: sr(&ctx, &r.blowdown),
-        steam_flow: m(r.steam_flow),
-        feedwater_flow: m(r.feedwater_flow),
-        blowdown_flow: m(r.blowdown_flow),
-        heat_to_steam: q(r.heat_to_steam),
-        blowdown_energy: q(r.blowdown_energy),
-        fuel_heat_input: q(r.fuel_heat_input),
-        losses: q(r.losses),
+        steam_flow: m("steam_flow", r.steam_flow),
+        feedwater_flow: m("feedwater_flow", r.feedwater_flow),
+        blowdown_flow: m("blowdown_flow", r.blowdown_flow),
+        heat_to_steam: q("heat_to_steam", r.heat_to_steam),
+        blowdown_energy: q("blowdown_energy", r.blowdown_energy),
+        fuel_heat_input: q("fuel_heat_input", r.fuel_heat_input),
+        losses: q("losses", r.losses),
         balance: balance(&ctx, &r.balance),
         warnings: r.warnings,
         caution: CAUTION.into(),
@@ -1180,13 +1212,13 @@ fn deaerator_balance(p: DeaeratorParams) -> Result<DeaeratorResult> {
         .transpose()?
         .unwrap_or(0.0);
     let r = c::deaerator_balance(pd, &steam, &waters, vf)?;
-    let m = |x: f64| o(&ctx, Dim::MassFlow, x);
+    let m = |name: &str, x: f64| o(&ctx, name, Dim::MassFlow, x);
     Ok(DeaeratorResult {
         steam: sr(&ctx, &r.steam),
         outlet: sr(&ctx, &r.outlet),
-        steam_flow: m(r.steam_flow),
-        outlet_flow: m(r.outlet_flow),
-        vent_flow: m(r.vent_flow),
+        steam_flow: m("steam_flow", r.steam_flow),
+        outlet_flow: m("outlet_flow", r.outlet_flow),
+        vent_flow: m("vent_flow", r.vent_flow),
         balance: balance(&ctx, &r.balance),
         warnings: r.warnings,
         caution: CAUTION.into(),
@@ -1344,7 +1376,7 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
         (Some(cp), None) => pressure(&ctx, "condenser_p", cp)?,
         (None, Some(ct)) => {
             let t = ctx.value("condenser_T", Dim::Temperature, ct)?;
-            state::saturation_t(t)?.0
+            physics::saturation(SaturationAt::T(t), Formulation::If97)?.p
         }
         _ => {
             return Err(Error::invalid(
@@ -1410,7 +1442,7 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
             .transpose()?,
     };
     let r = cy::rankine(&spec)?;
-    let e = |x: f64| o(&ctx, Dim::SpecificEnergy, x);
+    let e = |name: &str, x: f64| o(&ctx, name, Dim::SpecificEnergy, x);
     Ok(RankineResult {
         points: r
             .points
@@ -1425,27 +1457,27 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
             .extractions
             .iter()
             .map(|x| ExtractionOut {
-                p: o(&ctx, Dim::Pressure, x.p),
+                p: o(&ctx, "extractions.p", Dim::Pressure, x.p),
                 kind: match x.kind {
                     cy::HeaterKind::Open => "open".into(),
                     cy::HeaterKind::Closed => "closed".into(),
                 },
                 fraction: x.fraction,
-                h: e(x.state.props.h),
+                h: e("extractions.h", x.state.props.h),
             })
             .collect(),
-        turbine_work: e(r.turbine_work),
-        pump_work: e(r.pump_work),
-        net_work: e(r.net_work),
-        heat_input: e(r.heat_input),
-        heat_rejected: e(r.heat_rejected),
+        turbine_work: e("turbine_work", r.turbine_work),
+        pump_work: e("pump_work", r.pump_work),
+        net_work: e("net_work", r.net_work),
+        heat_input: e("heat_input", r.heat_input),
+        heat_rejected: e("heat_rejected", r.heat_rejected),
         thermal_efficiency: r.thermal_efficiency,
         heat_rate_kj_per_kwh: r.heat_rate,
         heat_rate_btu_per_kwh: r.heat_rate_btu,
-        steam_rate: o(&ctx, Dim::SteamRate, r.steam_rate),
+        steam_rate: o(&ctx, "steam_rate", Dim::SteamRate, r.steam_rate),
         back_work_ratio: r.back_work_ratio,
-        flow: of(&ctx, Dim::MassFlow, r.flow),
-        net_power: of(&ctx, Dim::Power, r.net_power),
+        flow: of(&ctx, "flow", Dim::MassFlow, r.flow),
+        net_power: of(&ctx, "net_power", Dim::Power, r.net_power),
         exhaust_moisture: r.exhaust_moisture,
         energy_residual: r.energy_residual,
         warnings: r.warnings,

@@ -6,16 +6,20 @@
 //! cores above [`PARALLEL_THRESHOLD`] rows. Failed rows are kept sparse (row index and error), so
 //! a clean batch allocates nothing per row beyond its outputs.
 //!
+//! It also owns the bulk vocabulary shared by `water.batch` and `/columns`: the input column
+//! names ([`input_dim`]), the wanted outputs ([`check_want`]) and their units ([`column_unit`]).
+//!
 //! Invariants: every row is computed by the same code whether the batch runs on one core or
 //! many, so results are identical bit for bit; when every wanted property is first-order
-//! (see [`FIRST_ORDER`]) and the pair is (p, T) in IAPWS-IF97, rows are solved by
-//! [`state::at_pt_first`], whose values equal those of [`state::at_pt`] bit for bit.
+//! (`Field::is_first_order`, "region", "phase"), rows are solved by
+//! `water::solve_first_order`, whose values of those equal `water::solve`'s bit for bit.
 
-use super::water::{field_index, field_value_at, solve_with, Ctx, STATE_FIELDS};
+use super::vocab::Ctx;
 use crate::error::{Error, Result};
-use crate::units::{Unit, AMBIENT_DEFAULT_MPA};
-use crate::water::state::{self, Given, Options, Phase, State};
-use crate::water::Formulation;
+use crate::units::{Dim, Unit, AMBIENT_DEFAULT_MPA};
+use crate::water::pairs::{self, accepted_pairs, INPUTS};
+use crate::water::state::{Given, Options, Phase, State};
+use crate::water::{self as physics, Field, Formulation};
 use rayon::prelude::*;
 
 /// Rows above which a batch is computed on all cores. Each row is computed by the same code
@@ -24,11 +28,6 @@ pub const PARALLEL_THRESHOLD: usize = 2048;
 
 /// Rows per block of parallel work.
 const BLOCK: usize = 1024;
-
-/// The wanted properties that need no second derivative of the fundamental equation.
-pub const FIRST_ORDER: [&str; 11] = [
-    "p", "T", "rho", "v", "u", "h", "s", "x", "z", "region", "phase",
-];
 
 /// The phases in the order of their code in a "phase" output (see [`Rows::phase`]).
 pub const PHASES: [Phase; 4] = [
@@ -147,8 +146,8 @@ impl InputColumn {
 /// One wanted output, resolved once from its name.
 #[derive(Debug, Clone, Copy)]
 enum Out {
-    /// A numeric field of `water.state` (index into [`STATE_FIELDS`]) with its preset unit.
-    Field(usize, Unit),
+    /// A numeric field of `water.state` with its output unit.
+    Field(Field, Unit),
     /// The IF97 region number.
     Region,
     /// The phase, as its index in [`PHASES`].
@@ -164,55 +163,22 @@ struct PairKind {
 
 type PairCtor = fn(f64, f64) -> Result<Given>;
 
-/// 1 / rho for a positive density, else the range error (shared with `water.state`).
-pub(crate) fn inv_rho(rho: f64) -> Result<f64> {
-    if rho > 0.0 {
-        Ok(1.0 / rho)
-    } else {
-        Err(Error::out_of_range(
-            "rho",
-            rho,
-            0.0,
-            "kg/m3",
-            crate::error::Bound::Below,
-            "IAPWS-IF97",
-        ))
-    }
-}
-
-/// Every supported pair with its constructor, in the order of [`super::water::PAIRS`].
-const PAIR_CTORS: [(&str, &str, PairCtor); 15] = [
-    ("p", "T", |a, b| Ok(Given::PT(a, b))),
-    ("p", "h", |a, b| Ok(Given::PH(a, b))),
-    ("p", "s", |a, b| Ok(Given::PS(a, b))),
-    ("h", "s", |a, b| Ok(Given::HS(a, b))),
-    ("T", "x", |a, b| Ok(Given::TX(a, b))),
-    ("p", "x", |a, b| Ok(Given::PX(a, b))),
-    ("T", "h", |a, b| Ok(Given::TH(a, b))),
-    ("T", "s", |a, b| Ok(Given::TS(a, b))),
-    ("p", "v", |a, b| Ok(Given::PV(a, b))),
-    ("p", "rho", |a, b| Ok(Given::PV(a, inv_rho(b)?))),
-    ("T", "v", |a, b| Ok(Given::TV(a, b))),
-    ("T", "rho", |a, b| Ok(Given::TV(a, inv_rho(b)?))),
-    ("u", "v", |a, b| Ok(Given::UV(a, b))),
-    ("u", "rho", |a, b| Ok(Given::UV(a, inv_rho(b)?))),
-    ("p", "u", |a, b| Ok(Given::PU(a, b))),
-];
-
 impl PairKind {
     fn new(a: &str, b: &str) -> Result<PairKind> {
-        for (x, y, ctor) in PAIR_CTORS {
-            if (x, y) == (a, b) {
-                return Ok(PairKind { ctor, swap: false });
-            }
-            if (x, y) == (b, a) {
-                return Ok(PairKind { ctor, swap: true });
-            }
+        let found = match (Field::parse(a), Field::parse(b)) {
+            (Some(fa), Some(fb)) => pairs::find(fa, fb),
+            _ => None,
+        };
+        match found {
+            Some((spec, swap)) => Ok(PairKind {
+                ctor: spec.given,
+                swap,
+            }),
+            None => Err(Error::invalid(format!(
+                "the pair ({a},{b}) is not supported; accepted pairs: {}",
+                accepted_pairs()
+            ))),
         }
-        Err(Error::invalid(format!(
-            "the pair ({a},{b}) is not supported; accepted pairs: {}",
-            super::water::PAIRS
-        )))
     }
 
     fn given(&self, va: f64, vb: f64) -> Result<Given> {
@@ -221,10 +187,6 @@ impl PairKind {
         } else {
             (self.ctor)(va, vb)
         }
-    }
-
-    fn is_pt(&self) -> bool {
-        matches!(self.given(1.0, 2.0), Ok(Given::PT(..)))
     }
 }
 
@@ -298,14 +260,52 @@ impl Rows {
     }
 }
 
+/// The field and dimension of an input column name, or an error listing the accepted names.
+pub fn input_dim(name: &str) -> Result<(&'static str, Dim)> {
+    INPUTS
+        .into_iter()
+        .find(|f| f.name() == name)
+        .map(|f| (f.name(), f.dim()))
+        .ok_or_else(|| {
+            Error::invalid(format!(
+                "given: '{name}' is not an input property; accepted: {}",
+                INPUTS.map(Field::name).join(", ")
+            ))
+        })
+}
+
+/// The unit of a result column, if it has one (a numeric field of `water.state`).
+pub fn column_unit(ctx: &Ctx, name: &str) -> Option<&'static str> {
+    Field::parse(name).map(|f| ctx.unit(f.name(), f.dim()))
+}
+
+/// Checks a `want` list: numeric fields of `water.state`, "region", and "phase" when texts are
+/// allowed.
+pub fn check_want(want: &[String], texts: bool) -> Result<()> {
+    if want.is_empty() {
+        return Err(Error::invalid("want is empty: name at least one property"));
+    }
+    for w in want {
+        let ok = Field::parse(w).is_some() || w == "region" || (texts && w == "phase");
+        if !ok {
+            return Err(Error::invalid(format!(
+                "want: '{w}' is not a property; accepted: {}, region{}",
+                Field::ALL.map(Field::name).join(", "),
+                if texts { ", phase" } else { "" }
+            )));
+        }
+    }
+    Ok(())
+}
+
 /// Resolves the wanted names (already checked by `check_want`).
 fn outputs(ctx: &Ctx, want: &[String]) -> Result<Vec<Out>> {
     want.iter()
         .map(|w| match w.as_str() {
             "region" => Ok(Out::Region),
             "phase" => Ok(Out::Phase),
-            name => field_index(name)
-                .map(|i| Out::Field(i, ctx.preset.unit(STATE_FIELDS[i].1)))
+            name => Field::parse(name)
+                .map(|f| Out::Field(f, ctx.out_unit(f.name(), f.dim())))
                 .ok_or_else(|| Error::invalid(format!("want: '{name}' is not a property"))),
         })
         .collect()
@@ -334,20 +334,19 @@ pub fn compute(
         )));
     }
     let k = outs.len();
-    let first_order = f == Formulation::If97
-        && !opts.metastable
-        && kind.is_pt()
-        && want.iter().all(|w| FIRST_ORDER.contains(&w.as_str()));
+    let ambient = ctx.ambient;
+    let first_order = outs.iter().all(|o| match o {
+        Out::Field(field, _) => field.is_first_order(),
+        Out::Region | Out::Phase => true,
+    });
     let solve = |i: usize| -> Result<State> {
         let va = a.get(i)?;
         let vb = b.get(i)?;
         let given = kind.given(va, vb)?;
-        match given {
-            // On failure the full path gives the error (it adds the ice diagnosis).
-            Given::PT(p, t) if first_order => {
-                state::at_pt_first(p, t, opts).or_else(|_| solve_with(given, opts, f))
-            }
-            _ => solve_with(given, opts, f),
+        if first_order {
+            physics::solve_first_order(given, opts, f)
+        } else {
+            physics::solve(given, opts, f)
         }
     };
     let fill = |i: usize, row: &mut [f64]| -> Option<(usize, Error)> {
@@ -360,10 +359,10 @@ pub fn compute(
                             .iter()
                             .position(|ph| *ph == st.phase)
                             .map_or(f64::NAN, |c| c as f64),
-                        Out::Field(idx, unit) => {
-                            let x = field_value_at(&st, f, None, idx);
+                        Out::Field(field, unit) => {
+                            let x = field.value(&st, f, None);
                             if x.is_finite() {
-                                unit.from_internal(x, AMBIENT_DEFAULT_MPA)
+                                unit.from_internal(x, ambient)
                             } else {
                                 f64::NAN
                             }

@@ -1,19 +1,23 @@
-//! Property methods: `water.state`, `water.batch`, `water.saturation`, `water.curve`, and the wire
-//! types they share with the component methods (values with units, the state pair, the full
-//! state object).
+//! Property methods: `water.state`, `water.batch`, `water.saturation`, `water.curve`: their
+//! params and results (the vocabulary they share with the other methods is `super::vocab`).
 //!
 //! Units: every numeric input is a number in the request's preset (`engineering` by default) or
 //! a string with its unit; every result is in the preset and lists the unit of every field.
 //!
-//! Invariant: this module only converts and shapes; the physics is `crate::water::state`
-//! (IAPWS-IF97), `crate::water::state95` (IAPWS-95) and `crate::water::transport`.
+//! Invariant: this module only converts and shapes; each method converts its wire types and
+//! calls the physics once (`crate::water::solve`, `crate::water::saturation`, the bulk rows of
+//! `super::rows`).
 
+use super::rows::{check_want, column_unit, input_dim};
+use super::vocab::{
+    parse_formulation, state_result_with, Ctx, GivenPair, Input, SolveFlags, StateResult,
+};
 use super::MethodSpec;
 use crate::error::{Error, Result};
-use crate::units::{self, Dim, Preset, AMBIENT_DEFAULT_MPA};
-use crate::water::state::{self, Given, Options, Phase, State};
-use crate::water::transport::{self, Transport};
-use crate::water::{iapws95, state95, Formulation};
+use crate::units::Dim;
+use crate::water::pairs::accepted_pairs;
+use crate::water::state::{self, Given, Options};
+use crate::water::{self as physics, Formulation, SaturationAt};
 use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -50,272 +54,6 @@ pub fn methods() -> Vec<MethodSpec> {
     ]
 }
 
-/// A numeric input: a number in the request's unit preset, or a string with its unit.
-#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
-#[serde(untagged)]
-pub enum Input {
-    /// A number in the request's unit preset.
-    Number(f64),
-    /// A number with a unit, e.g. "42 barg", "410 degC", "1200 Btu/lb", "90 t/h".
-    Text(String),
-}
-
-/// Context shared by every conversion of one request: preset and ambient pressure.
-#[derive(Debug, Clone, Copy)]
-pub struct Ctx {
-    /// Output and bare-number preset.
-    pub preset: Preset,
-    /// Ambient pressure for gauge units, MPa.
-    pub ambient: f64,
-}
-
-impl Ctx {
-    /// Builds the context from the request's `units` and `ambient`.
-    pub fn new(units: Option<&str>, ambient: Option<&Input>) -> Result<Ctx> {
-        let preset = match units {
-            Some(u) => Preset::parse(u)?,
-            None => Preset::Engineering,
-        };
-        let mut ctx = Ctx {
-            preset,
-            ambient: AMBIENT_DEFAULT_MPA,
-        };
-        if let Some(a) = ambient {
-            let amb = ctx.value("ambient", Dim::Pressure, a)?;
-            if !(amb > 0.0 && amb <= 0.2) {
-                return Err(Error::invalid(format!(
-                    "ambient = {amb} MPa is not a plausible ambient pressure (0 to 0.2 MPa absolute)"
-                )));
-            }
-            ctx.ambient = amb;
-        }
-        Ok(ctx)
-    }
-
-    /// Converts an input to internal units.
-    pub fn value(&self, quantity: &str, dim: Dim, input: &Input) -> Result<f64> {
-        let parsed = match input {
-            Input::Number(x) => units::parse_number(quantity, dim, *x, self.preset, self.ambient)?,
-            Input::Text(t) => units::parse_text(quantity, dim, t, self.preset, self.ambient)?,
-        };
-        Ok(parsed.internal)
-    }
-
-    /// Converts an internal value to the preset's unit (NaN becomes None).
-    pub fn out(&self, dim: Dim, internal: f64) -> Option<f64> {
-        if internal.is_finite() {
-            Some(self.preset.from_internal(dim, internal))
-        } else {
-            None
-        }
-    }
-
-    /// The preset's unit symbol for a dimension.
-    pub fn unit(&self, dim: Dim) -> &'static str {
-        self.preset.unit(dim).symbol
-    }
-}
-
-/// Two properties that fix a state. Exactly two fields must be given.
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, JsonSchema)]
-#[serde(deny_unknown_fields)]
-pub struct GivenPair {
-    /// Pressure (absolute unless a gauge unit such as barg or psig is written).
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub p: Option<Input>,
-    /// Temperature.
-    #[serde(rename = "T", default, skip_serializing_if = "Option::is_none")]
-    pub t: Option<Input>,
-    /// Specific enthalpy.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub h: Option<Input>,
-    /// Specific entropy.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub s: Option<Input>,
-    /// Specific internal energy.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub u: Option<Input>,
-    /// Specific volume.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub v: Option<Input>,
-    /// Density.
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub rho: Option<Input>,
-    /// Vapour mass fraction (quality) of a wet state, 0 to 1 (or "91 %").
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub x: Option<Input>,
-}
-
-/// The pair names accepted, for messages.
-pub const PAIRS: &str = "(p,T), (p,h), (p,s), (h,s), (T,x), (p,x), (T,h), (T,s), (p,v), (p,rho), (T,v), (T,rho), (u,v), (u,rho), (p,u)";
-
-/// The state keys given among the eight, converted to internal units; `prefix` (e.g.
-/// "inlet.") names them in errors. Shared by `water.state` and the component streams.
-pub fn state_key_values(
-    ctx: &Ctx,
-    prefix: &str,
-    keys: [&Option<Input>; 8],
-) -> Result<BTreeMap<&'static str, f64>> {
-    const NAMES: [(&str, Dim); 8] = [
-        ("p", Dim::Pressure),
-        ("T", Dim::Temperature),
-        ("h", Dim::SpecificEnergy),
-        ("s", Dim::SpecificEntropy),
-        ("u", Dim::SpecificEnergy),
-        ("v", Dim::SpecificVolume),
-        ("rho", Dim::Density),
-        ("x", Dim::Dimensionless),
-    ];
-    let mut vals = BTreeMap::new();
-    for ((name, dim), value) in NAMES.into_iter().zip(keys) {
-        if let Some(input) = value {
-            vals.insert(name, ctx.value(&format!("{prefix}{name}"), dim, input)?);
-        }
-    }
-    Ok(vals)
-}
-
-impl GivenPair {
-    /// Converts to a physics pair in internal units.
-    pub fn to_given(&self, ctx: &Ctx) -> Result<Given> {
-        let keys = [
-            &self.p, &self.t, &self.h, &self.s, &self.u, &self.v, &self.rho, &self.x,
-        ];
-        pair_from_values(&state_key_values(ctx, "", keys)?)
-    }
-}
-
-/// Builds a physics pair from named internal values (exactly two).
-pub fn pair_from_values(vals: &BTreeMap<&str, f64>) -> Result<Given> {
-    if vals.len() != 2 {
-        let names: Vec<&str> = vals.keys().copied().collect();
-        return Err(Error::invalid(format!(
-            "give exactly two properties to fix a state (got {}: {}); accepted pairs: {PAIRS}",
-            vals.len(),
-            if names.is_empty() {
-                "none".to_string()
-            } else {
-                names.join(", ")
-            }
-        )));
-    }
-    let g = |k: &str| vals.get(k).copied();
-    let inv = super::rows::inv_rho;
-    let pair = if let (Some(p), Some(t)) = (g("p"), g("T")) {
-        Given::PT(p, t)
-    } else if let (Some(p), Some(h)) = (g("p"), g("h")) {
-        Given::PH(p, h)
-    } else if let (Some(p), Some(s)) = (g("p"), g("s")) {
-        Given::PS(p, s)
-    } else if let (Some(h), Some(s)) = (g("h"), g("s")) {
-        Given::HS(h, s)
-    } else if let (Some(t), Some(x)) = (g("T"), g("x")) {
-        Given::TX(t, x)
-    } else if let (Some(p), Some(x)) = (g("p"), g("x")) {
-        Given::PX(p, x)
-    } else if let (Some(t), Some(h)) = (g("T"), g("h")) {
-        Given::TH(t, h)
-    } else if let (Some(t), Some(s)) = (g("T"), g("s")) {
-        Given::TS(t, s)
-    } else if let (Some(p), Some(v)) = (g("p"), g("v")) {
-        Given::PV(p, v)
-    } else if let (Some(p), Some(rho)) = (g("p"), g("rho")) {
-        Given::PV(p, inv(rho)?)
-    } else if let (Some(t), Some(v)) = (g("T"), g("v")) {
-        Given::TV(t, v)
-    } else if let (Some(t), Some(rho)) = (g("T"), g("rho")) {
-        Given::TV(t, inv(rho)?)
-    } else if let (Some(u), Some(v)) = (g("u"), g("v")) {
-        Given::UV(u, v)
-    } else if let (Some(u), Some(rho)) = (g("u"), g("rho")) {
-        Given::UV(u, inv(rho)?)
-    } else if let (Some(p), Some(u)) = (g("p"), g("u")) {
-        Given::PU(p, u)
-    } else {
-        let names: Vec<&str> = vals.keys().copied().collect();
-        return Err(Error::invalid(format!(
-            "the pair ({}) is not supported; accepted pairs: {PAIRS}",
-            names.join(",")
-        )));
-    };
-    Ok(pair)
-}
-
-/// Options shared by every state request.
-#[derive(Debug, Clone, Default, PartialEq, Deserialize, Serialize, JsonSchema)]
-#[serde(deny_unknown_fields)]
-pub struct SolveFlags {
-    /// Return the raw IF97 backward-equation answer without Newton refinement (only for
-    /// (p,h), (p,s) and (h,s); the answer then reproduces the inputs only to the backward
-    /// equations' stated consistency).
-    #[serde(default)]
-    pub backward_only: bool,
-    /// Allow the IF97 metastable-vapour equation for (p,T) below the saturation temperature
-    /// (p <= 10 MPa). Refused otherwise.
-    #[serde(default)]
-    pub metastable: bool,
-    /// When a pair admits two states (e.g. (T,h) of a compressed liquid and a wet mixture),
-    /// return the one in this phase: "liquid", "vapour", "wet" or "supercritical".
-    #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub prefer: Option<String>,
-}
-
-impl SolveFlags {
-    /// Physics options.
-    pub fn options(&self) -> Result<Options> {
-        let prefer = match self.prefer.as_deref() {
-            None => None,
-            Some("liquid") => Some(Phase::Liquid),
-            Some("vapour") | Some("vapor") => Some(Phase::Vapour),
-            Some("wet") => Some(Phase::Wet),
-            Some("supercritical") => Some(Phase::Supercritical),
-            Some(other) => {
-                return Err(Error::invalid(format!(
-                "prefer = '{other}' is not a phase; accepted: liquid, vapour, wet, supercritical"
-            )))
-            }
-        };
-        Ok(Options {
-            backward_only: self.backward_only,
-            metastable: self.metastable,
-            prefer,
-            ..Options::STANDARD
-        })
-    }
-}
-
-/// The formulation named by a request's `formulation` param (IAPWS-IF97 when absent).
-pub fn parse_formulation(f: Option<&str>) -> Result<Formulation> {
-    match f {
-        None | Some("if97") | Some("IAPWS-IF97") => Ok(Formulation::If97),
-        Some("iapws95") | Some("IAPWS-95") => Ok(Formulation::Iapws95),
-        Some(other) => Err(Error::invalid(format!(
-            "formulation '{other}' is not available; accepted: if97 (IAPWS-IF97), iapws95 (IAPWS-95)"
-        ))),
-    }
-}
-
-/// Solves a pair with the formulation. IAPWS-IF97 keeps its own range, which starts at
-/// 273.15 K at every pressure (a sliver a few mK inside ice Ih near 0.1 MPa, taken as
-/// metastable liquid, so that "0 degC" at atmospheric pressure works); a (p,T) input below it
-/// that lies in an ice phase is refused with the ice message of IAPWS R14-08.
-pub fn solve_with(given: Given, opts: &Options, f: Formulation) -> Result<State> {
-    match f {
-        Formulation::Iapws95 => state95::solve(given, opts),
-        Formulation::If97 => match state::solve(given, opts) {
-            Err(e @ Error::OutOfRange { .. }) => {
-                if let Given::PT(p, t) = given {
-                    if p.is_finite() && t.is_finite() && t < crate::water::melting::T_VII_MAX {
-                        crate::water::melting::check_not_ice(p, t)?;
-                    }
-                }
-                Err(e)
-            }
-            other => other,
-        },
-    }
-}
-
 /// Parameters of `water.state`.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
@@ -339,270 +77,11 @@ pub struct StateParams {
     pub flags: SolveFlags,
 }
 
-/// One full state of water or steam, in the request's unit preset (see `units`).
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
-pub struct StateResult {
-    /// Pressure (absolute).
-    pub p: Option<f64>,
-    /// Temperature.
-    #[serde(rename = "T")]
-    pub t: Option<f64>,
-    /// Density.
-    pub rho: Option<f64>,
-    /// Specific volume.
-    pub v: Option<f64>,
-    /// Specific internal energy.
-    pub u: Option<f64>,
-    /// Specific enthalpy.
-    pub h: Option<f64>,
-    /// Specific entropy.
-    pub s: Option<f64>,
-    /// Specific isobaric heat capacity (null for wet states).
-    pub cp: Option<f64>,
-    /// Specific isochoric heat capacity (null for wet states).
-    pub cv: Option<f64>,
-    /// Speed of sound (null for wet states).
-    pub w: Option<f64>,
-    /// Vapour mass fraction of a wet state (null for single-phase states).
-    pub x: Option<f64>,
-    /// Isentropic exponent w^2 / (p v) (null for wet states).
-    pub kappa: Option<f64>,
-    /// Joule-Thomson coefficient (dT/dp)_h (null for wet states).
-    pub mu_jt: Option<f64>,
-    /// Isobaric cubic expansion coefficient (null for wet states).
-    pub alpha_v: Option<f64>,
-    /// Isothermal compressibility (null for wet states).
-    pub kappa_t: Option<f64>,
-    /// Compressibility factor Z = p v / (R T).
-    pub z: Option<f64>,
-    /// Dynamic viscosity (IAPWS R12-08; null for wet states).
-    pub mu: Option<f64>,
-    /// Thermal conductivity (IAPWS R15-11; null for wet states).
-    pub lambda: Option<f64>,
-    /// Kinematic viscosity mu / rho (null for wet states).
-    pub nu: Option<f64>,
-    /// Thermal diffusivity lambda / (rho cp) (null for wet states).
-    pub thermal_diffusivity: Option<f64>,
-    /// Prandtl number mu cp / lambda, dimensionless (null for wet states).
-    pub pr: Option<f64>,
-    /// Superheat above the saturation temperature at the state's pressure (vapour below the
-    /// critical pressure only; null otherwise).
-    pub superheat: Option<f64>,
-    /// Phase: "liquid", "vapour", "wet" or "supercritical".
-    pub phase: String,
-    /// IAPWS-IF97 region: 1, 2, 3, 4 (wet) or 5. For IAPWS-95 states informational: the IF97
-    /// region the state would have (beyond IF97's range, that of the nearest IF97 state).
-    pub region: u8,
-    /// Whether the metastable-vapour equation was used.
-    pub metastable: bool,
-    /// Why a null property is not given, by field name.
-    pub undefined: BTreeMap<String, String>,
-    /// The unit of every numeric field, and the preset's name under "preset".
-    pub units: BTreeMap<String, String>,
-    /// Ambient pressure used for gauge units, in the preset's pressure unit.
-    pub ambient: f64,
-    /// The formulation that produced the numbers: "IAPWS-IF97" or "IAPWS-95".
-    pub formulation: String,
-}
-
-/// Dimensions of every numeric field of [`StateResult`].
-pub const STATE_FIELDS: [(&str, Dim); 22] = [
-    ("p", Dim::Pressure),
-    ("T", Dim::Temperature),
-    ("rho", Dim::Density),
-    ("v", Dim::SpecificVolume),
-    ("u", Dim::SpecificEnergy),
-    ("h", Dim::SpecificEnergy),
-    ("s", Dim::SpecificEntropy),
-    ("cp", Dim::SpecificEntropy),
-    ("cv", Dim::SpecificEntropy),
-    ("w", Dim::Speed),
-    ("x", Dim::Dimensionless),
-    ("kappa", Dim::Dimensionless),
-    ("mu_jt", Dim::TemperaturePerPressure),
-    ("alpha_v", Dim::InverseTemperature),
-    ("kappa_t", Dim::InversePressure),
-    ("z", Dim::Dimensionless),
-    ("superheat", Dim::TemperatureDifference),
-    ("mu", Dim::Viscosity),
-    ("lambda", Dim::Conductivity),
-    ("nu", Dim::Diffusivity),
-    ("thermal_diffusivity", Dim::Diffusivity),
-    ("pr", Dim::Dimensionless),
-];
-
-/// The transport fields of [`StateResult`].
-pub const TRANSPORT_FIELDS: [&str; 5] = ["mu", "lambda", "nu", "thermal_diffusivity", "pr"];
-
-/// Internal value of a named field of a state of an IAPWS-IF97 solution (NaN where undefined).
-pub fn field_internal(st: &State, name: &str) -> Option<f64> {
-    field_value(st, Formulation::If97, None, name)
-}
-
-/// Internal value of a named field of a state solved with `f`; `tr` is the state's transport
-/// (computed here when None and a transport field is asked for).
-pub fn field_value(st: &State, f: Formulation, tr: Option<&Transport>, name: &str) -> Option<f64> {
-    field_index(name).map(|i| field_value_at(st, f, tr, i))
-}
-
-/// The index of a numeric field in [`STATE_FIELDS`].
-pub fn field_index(name: &str) -> Option<usize> {
-    STATE_FIELDS.iter().position(|(n, _)| *n == name)
-}
-
-/// Internal value of the field `STATE_FIELDS[idx]` of a state solved with `f` (NaN where
-/// undefined or for an index beyond the table); `tr` as for [`field_value`]. Resolving the
-/// name once and reading by index keeps string matching out of per-row loops.
-pub fn field_value_at(st: &State, f: Formulation, tr: Option<&Transport>, idx: usize) -> f64 {
-    let p = &st.props;
-    if idx >= 17 {
-        let own;
-        let tr = match tr {
-            Some(t) => t,
-            None => {
-                own = transport::for_state(st, f);
-                &own
-            }
-        };
-        return match idx {
-            17 => tr.mu,
-            18 => tr.lambda,
-            19 => tr.nu,
-            20 => tr.a,
-            21 => tr.pr,
-            _ => f64::NAN,
-        };
-    }
-    // The arms follow the order of STATE_FIELDS (checked by a unit test).
-    match idx {
-        0 => p.p,
-        1 => p.t,
-        2 => p.rho,
-        3 => p.v,
-        4 => p.u,
-        5 => p.h,
-        6 => p.s,
-        7 => p.cp,
-        8 => p.cv,
-        9 => p.w,
-        10 => st.x.unwrap_or(f64::NAN),
-        11 => p.kappa,
-        12 => p.mu_jt,
-        13 => p.alpha_v,
-        14 => p.kappa_t,
-        15 => p.z,
-        _ => superheat(st, f),
-    }
-}
-
-fn superheat(st: &State, f: Formulation) -> f64 {
-    if st.phase == Phase::Vapour && st.props.p < state::P_C {
-        let ts = match f {
-            Formulation::If97 => state::saturation_p(st.props.p).map(|r| r.0),
-            Formulation::Iapws95 => iapws95::saturation_p(st.props.p).map(|s| s.t),
-        };
-        if let Ok(ts) = ts {
-            return st.props.t - ts;
-        }
-    }
-    f64::NAN
-}
-
-fn dim_of(name: &str) -> Option<Dim> {
-    STATE_FIELDS
-        .iter()
-        .find(|(n, _)| *n == name)
-        .map(|(_, d)| *d)
-}
-
-/// Shapes a solved IAPWS-IF97 state for the wire.
-pub fn state_result(st: &State, ctx: &Ctx) -> StateResult {
-    state_result_with(st, ctx, Formulation::If97)
-}
-
-/// Shapes a state solved with formulation `f` for the wire (transport properties included).
-pub fn state_result_with(st: &State, ctx: &Ctx, f: Formulation) -> StateResult {
-    let tr = transport::for_state(st, f);
-    let o = |name: &str| {
-        field_value(st, f, Some(&tr), name).and_then(|v| ctx.out(dim_of(name).unwrap(), v))
-    };
-    let mut undefined = BTreeMap::new();
-    if st.phase == Phase::Wet {
-        for f in ["cp", "cv", "w", "kappa", "mu_jt", "alpha_v", "kappa_t"] {
-            undefined.insert(
-                f.to_string(),
-                "not defined for a two-phase (wet) mixture".to_string(),
-            );
-        }
-        for f in TRANSPORT_FIELDS {
-            undefined.insert(
-                f.to_string(),
-                "transport properties of a two-phase (wet) mixture are not defined".to_string(),
-            );
-        }
-        undefined.insert(
-            "superheat".into(),
-            "a wet mixture is at the saturation temperature".into(),
-        );
-    } else {
-        undefined.insert(
-            "x".into(),
-            format!(
-                "single-phase {} state: the quality is defined only for wet mixtures",
-                st.phase.name()
-            ),
-        );
-        if o("superheat").is_none() {
-            undefined.insert(
-                "superheat".into(),
-                "defined for vapour below the critical pressure only".into(),
-            );
-        }
-    }
-    let mut units_map = BTreeMap::new();
-    for (name, dim) in STATE_FIELDS {
-        units_map.insert(name.to_string(), ctx.unit(dim).to_string());
-    }
-    units_map.insert("ambient".into(), ctx.unit(Dim::Pressure).to_string());
-    units_map.insert("preset".into(), ctx.preset.name().to_string());
-    StateResult {
-        p: o("p"),
-        t: o("T"),
-        rho: o("rho"),
-        v: o("v"),
-        u: o("u"),
-        h: o("h"),
-        s: o("s"),
-        cp: o("cp"),
-        cv: o("cv"),
-        w: o("w"),
-        x: o("x"),
-        kappa: o("kappa"),
-        mu_jt: o("mu_jt"),
-        alpha_v: o("alpha_v"),
-        kappa_t: o("kappa_t"),
-        z: o("z"),
-        mu: o("mu"),
-        lambda: o("lambda"),
-        nu: o("nu"),
-        thermal_diffusivity: o("thermal_diffusivity"),
-        pr: o("pr"),
-        superheat: o("superheat"),
-        phase: st.phase.name().to_string(),
-        region: st.region.number(),
-        metastable: st.metastable,
-        undefined,
-        units: units_map,
-        ambient: ctx.preset.from_internal(Dim::Pressure, ctx.ambient),
-        formulation: f.name().to_string(),
-    }
-}
-
 fn water_state(p: StateParams) -> Result<StateResult> {
     let f = parse_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
     let given = p.given.to_given(&ctx)?;
-    let st = solve_with(given, &p.flags.options()?, f)?;
+    let st = physics::solve(given, &p.flags.options()?, f)?;
     Ok(state_result_with(&st, &ctx, f))
 }
 
@@ -771,53 +250,6 @@ pub const MAX_BATCH_ROWS: usize = super::limits::MAX_BATCH_ROWS as usize;
 
 pub use super::rows::PARALLEL_THRESHOLD;
 
-fn static_name(name: &str) -> Option<(&'static str, Dim)> {
-    Some(match name {
-        "p" => ("p", Dim::Pressure),
-        "T" => ("T", Dim::Temperature),
-        "h" => ("h", Dim::SpecificEnergy),
-        "u" => ("u", Dim::SpecificEnergy),
-        "s" => ("s", Dim::SpecificEntropy),
-        "v" => ("v", Dim::SpecificVolume),
-        "rho" => ("rho", Dim::Density),
-        "x" => ("x", Dim::Dimensionless),
-        _ => return None,
-    })
-}
-
-/// The dimension of an input column name, or an error listing the accepted names.
-pub fn input_dim(name: &str) -> Result<(&'static str, Dim)> {
-    static_name(name).ok_or_else(|| {
-        Error::invalid(format!(
-            "given: '{name}' is not an input property; accepted: p, T, h, s, u, v, rho, x"
-        ))
-    })
-}
-
-/// The unit of a result column in the preset, if it has one.
-pub fn column_unit(ctx: &Ctx, name: &str) -> Option<&'static str> {
-    dim_of(name).map(|d| ctx.unit(d))
-}
-
-/// Checks a `want` list: numeric fields of `water.state`, "region", and "phase" when texts are
-/// allowed.
-pub fn check_want(want: &[String], texts: bool) -> Result<()> {
-    if want.is_empty() {
-        return Err(Error::invalid("want is empty: name at least one property"));
-    }
-    for w in want {
-        let ok = dim_of(w).is_some() || w == "region" || (texts && w == "phase");
-        if !ok {
-            return Err(Error::invalid(format!(
-                "want: '{w}' is not a property; accepted: {}, region{}",
-                STATE_FIELDS.map(|f| f.0).join(", "),
-                if texts { ", phase" } else { "" }
-            )));
-        }
-    }
-    Ok(())
-}
-
 fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult> {
     use super::rows::InputColumn;
     let f = parse_formulation(p.formulation.as_deref())?;
@@ -826,8 +258,9 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
     let packed_out = packed_encoding(p.encoding.as_deref())?;
     if p.given.len() != 2 {
         return Err(Error::invalid(format!(
-            "give exactly two input columns in `given` (got {}); accepted pairs: {PAIRS}",
-            p.given.len()
+            "give exactly two input columns in `given` (got {}); accepted pairs: {}",
+            p.given.len(),
+            accepted_pairs()
         )));
     }
     let want: Vec<String> = p.want.clone().unwrap_or_else(|| {
@@ -839,11 +272,7 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
     check_want(&want, true)?;
     let mut cols = Vec::with_capacity(2);
     for (k, col) in &p.given {
-        let (name, dim) = static_name(k).ok_or_else(|| {
-            Error::invalid(format!(
-                "given: '{k}' is not an input property; accepted: p, T, h, s, u, v, rho, x"
-            ))
-        })?;
+        let (name, dim) = input_dim(k)?;
         let n = match col {
             Column::Values(v) => v.len(),
             Column::Packed(pc) => pc.f64le.len() / 4 * 3 / 8,
@@ -918,8 +347,8 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
     };
     let mut units_map = BTreeMap::new();
     for w in &want {
-        if let Some(d) = dim_of(w) {
-            units_map.insert(w.clone(), ctx.unit(d).to_string());
+        if let Some(u) = column_unit(&ctx, w) {
+            units_map.insert(w.clone(), u.to_string());
         }
     }
     units_map.insert("preset".into(), ctx.preset.name().to_string());
@@ -985,87 +414,38 @@ pub struct SaturationResult {
 fn water_saturation(p: SaturationParams) -> Result<SaturationResult> {
     let f = parse_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
-    let (ps, ts, l, v) = match (&p.t, &p.p) {
-        (Some(t), None) => {
-            let t = ctx.value("T", Dim::Temperature, t)?;
-            match f {
-                Formulation::If97 => {
-                    let (ps, l, v) = state::saturation_t(t)?;
-                    (ps, t, l, v)
-                }
-                Formulation::Iapws95 => {
-                    let sat = iapws95::saturation_t(t)?;
-                    (sat.psat, t, sat.liquid, sat.vapour)
-                }
-            }
-        }
-        (None, Some(pp)) => {
-            let pp = ctx.value("p", Dim::Pressure, pp)?;
-            match f {
-                Formulation::If97 => {
-                    let (ts, l, v) = state::saturation_p(pp)?;
-                    (pp, ts, l, v)
-                }
-                Formulation::Iapws95 => {
-                    let sat = iapws95::saturation_p(pp)?;
-                    (pp, sat.t, sat.liquid, sat.vapour)
-                }
-            }
-        }
+    let at = match (&p.t, &p.p) {
+        (Some(t), None) => SaturationAt::T(ctx.value("T", Dim::Temperature, t)?),
+        (None, Some(pp)) => SaturationAt::P(ctx.value("p", Dim::Pressure, pp)?),
         _ => {
             return Err(Error::invalid(
                 "give exactly one of T or p for a saturation state",
             ))
         }
     };
-    let sigma = transport::surface_tension(ts.min(transport::surface_tension::T_MAX))?;
-    let to_state = |props: crate::water::Props, phase: Phase| {
-        let liquid = phase == Phase::Liquid;
-        // The IF97 region of each side (informational for IAPWS-95).
-        let region = if ts <= state::T_13 {
-            if liquid {
-                crate::water::if97::regions::Region::R1
-            } else {
-                crate::water::if97::regions::Region::R2
-            }
-        } else {
-            crate::water::if97::regions::Region::R3
-        };
-        let st = State {
-            props,
-            x: Some(if liquid { 0.0 } else { 1.0 }),
-            region,
-            phase,
-            metastable: false,
-            iterations: 0,
-        };
-        let mut r = state_result_with(&st, &ctx, f);
-        // A saturated phase has a quality: 0 or 1.
-        r.x = Some(if liquid { 0.0 } else { 1.0 });
-        r.undefined.remove("x");
-        r
-    };
+    let sat = physics::saturation(at, f)?;
+    let (l, v) = (&sat.liquid.props, &sat.vapour.props);
     let mut units_map = BTreeMap::new();
-    units_map.insert("p".into(), ctx.unit(Dim::Pressure).into());
-    units_map.insert("T".into(), ctx.unit(Dim::Temperature).into());
-    units_map.insert("h_fg".into(), ctx.unit(Dim::SpecificEnergy).into());
-    units_map.insert("s_fg".into(), ctx.unit(Dim::SpecificEntropy).into());
-    units_map.insert("v_fg".into(), ctx.unit(Dim::SpecificVolume).into());
-    units_map.insert(
-        "surface_tension".into(),
-        ctx.unit(Dim::SurfaceTension).into(),
-    );
+    for (name, dim) in [
+        ("p", Dim::Pressure),
+        ("T", Dim::Temperature),
+        ("h_fg", Dim::SpecificEnergy),
+        ("s_fg", Dim::SpecificEntropy),
+        ("v_fg", Dim::SpecificVolume),
+        ("surface_tension", Dim::SurfaceTension),
+    ] {
+        units_map.insert(name.into(), ctx.unit(name, dim).into());
+    }
     units_map.insert("preset".into(), ctx.preset.name().into());
-    let pre = ctx.preset;
     Ok(SaturationResult {
-        p: pre.from_internal(Dim::Pressure, ps),
-        t: pre.from_internal(Dim::Temperature, ts),
-        h_fg: pre.from_internal(Dim::SpecificEnergy, v.h - l.h),
-        s_fg: pre.from_internal(Dim::SpecificEntropy, v.s - l.s),
-        v_fg: pre.from_internal(Dim::SpecificVolume, v.v - l.v),
-        surface_tension: pre.from_internal(Dim::SurfaceTension, sigma),
-        liquid: to_state(l, Phase::Liquid),
-        vapour: to_state(v, Phase::Vapour),
+        p: ctx.out("p", Dim::Pressure, sat.p),
+        t: ctx.out("T", Dim::Temperature, sat.t),
+        h_fg: ctx.out("h_fg", Dim::SpecificEnergy, v.h - l.h),
+        s_fg: ctx.out("s_fg", Dim::SpecificEntropy, v.s - l.s),
+        v_fg: ctx.out("v_fg", Dim::SpecificVolume, v.v - l.v),
+        surface_tension: ctx.out("surface_tension", Dim::SurfaceTension, sat.surface_tension),
+        liquid: state_result_with(&sat.liquid, &ctx, f),
+        vapour: state_result_with(&sat.vapour, &ctx, f),
         units: units_map,
         formulation: f.name().to_string(),
     })
@@ -1193,12 +573,12 @@ impl<'a> SeriesBuilder<'a> {
         }
     }
     fn push(&mut self, pr: &crate::water::Props) {
-        let pre = self.ctx.preset;
-        self.s.t.push(pre.from_internal(Dim::Temperature, pr.t));
-        self.s.s.push(pre.from_internal(Dim::SpecificEntropy, pr.s));
-        self.s.h.push(pre.from_internal(Dim::SpecificEnergy, pr.h));
-        self.s.p.push(pre.from_internal(Dim::Pressure, pr.p));
-        self.s.v.push(pre.from_internal(Dim::SpecificVolume, pr.v));
+        let ctx = self.ctx;
+        self.s.t.push(ctx.out("T", Dim::Temperature, pr.t));
+        self.s.s.push(ctx.out("s", Dim::SpecificEntropy, pr.s));
+        self.s.h.push(ctx.out("h", Dim::SpecificEnergy, pr.h));
+        self.s.p.push(ctx.out("p", Dim::Pressure, pr.p));
+        self.s.v.push(ctx.out("v", Dim::SpecificVolume, pr.v));
     }
 }
 
@@ -1210,6 +590,7 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
         return Err(Error::invalid(format!("points = {n} is outside 2..2000")));
     }
     let opts = Options::STANDARD;
+    let if97 = Formulation::If97;
     let lin = |a: f64, b: f64, i: usize| a + (b - a) * i as f64 / (n - 1) as f64;
     let geo =
         |a: f64, b: f64, i: usize| (a.ln() + (b.ln() - a.ln()) * i as f64 / (n - 1) as f64).exp();
@@ -1233,9 +614,9 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
             let mut vap = SeriesBuilder::new(&ctx, "saturated vapour".into());
             for i in 0..n {
                 let t = lin(a, b, i);
-                let (_, l, v) = state::saturation_t(t)?;
-                liq.push(&l);
-                vap.push(&v);
+                let sat = physics::saturation(SaturationAt::T(t), if97)?;
+                liq.push(&sat.liquid.props);
+                vap.push(&sat.vapour.props);
             }
             series.push(liq.s);
             series.push(vap.s);
@@ -1253,31 +634,31 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
                 &ctx,
                 format!(
                     "isobar {} {}",
-                    ctx.preset.from_internal(Dim::Pressure, p),
-                    ctx.unit(Dim::Pressure)
+                    ctx.out("p", Dim::Pressure, p),
+                    ctx.unit("p", Dim::Pressure)
                 ),
             );
             let sat = if p < state::P_C {
-                state::saturation_p(p).ok()
+                physics::saturation(SaturationAt::P(p), if97).ok()
             } else {
                 None
             };
             let mut done_sat = false;
             for i in 0..n {
                 let t = lin(a, b, i);
-                if let Some((ts, l, v)) = &sat {
-                    if !done_sat && t >= *ts {
-                        if *ts >= a {
-                            sb.push(l);
-                            sb.push(v);
+                if let Some(sat) = &sat {
+                    if !done_sat && t >= sat.t {
+                        if sat.t >= a {
+                            sb.push(&sat.liquid.props);
+                            sb.push(&sat.vapour.props);
                         }
                         done_sat = true;
                     }
-                    if (t - ts).abs() < 1e-9 {
+                    if (t - sat.t).abs() < 1e-9 {
                         continue;
                     }
                 }
-                if let Ok(st) = state::at_pt(p, t, &opts) {
+                if let Ok(st) = physics::solve(Given::PT(p, t), &opts, if97) {
                     sb.push(&st.props);
                 }
             }
@@ -1296,28 +677,28 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
                 &ctx,
                 format!(
                     "isotherm {} {}",
-                    ctx.preset.from_internal(Dim::Temperature, t),
-                    ctx.unit(Dim::Temperature)
+                    ctx.out("T", Dim::Temperature, t),
+                    ctx.unit("T", Dim::Temperature)
                 ),
             );
             let sat = if t < state::T_C {
-                state::saturation_t(t).ok()
+                physics::saturation(SaturationAt::T(t), if97).ok()
             } else {
                 None
             };
             let mut done_sat = false;
             for i in 0..n {
                 let p = geo(a.max(1e-6), b, i);
-                if let Some((ps, l, v)) = &sat {
-                    if !done_sat && p >= *ps {
-                        if *ps >= a {
-                            sb.push(v);
-                            sb.push(l);
+                if let Some(sat) = &sat {
+                    if !done_sat && p >= sat.p {
+                        if sat.p >= a {
+                            sb.push(&sat.vapour.props);
+                            sb.push(&sat.liquid.props);
                         }
                         done_sat = true;
                     }
                 }
-                if let Ok(st) = state::at_pt(p, t, &opts) {
+                if let Ok(st) = physics::solve(Given::PT(p, t), &opts, if97) {
                     sb.push(&st.props);
                 }
             }
@@ -1336,13 +717,13 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
                 &ctx,
                 format!(
                     "isentrope {} {}",
-                    ctx.preset.from_internal(Dim::SpecificEntropy, s),
-                    ctx.unit(Dim::SpecificEntropy)
+                    ctx.out("s", Dim::SpecificEntropy, s),
+                    ctx.unit("s", Dim::SpecificEntropy)
                 ),
             );
             for i in 0..n {
                 let p = geo(a.max(1e-6), b, i);
-                if let Ok(st) = state::at_ps(p, s, &opts) {
+                if let Ok(st) = physics::solve(Given::PS(p, s), &opts, if97) {
                     sb.push(&st.props);
                 }
             }
@@ -1355,11 +736,15 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
         }
     }
     let mut units_map = BTreeMap::new();
-    units_map.insert("T".into(), ctx.unit(Dim::Temperature).into());
-    units_map.insert("s".into(), ctx.unit(Dim::SpecificEntropy).into());
-    units_map.insert("h".into(), ctx.unit(Dim::SpecificEnergy).into());
-    units_map.insert("p".into(), ctx.unit(Dim::Pressure).into());
-    units_map.insert("v".into(), ctx.unit(Dim::SpecificVolume).into());
+    for (name, dim) in [
+        ("T", Dim::Temperature),
+        ("s", Dim::SpecificEntropy),
+        ("h", Dim::SpecificEnergy),
+        ("p", Dim::Pressure),
+        ("v", Dim::SpecificVolume),
+    ] {
+        units_map.insert(name.into(), ctx.unit(name, dim).into());
+    }
     units_map.insert("preset".into(), ctx.preset.name().into());
     let series = series
         .into_iter()
@@ -1375,49 +760,4 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
         series,
         units: units_map,
     })
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    /// `field_value_at` reads by index; its arms follow this order of `STATE_FIELDS`.
-    #[test]
-    fn field_indices_follow_state_fields() {
-        let names = STATE_FIELDS.map(|f| f.0);
-        assert_eq!(
-            names,
-            [
-                "p",
-                "T",
-                "rho",
-                "v",
-                "u",
-                "h",
-                "s",
-                "cp",
-                "cv",
-                "w",
-                "x",
-                "kappa",
-                "mu_jt",
-                "alpha_v",
-                "kappa_t",
-                "z",
-                "superheat",
-                "mu",
-                "lambda",
-                "nu",
-                "thermal_diffusivity",
-                "pr"
-            ]
-        );
-        assert_eq!(&names[17..], &TRANSPORT_FIELDS);
-        let st = state::at_pt(1.0, 500.0, &state::Options::STANDARD).unwrap();
-        let pr = st.props;
-        for (name, want) in [("h", pr.h), ("cp", pr.cp), ("w", pr.w), ("z", pr.z)] {
-            let got = field_value(&st, Formulation::If97, None, name).unwrap();
-            assert_eq!(got.to_bits(), want.to_bits(), "{name}");
-        }
-    }
 }

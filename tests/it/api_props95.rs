@@ -178,6 +178,36 @@ fn ice_is_out_of_range() {
     }
 }
 
+/// IAPWS R14-08(2011): a component stream solves through the same entry point as
+/// `water.state`, so an inlet at 0.1 MPa, 270 K (ice Ih) gets the same melting-curve message,
+/// and 100 Pa, 270 K (vapour: below the sublimation pressure at 270 K, about 470 Pa, checked
+/// here with the R14-08 sublimation curve) IF97's range error, not the ice message.
+#[test]
+fn ice_in_a_component_stream() {
+    let p_sub = steamcell::water::melting::sublimation_pressure(270.0).unwrap();
+    assert!(p_sub > 4.5e-4 && p_sub < 4.9e-4, "{p_sub}");
+    let v = rpc(
+        "valve.throttle",
+        r#"{"inlet":{"p":"0.1 MPa","T":"270 K"},"outlet_p":"0.05 MPa"}"#,
+    );
+    let e = &v["error"];
+    assert_eq!(e["data"]["kind"], "out_of_range", "{v}");
+    let msg = e["message"].as_str().unwrap();
+    assert!(
+        msg.contains("melting curve") && msg.contains("ice Ih"),
+        "{msg}"
+    );
+    let v = rpc(
+        "valve.throttle",
+        r#"{"inlet":{"p":"0.0001 MPa","T":"270 K"},"outlet_p":"0.00005 MPa"}"#,
+    );
+    let msg = v["error"]["message"].as_str().unwrap();
+    assert!(
+        msg.contains("273.15 K") && msg.contains("IAPWS-IF97") && !msg.contains("ice"),
+        "{msg}"
+    );
+}
+
 /// An unknown formulation is refused with the accepted names.
 #[test]
 fn unknown_formulation() {

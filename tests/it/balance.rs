@@ -10,7 +10,7 @@
 
 use serde_json::{json, Value};
 use steamcell::api::balance::NetworkIn;
-use steamcell::api::water::Ctx;
+use steamcell::api::vocab::Ctx;
 use steamcell::api::{self};
 use steamcell::plant::balance::{self as b, Network, Solution};
 use steamcell::plant::components as c;

@@ -1,9 +1,12 @@
-//! The crate's one error type. Every fallible library function returns [`Result`]; the RPC layer
-//! maps each variant to a documented, stable JSON-RPC error code (see `Error::code`).
+//! The one error type of the whole product. Every fallible library function returns [`Result`];
+//! the API layer of the `steamcell` crate maps each variant to a documented, stable JSON-RPC
+//! error code (`impl From<Error> for ApiError` in `src/api/mod.rs`, codes listed in its
+//! `ERROR_CODES` table). This crate knows no codes.
 //!
 //! Invariant: messages are one line, name the quantity, the value and the limit, and end without
-//! a period. Values inside errors are in SI-free internal units only when the variant says so;
-//! the API layer re-states them in the caller's units where it can.
+//! a period. Physical values inside errors are in internal units (p MPa, T K, h kJ/kg, ...);
+//! [`Error::OutOfRange`] names the unit of its value and limit. They reach the caller in these
+//! units: errors are not re-stated in the caller's units.
 
 use std::fmt;
 

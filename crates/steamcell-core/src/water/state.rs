@@ -2,7 +2,8 @@
 //!
 //! The fast pairs (p,T), (p,h), (p,s) and (h,s) start from the IF97 backward equations and are
 //! refined by Newton iteration on the basic equations, so that the basic equations applied to the
-//! answer return the inputs to within `tol` (1e-9 relative by default; in practice ~1e-13).
+//! answer return the inputs to within `tol` (1e-11 relative by default, [`Options::STANDARD`]: 100
+//! times tighter than the 1e-9 promise of `water.state`; in practice ~1e-13).
 //! The other pairs ((T,h), (T,s), (p,v), (T,v), (p,u), (u,v)) scan each phase branch for sign
 //! changes and solve each bracket with a safeguarded secant/bisection iteration, so that a pair
 //! with two solutions is detected and reported, never silently resolved.
@@ -22,24 +23,20 @@ use crate::water::props::Props;
 /// Formulation name used in error messages.
 pub const IF97: &str = "IAPWS-IF97";
 
-/// Critical temperature, K (IAPWS R7-97(2012), Eq. (3)).
-pub const T_C: f64 = 647.096;
-/// Critical pressure, MPa (IAPWS R7-97(2012), Eq. (4)).
-pub const P_C: f64 = 22.064;
-/// Critical density, kg/m3 (IAPWS R7-97(2012), Eq. (5)).
-pub const RHO_C: f64 = 322.0;
+/// The IF97 critical constants (R7-97(2012) Eqs. (2) to (4)), defined once in `if97::regions`.
+pub use crate::water::if97::regions::{P_C, RHO_C, T_C};
 /// Lowest temperature of IF97, K.
-pub const T_MIN: f64 = 273.15;
+pub const T_MIN: f64 = regions::T_MIN;
 /// Upper temperature of regions 1 to 3, K.
-pub const T_MAX_123: f64 = 1073.15;
+pub const T_MAX_123: f64 = regions::T_25;
 /// Upper temperature of region 5, K.
-pub const T_MAX_5: f64 = 2273.15;
+pub const T_MAX_5: f64 = regions::T_MAX;
 /// Upper pressure of regions 1 to 3, MPa.
-pub const P_MAX: f64 = 100.0;
+pub const P_MAX: f64 = regions::P_MAX;
 /// Upper pressure of region 5, MPa.
-pub const P_MAX_5: f64 = 50.0;
+pub const P_MAX_5: f64 = regions::P_MAX_R5;
 /// Lower temperature of region 3, K.
-pub const T_13: f64 = 623.15;
+pub const T_13: f64 = regions::T_13;
 /// Lowest pressure accepted, MPa (1 Pa; IF97 region 2 is valid for p > 0).
 pub const P_MIN: f64 = 1e-6;
 

@@ -9,3 +9,5 @@ pub mod region3;
 pub mod region4;
 pub mod region5;
 pub mod regions;
+
+pub use regions::{P_C, R, RHO_C, T_C};

@@ -15,12 +15,13 @@ use crate::error::{Bound, Error, Result};
 pub const FORMULATION: &str = "IAPWS-IF97";
 /// Specific gas constant of IAPWS-IF97, kJ/(kg K) (R7-97(2012) Eq. (1)).
 pub const R: f64 = 0.461526;
-/// Critical temperature, K (R7-97(2012) Eq. (2)).
-pub const T_CRIT: f64 = 647.096;
+/// Critical temperature, K (R7-97(2012) Eq. (2)); the one definition of IF97's critical
+/// constants, re-exported as `if97::T_C` and `state::T_C`.
+pub const T_C: f64 = 647.096;
 /// Critical pressure, MPa (R7-97(2012) Eq. (3)).
-pub const P_CRIT: f64 = 22.064;
+pub const P_C: f64 = 22.064;
 /// Critical density, kg/m3 (R7-97(2012) Eq. (4)).
-pub const RHO_CRIT: f64 = 322.0;
+pub const RHO_C: f64 = 322.0;
 /// Lowest temperature of the formulation, K.
 pub const T_MIN: f64 = 273.15;
 /// Boundary temperature between regions 1 and 3 (and lowest temperature of B23), K.
