@@ -28,6 +28,8 @@
 //!   [`crate::api::cell`]; failures answer 400/404/422/500 with a one-line reason (text/plain).
 //! - `GET /site/{name}/{quantity}?{path=value...}` -> a number of a registered site's balance
 //!   (text/plain), see [`crate::api::site`]; failures as for `/cell`.
+//! - `GET /addin/...` -> the Excel add-in's files, public like `/health` (see
+//!   [`super::addin`], which also adds the private-network answer to an allowed preflight).
 //!
 //! Invariant: anything else (POST, WebSocket upgrades, other paths) passes to jsonrpsee
 //! untouched.
@@ -401,6 +403,8 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     }
     let origin = match req.headers().get(http::header::ORIGIN) {
         None => None,
+        // A page this server served itself (the add-in's files) calls it from its own origin.
+        Some(v) if super::addin::is_same_origin(req, v.to_str().unwrap_or("")) => None,
         Some(v) => {
             let o = v.to_str().unwrap_or("").to_string();
             if !config.origin_allowed(&o) {
@@ -416,7 +420,11 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     };
     if req.method() == http::Method::OPTIONS {
         return match origin {
-            Some(o) => Err(Box::new(preflight(&o))),
+            Some(o) => {
+                let mut answer = preflight(&o);
+                super::addin::allow_private_network(req, &mut answer);
+                Err(Box::new(answer))
+            }
             None => Err(refuse_b(
                 405,
                 "OPTIONS is answered only for a CORS preflight".into(),
@@ -425,11 +433,18 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     }
     let health = (req.method() == http::Method::GET || req.method() == http::Method::HEAD)
         && req.uri().path() == "/health";
-    if !health && !config.token_ok(req) {
-        return Err(refuse_b(
+    // The add-in's files hold no secret and a browser loads them without a token.
+    let public = health || super::addin::is_addin_request(req);
+    if !public && !config.token_ok(req) {
+        let mut r = refuse(
             401,
             "missing or wrong token: send Authorization: Bearer <token>".to_string(),
-        ));
+        );
+        // An allowed page may read the refusal (and tell its user to fix the token).
+        if let Some(o) = &origin {
+            add_cors(&mut r, o);
+        }
+        return Err(Box::new(r));
     }
     if req.method() == http::Method::POST {
         if req.uri().path() == "/columns" {
@@ -816,6 +831,9 @@ where
     fn call(&mut self, req: HttpRequest) -> Self::Future {
         let is_get = req.method() == http::Method::GET || req.method() == http::Method::HEAD;
         if is_get && !jsonrpsee::server::ws::is_upgrade_request(&req) {
+            if let Some(r) = super::addin::answer(&req) {
+                return Box::pin(async move { Ok(r) });
+            }
             if let Some(r) = route(req.uri().path(), req.uri().query()) {
                 return Box::pin(async move { Ok(answer(r).await) });
             }
