@@ -31,7 +31,8 @@ const REPO = resolve(CLIENTS, "..");
 const BIN = resolve(process.env.STEAMCELL_BIN || join(REPO, "target", "debug", "steamcell"));
 const CHROMIUM = process.env.CHROMIUM || "/usr/bin/chromium";
 const SITE = join(REPO, "examples", "site", "site.json");
-const CASES = JSON.parse(readFileSync(join(CLIENTS, "sheet-cases.json"), "utf8")).cases;
+const ALL_CASES = JSON.parse(readFileSync(join(CLIENTS, "sheet-cases.json"), "utf8"));
+const CASES = ALL_CASES.cases;
 const BENCH = process.argv.includes("--bench");
 
 let passed = 0;
@@ -228,6 +229,35 @@ async function checkCases(page, server) {
   }
 }
 
+async function checkArgumentRules(page) {
+  // The same options texts and name/value pairs the Calc add-in's unit test takes.
+  const out = await page.evaluate(([options, pairs]) => {
+    const api = window.SteamcellFunctions;
+    const run = (f) => { try { return { value: f() }; } catch (e) { return { error: e.message }; } };
+    return {
+      options: options.map((c) => run(() => api.parseOptions(c.text))),
+      pairs: pairs.map((c) => run(() => api.pairsToParams(c.args))),
+    };
+  }, [ALL_CASES.options, ALL_CASES.pairs]);
+  const same = (a, b) => JSON.stringify(sortKeys(a)) === JSON.stringify(sortKeys(b));
+  ALL_CASES.options.forEach((c, i) => {
+    const r = out.options[i];
+    if (c.error) check(`options ${JSON.stringify(c.text)}: refused, '${c.error}'`, r.error && r.error.includes(c.error), JSON.stringify(r));
+    else check(`options ${JSON.stringify(c.text)}`, r.value && same(r.value, c.params), JSON.stringify(r));
+  });
+  ALL_CASES.pairs.forEach((c, i) => {
+    const r = out.pairs[i];
+    if (c.error) check(`pairs ${JSON.stringify(c.args)}: refused, '${c.error}'`, r.error && r.error.includes(c.error), JSON.stringify(r));
+    else check(`pairs ${JSON.stringify(c.args)}`, r.value && same(r.value, c.params), JSON.stringify(r));
+  });
+}
+
+function sortKeys(v) {
+  if (Array.isArray(v)) return v.map(sortKeys);
+  if (v && typeof v === "object") return Object.fromEntries(Object.keys(v).sort().map((k) => [k, sortKeys(v[k])]));
+  return v;
+}
+
 function mixedCalls(n) {
   // One sheet of property cells, four input pairs in turn (engineering preset: MPa, degC, kJ/kg).
   const calls = [];
@@ -375,6 +405,7 @@ async function main() {
     const names = await page.evaluate(() => Object.keys(window.CustomFunctions.associated).sort());
     const want = JSON.parse(readFileSync(join(EXCEL, "functions.json"), "utf8")).functions.map((f) => f.id).sort();
     check("every function of functions.json is associated", JSON.stringify(names) === JSON.stringify(want), names.join(","));
+    await checkArgumentRules(page);
     await checkCases(page, server);
     check("the browser's CORS preflight was answered 204 with this origin allowed",
       preflights.length >= 1 && preflights.every((r) => r.status === 204 && r.headers["access-control-allow-origin"] === origin),

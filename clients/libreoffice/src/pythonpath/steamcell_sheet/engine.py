@@ -166,9 +166,11 @@ class Engine:
             self.site_error = e.message
             self._spawn(binary, [])
 
-    def _spawn(self, binary: str, sites) -> None:
+    def _spawn(self, binary: str, sites, stop_flag: bool = True) -> None:
         token = secrets.token_hex(24)
-        args = [binary, "serve", "--listen", "127.0.0.1:0", "--stop-on-stdin-eof"]
+        args = [binary, "serve", "--listen", "127.0.0.1:0"]
+        if stop_flag:
+            args.append("--stop-on-stdin-eof")
         for name, path in sites:
             args += ["--site", f"{name}={path}"]
         env = dict(os.environ)
@@ -194,6 +196,9 @@ class Engine:
             self._log.seek(0)
             said = self._log.read().decode("utf-8", "replace").strip().splitlines()
             reason = said[-1] if said else (line.strip() or "no answer")
+            if stop_flag and any("--stop-on-stdin-eof" in x for x in said):
+                # an older steamcell: it then stops with the spreadsheet only when told to
+                return self._spawn(binary, sites, stop_flag=False)
             raise CellError(f"the steamcell engine '{binary}' did not start: {reason}", "engine")
         self.child = child
         self.url = "http://" + line.split("http://", 1)[1].split()[0]
