@@ -15,6 +15,7 @@ import base64
 import json
 import math
 import sys
+import threading
 import urllib.parse
 
 from . import cells
@@ -43,32 +44,34 @@ class Sheet:
         self._engine_key = None
         self._cache = {}
         self._schema_methods = None
-        self.last_start_error = None
+        self._lock = threading.RLock()
 
     # ------------------------------------------------------------------ the engine
 
     def _engine(self) -> Engine:
-        settings: Settings = self._settings_source()
-        key = settings.key()
-        if self.engine is not None and (key != self._engine_key or not self.engine.alive()):
-            self.close()
-        if self.engine is None:
-            engine = Engine(settings)
-            try:
-                engine.start()
-            except CellError:
-                engine.close()
-                raise
-            self.engine, self._engine_key = engine, key
-        return self.engine
+        with self._lock:
+            settings: Settings = self._settings_source()
+            key = settings.key()
+            if self.engine is not None and (key != self._engine_key or not self.engine.alive()):
+                self.close()
+            if self.engine is None:
+                engine = Engine(settings)
+                try:
+                    engine.start()
+                except CellError:
+                    engine.close()
+                    raise
+                self.engine, self._engine_key = engine, key
+            return self.engine
 
     def close(self) -> None:
-        if self.engine is not None:
-            self.engine.close()
-        self.engine = None
-        self._engine_key = None
-        self._cache.clear()
-        self._schema_methods = None
+        with self._lock:
+            if self.engine is not None:
+                self.engine.close()
+            self.engine = None
+            self._engine_key = None
+            self._cache.clear()
+            self._schema_methods = None
 
     def call(self, method: str, params):
         """One engine call, answered from the cache when asked before (errors included)."""
