@@ -25,7 +25,7 @@
 
   var FUNCTIONS = global.STEAMCELL_FUNCTIONS || [];
   var PREFIX = global.STEAMCELL_PREFIX || "SC";
-  var WINDOW_MS = 25;
+  var WINDOW_MS = 100; // the window of the documented pattern: calls of one recalculation arrive in bursts
   var MAX_BATCH = 1000; // the server's default --max-batch-requests
   var CALL_TIMEOUT_MS = 60000;
   var CACHE_ENTRIES = 50000;

@@ -21,10 +21,8 @@ import secrets
 import shutil
 import socket
 import subprocess
-import sys
 import tempfile
 import threading
-import time
 import urllib.parse
 from dataclasses import dataclass, field
 
