@@ -249,6 +249,26 @@ def set_options_through_page(office: Office, values: dict) -> bool:
     return check("the options page stores the options in the profile", ok and stored == values, f"{stored}")
 
 
+def check_function_wizard(office: Office) -> None:
+    """The Function Wizard's list (com.sun.star.sheet.FunctionDescriptions) shows every function
+    with the description and parameter help of clients/functions.json."""
+    descriptions = office.smgr.createInstanceWithContext("com.sun.star.sheet.FunctionDescriptions", office.ctx)
+    shown = {}
+    for i in range(descriptions.getCount()):
+        entry = {p.Name: p.Value for p in descriptions.getByIndex(i)}
+        shown[entry.get("Name", "").upper()] = entry
+    for f in SPEC["functions"]:
+        name = f"{SPEC['prefix']}.{f['name']}"
+        entry = shown.get(name)
+        if not check(f"Function Wizard lists {name}", entry is not None, "not listed"):
+            continue
+        check(f"Function Wizard: {name}'s description", entry.get("Description") == f["description"],
+              repr(entry.get("Description")))
+        args = [(a.Name, a.Description) for a in entry.get("Arguments", ())]
+        want = [(p["name"], p["help"] + (" (optional)" if p.get("optional") else "")) for p in f["params"]]
+        check(f"Function Wizard: {name}'s parameters and their help", args == want, f"{args}")
+
+
 def set_options(office: Office, values: dict) -> None:
     access = office.config("/org.steamcell.calc.Settings/Engine", update=True)
     for name, value in values.items():
@@ -532,6 +552,7 @@ def main() -> int:
         if not install(oxt, profile_a):
             return 1
         office = Office(profile_a, {})
+        check_function_wizard(office)
         set_options_through_page(office, {"EngineBinary": BIN, "Sites": f"mill={SITE_FILE}"})
         doc = office.load(example)
         doc.calculateAll()
