@@ -1,6 +1,8 @@
 #!/usr/bin/env bash
-# Tests of the clients: the Python package (pytest, in a venv at .venv) and the spreadsheet
-# end-to-end test (LibreOffice Calc headless through Debian's python3-uno).
+# Tests of the clients: the Python package (pytest, in a venv at .venv), the stdio guide, the
+# spreadsheet add-ins (generated files in step with clients/functions.json, argument rules, the
+# LibreOffice Calc extension end to end, the Excel functions in headless Chromium) and the URL
+# workbook (LibreOffice Calc headless through Debian's python3-uno).
 # Usage: STEAMCELL_BIN=target/debug/steamcell bash clients/run-tests.sh   (from anywhere)
 # Works on a fresh Debian machine as root: installs the Debian packages it needs.
 set -euo pipefail
@@ -45,8 +47,37 @@ set -e
 if [ "$rc" = 5 ]; then echo "pytest ran no test: failure" >&2; exit 1; fi
 if [ "$rc" != 0 ]; then echo "python client tests failed (pytest exit $rc)" >&2; exit "$rc"; fi
 
+echo "== clients: spreadsheet add-ins: generated files match clients/functions.json"
+python3 clients/generate.py --check
+
+echo "== clients: spreadsheet add-ins: argument rules (pytest)"
+set +e
+"$ROOT/.venv/bin/python" -m pytest -q -p no:cacheprovider clients/libreoffice/tests
+rc=$?
+set -e
+if [ "$rc" != 0 ]; then echo "add-in argument rule tests failed (pytest exit $rc)" >&2; exit 1; fi
+
 echo "== clients: spreadsheet end-to-end (LibreOffice Calc headless)"
-if ! command -v soffice >/dev/null 2>&1 || ! /usr/bin/python3 -c "import uno" >/dev/null 2>&1; then
-  apt_install libreoffice-calc-nogui python3-uno
+# libreoffice-dev brings unoidl-write, which builds the Calc extension's type library.
+if ! command -v soffice >/dev/null 2>&1 || ! /usr/bin/python3 -c "import uno" >/dev/null 2>&1 \
+   || [ ! -x /usr/lib/libreoffice/sdk/bin/unoidl-write ]; then
+  apt_install libreoffice-calc-nogui python3-uno libreoffice-dev
 fi
 timeout 300 /usr/bin/python3 clients/spreadsheet/test_workbook.py
+
+echo "== clients: LibreOffice Calc extension end-to-end (build, unopkg, recalculate, reopen)"
+timeout 600 /usr/bin/python3 clients/libreoffice/test_extension.py
+
+echo "== clients: Excel add-in functions in headless Chromium against the server"
+if ! command -v chromium >/dev/null 2>&1; then
+  apt_install chromium
+fi
+if ! command -v node >/dev/null 2>&1 || ! command -v npm >/dev/null 2>&1; then
+  apt_install nodejs npm
+fi
+if [ "$(node -p 'process.versions.node.split(".")[0]')" -lt 20 ]; then
+  echo "the Excel add-in test needs Node.js 20 or later (playwright-core); found $(node --version)" >&2
+  exit 1
+fi
+(cd clients/excel/test && npm ci --no-audit --no-fund --loglevel=error)
+timeout 300 node clients/excel/test/browser_test.mjs

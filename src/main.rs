@@ -138,6 +138,11 @@ struct ServeArgs {
     /// holding the `network` of balance.solve. Each is read and solved at start.
     #[arg(long, value_name = "NAME=FILE")]
     site: Vec<String>,
+    /// Stop when standard input reaches its end: for a program (a spreadsheet add-in) that
+    /// starts the server as its child and holds its stdin, so that the server ends with it
+    /// even when that program is killed.
+    #[arg(long)]
+    stop_on_stdin_eof: bool,
 }
 
 impl ServeArgs {
@@ -218,6 +223,9 @@ fn main() -> ExitCode {
                     return ExitCode::from(1);
                 }
             };
+            if args.stop_on_stdin_eof {
+                stop_on_stdin_eof();
+            }
             match runtime().and_then(|rt| rt.block_on(steamcell::server::serve(&cfg))) {
                 Ok(()) => ExitCode::SUCCESS,
                 Err(e) => {
@@ -287,6 +295,16 @@ fn main() -> ExitCode {
             }
         }
     }
+}
+
+/// Ends the process once standard input reaches its end (or fails): the parent that holds it
+/// has closed it or is gone. Nothing is in flight that anyone still waits for.
+fn stop_on_stdin_eof() {
+    std::thread::spawn(|| {
+        let _ = std::io::copy(&mut std::io::stdin().lock(), &mut std::io::sink());
+        tracing::info!("standard input closed: stopping (--stop-on-stdin-eof)");
+        std::process::exit(0);
+    });
 }
 
 /// Prints a result line; a closed pipe (e.g. `| head`) ends quietly instead of panicking.

@@ -8,7 +8,9 @@ times out a hung web call:
 Steps: start `steamcell serve` on a free port; copy the workbook into a temporary folder that a
 fresh LibreOffice profile trusts (SecureURL); start soffice with a UNO socket; load the document
 with full link update; write the server's port into the port cell; calculateAll(); read the
-cells; compare them with the server's JSON-RPC answers and with a published value. Prints
+cells; compare them with the server's JSON-RPC answers and with a published value; save a
+copy and reopen it on fresh profiles with and without the two settings the README names
+(trusted location, update links always): live values with them, Err:540 without. Prints
 'N passed, N failed' and exits non-zero on any failure.
 """
 
@@ -39,6 +41,7 @@ RESULTS = {"passed": 0, "failed": 0}
 def check(name, ok, detail=""):
     RESULTS["passed" if ok else "failed"] += 1
     print(("PASS " if ok else "FAIL ") + name + (f": {detail}" if detail else ""), flush=True)
+    return ok
 
 
 def close_to(a, b, rel=1e-9, abs_=0.0):
@@ -51,18 +54,94 @@ def free_port():
         return s.getsockname()[1]
 
 
-def trusted_profile(profile: Path, doc_dir: Path) -> None:
+def trusted_profile(profile: Path, doc_dir: Path, trusted: bool = True,
+                    links_always: bool = False) -> None:
+    """A fresh profile; `trusted`: the document's folder is a trusted file location (Tools >
+    Options > LibreOffice > Security > Macro Security > Trusted Sources > Trusted File
+    Locations); `links_always`: Tools > Options > LibreOffice Calc > General > Update links when
+    opening: Always. These are the two settings the README names."""
     user = profile / "user"
     user.mkdir(parents=True, exist_ok=True)
+    items = []
+    if trusted:
+        items.append('<item oor:path="/org.openoffice.Office.Common/Security/Scripting">'
+                     '<prop oor:name="SecureURL" oor:op="fuse"><value>'
+                     f'<it>{doc_dir.as_uri()}</it></value></prop></item>\n')
+    if links_always:
+        items.append('<item oor:path="/org.openoffice.Office.Calc/Content/Update">'
+                     '<prop oor:name="Link" oor:op="fuse"><value>0</value></prop></item>\n')
     (user / "registrymodifications.xcu").write_text(
         '<?xml version="1.0" encoding="UTF-8"?>\n'
         '<oor:items xmlns:oor="http://openoffice.org/2001/registry" '
         'xmlns:xs="http://www.w3.org/2001/XMLSchema" '
         'xmlns:xsi="http://www.w3.org/2001/XMLSchema-instance">\n'
-        '<item oor:path="/org.openoffice.Office.Common/Security/Scripting">'
-        '<prop oor:name="SecureURL" oor:op="fuse"><value>'
-        f'<it>{doc_dir.as_uri()}</it></value></prop></item>\n'
-        '</oor:items>\n', encoding="utf-8")
+        + "".join(items) + '</oor:items>\n', encoding="utf-8")
+
+
+def start_office(profile: Path):
+    """soffice on `profile` with a UNO socket: (process, desktop)."""
+    uno_port = free_port()
+    office = subprocess.Popen(
+        [SOFFICE, f"-env:UserInstallation={profile.as_uri()}", "--headless", "--invisible",
+         "--nologo", "--norestore", "--nodefault", "--nolockcheck",
+         f"--accept=socket,host=127.0.0.1,port={uno_port};urp;"],
+        stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    try:
+        return office, connect_uno(uno_port, time.time() + 60)
+    except Exception:
+        office.kill()
+        office.wait(10)
+        raise
+
+
+def stop_office(office, desktop, doc=None) -> None:
+    try:
+        if doc is not None:
+            doc.close(True)
+    except Exception:
+        pass
+    try:
+        desktop.terminate()
+    except Exception:
+        pass
+    try:
+        office.wait(timeout=15)
+    except subprocess.TimeoutExpired:
+        office.kill()
+        office.wait(timeout=10)
+
+
+def reopen_checks(saved: Path, tmp: Path, server) -> None:
+    """The saved copy, reopened as a user opens it (links updated as the profile says), on a
+    fresh profile with the README's two settings, and on one without them (Err:540)."""
+    for name, settings in (("with the README's settings", True), ("without them", False)):
+        profile = tmp / f"profile-reopen-{'set' if settings else 'plain'}"
+        trusted_profile(profile, saved.parent, trusted=settings, links_always=settings)
+        office, desktop = start_office(profile)
+        doc = None
+        try:
+            # UpdateDocMode 2 = ACCORDING_TO_CONFIG: what opening the file in the program does
+            doc = desktop.loadComponentFromURL(saved.as_uri(), "_blank", 0,
+                                               (prop("Hidden", True), prop("UpdateDocMode", 2)))
+            sheet = doc.Sheets.getByName("Site")
+            h1 = sheet.getCellRangeByName(make_workbook.CELLS["h1"])
+            if settings:
+                want = server.state(p="42 barg", T="410 degC").h
+                check("reopened with the README's settings: h1 is live at load",
+                      h1.getError() == 0 and close_to(h1.getValue(), want), f"{h1.getString()} vs {want!r}")
+                sheet.getCellRangeByName(make_workbook.CELLS["T1"]).setValue(420)
+                doc.calculateAll()
+                want = server.state(p="42 barg", T="420 degC").h
+                check("reopened with the README's settings: a new input recalculates through the server",
+                      h1.getError() == 0 and close_to(h1.getValue(), want), f"{h1.getString()} vs {want!r}")
+            else:
+                doc.calculateAll()
+                check("reopened without them: Err:540 (external content disabled)",
+                      h1.getError() == 540, f"{h1.getError()} {h1.getString()}")
+        finally:
+            stop_office(office, desktop, doc)
+            for lock in saved.parent.glob(".~lock.*#"):
+                lock.unlink()
 
 
 def connect_uno(port: int, deadline: float):
@@ -219,6 +298,10 @@ def main() -> int:
         p1 = site_check(44, 43.2)
         check("a new demand changes the site answer", p0 != p1, f"{p0} -> {p1}")
 
+        # a copy saved with the live port, for the reopening checks
+        saved = doc_dir / "site-steam-saved.ods"
+        doc.storeToURL(saved.as_uri(), (prop("FilterName", "calc8"),))
+
         # a refused connection gives an error cell, not a stale number
         cell("port").setValue(free_port())
         doc.calculateAll()
@@ -239,9 +322,14 @@ def main() -> int:
         except subprocess.TimeoutExpired:
             office.kill()
             office.wait(timeout=10)
-        server.close()
         for lock in doc_dir.glob(".~lock.*#"):
             lock.unlink()
+    try:
+        saved = doc_dir / "site-steam-saved.ods"
+        if check("a copy was saved", saved.is_file()):
+            reopen_checks(saved, tmp, server)
+    finally:
+        server.close()
         shutil.rmtree(tmp, ignore_errors=True)
     print(f"{RESULTS['passed']} passed, {RESULTS['failed']} failed")
     return 0 if RESULTS["failed"] == 0 and RESULTS["passed"] > 0 else 1

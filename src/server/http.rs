@@ -25,6 +25,8 @@
 //!   [`crate::api::cell`]: the route's `water.state` call runs through the call path.
 //! - `GET /site/{name}/{quantity}?{path=value...}` -> a number of a registered site's balance
 //!   (text/plain), see [`crate::api::site`]; the (cached) solve runs through the call path.
+//! - `GET /addin/...` -> the Excel add-in's files, public like `/health` (see
+//!   [`super::addin`], which also adds the private-network answer to an allowed preflight).
 //! - `POST /columns` -> packed columns, see [`crate::api::columns`]; through the call path.
 //!
 //! Statuses: a call's answer inside a JSON-RPC response (result or error, including the
@@ -341,6 +343,8 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     }
     let origin = match req.headers().get(http::header::ORIGIN) {
         None => None,
+        // A page this server served itself (the add-in's files) calls it from its own origin.
+        Some(v) if super::addin::is_same_origin(req, v.to_str().unwrap_or("")) => None,
         Some(v) => {
             let o = v.to_str().unwrap_or("").to_string();
             if !config.origin_allowed(&o) {
@@ -356,7 +360,11 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     };
     if req.method() == http::Method::OPTIONS {
         return match origin {
-            Some(o) => Err(Box::new(preflight(&o))),
+            Some(o) => {
+                let mut answer = preflight(&o);
+                super::addin::allow_private_network(req, &mut answer);
+                Err(Box::new(answer))
+            }
             None => Err(deny_b(
                 405,
                 "OPTIONS is answered only for a CORS preflight".into(),
@@ -365,11 +373,18 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     }
     let health = (req.method() == http::Method::GET || req.method() == http::Method::HEAD)
         && req.uri().path() == "/health";
-    if !health && !config.token_ok(req) {
-        return Err(deny_b(
+    // The add-in's files hold no secret and a browser loads them without a token.
+    let public = health || super::addin::is_addin_request(req);
+    if !public && !config.token_ok(req) {
+        let mut r = deny(
             401,
             "missing or wrong token: send Authorization: Bearer <token>".to_string(),
-        ));
+        );
+        // An allowed page may read the refusal (and tell its user to fix the token).
+        if let Some(o) = &origin {
+            add_cors(&mut r, o);
+        }
+        return Err(Box::new(r));
     }
     if req.method() == http::Method::POST {
         if req.uri().path() == "/columns" {
@@ -420,6 +435,11 @@ where
         let mut inner = std::mem::replace(&mut self.inner, clone);
         let upgrade = jsonrpsee::server::ws::is_upgrade_request(&req);
         let is_get = req.method() == http::Method::GET || req.method() == http::Method::HEAD;
+        if is_get && !upgrade {
+            if let Some(r) = super::addin::answer(&req) {
+                return Box::pin(async move { Ok(r) });
+            }
+        }
         let get_route = if is_get && !upgrade {
             route(req.uri().path(), req.uri().query(), ctx.sites())
         } else {

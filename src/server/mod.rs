@@ -20,6 +20,7 @@
 //! Invariant: the server prints exactly one line to stdout when it listens (see
 //! [`listening_line`]); everything else it says goes to stderr through `tracing`.
 
+pub mod addin;
 pub mod audit;
 pub mod http;
 pub mod stdio;

@@ -8,6 +8,7 @@
 mod common;
 mod reference;
 
+mod addin_routes;
 mod api;
 mod api_props95;
 mod bad_input;
