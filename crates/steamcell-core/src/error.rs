@@ -5,6 +5,7 @@
 //! a period. Values inside errors are in SI-free internal units only when the variant says so;
 //! the API layer re-states them in the caller's units where it can.
 
+use crate::plant::balance::Diagnosis;
 use std::fmt;
 
 /// Which side of a limit a value fell on.
@@ -86,6 +87,12 @@ pub enum Error {
     Infeasible {
         /// One-line explanation.
         message: String,
+    },
+    /// A site network is under- or over-specified (refused before solving): what is missing,
+    /// given twice or contradictory, per unit and stream, as data.
+    Specification {
+        /// The degree-of-freedom diagnosis.
+        diagnosis: Box<Diagnosis>,
     },
 }
 
@@ -211,6 +218,7 @@ impl fmt::Display for Error {
                 fmt_num(*limit)
             ),
             Error::Infeasible { message } => write!(f, "{message}"),
+            Error::Specification { diagnosis } => write!(f, "{diagnosis}"),
         }
     }
 }

@@ -8,7 +8,7 @@
 
 #![allow(clippy::needless_range_loop, clippy::collapsible_match)] // stream-indexed loops; one arm per unit kind
 
-use super::dof::{self, Row};
+use super::dof::{self, Of, Row};
 use super::*;
 use crate::error::{Error, Result};
 use crate::plant::components::{self as c, moisture, TurbineSpec};
@@ -78,12 +78,18 @@ struct Net<'a> {
     to: Vec<usize>,
     fixed: Vec<Option<FixedState>>,
     p: Vec<f64>,
+    /// Who fixed each stream's pressure.
+    p_source: Vec<Source>,
     /// Flash vapour fraction per unit (0 for others).
     flash_x: Vec<f64>,
 }
 
 fn label(net: &Net, u: usize) -> String {
     format!("{} {}", net.units[u].kind(), net.un[u])
+}
+
+fn uref(net: &Net, u: usize) -> UnitRef {
+    UnitRef::new(net.un[u], net.units[u].kind())
 }
 
 fn find_port(
@@ -335,12 +341,13 @@ fn build(network: &Network) -> Result<Net<'_>> {
         to,
         fixed,
         p: vec![f64::NAN; ns],
+        p_source: vec![Source::Missing; ns],
         flash_x: vec![0.0; nu],
     })
 }
 
 /// Checks which unit or stream fixes each state; collects under- and over-specifications.
-fn check_states(net: &Net, under: &mut Vec<String>, over: &mut Vec<String>) {
+fn check_states(net: &Net, under: &mut Vec<Finding>, over: &mut Vec<Finding>) {
     for (s, f) in net.fixed.iter().enumerate() {
         if f.is_none() {
             continue;
@@ -363,15 +370,16 @@ fn check_states(net: &Net, under: &mut Vec<String>, over: &mut Vec<String>) {
                 Unit::Boiler { .. } => "saturation in the drum (blowdown)",
                 _ => "the unit",
             };
-            over.push(format!(
-                "stream {}: its state is set by {} ({why}); remove its T/h/x",
-                net.sn[s],
-                label(net, u)
-            ));
+            over.push(Finding::StateSetBySource {
+                stream: net.sn[s].to_string(),
+                unit: uref(net, u),
+                by: why,
+            });
         }
     }
     for (u, unit) in net.units.iter().enumerate() {
-        let n = net.un[u];
+        let n = uref(net, u);
+        let sn = |s: usize| net.sn[s].to_string();
         match (unit, &net.ports[u]) {
             (
                 Unit::Boiler {
@@ -381,29 +389,41 @@ fn check_states(net: &Net, under: &mut Vec<String>, over: &mut Vec<String>) {
             ) => {
                 let sf = net.fixed[*steam].is_some();
                 if t.is_some() && sf {
-                    over.push(format!("boiler {n}: the steam temperature is given both as T of the boiler and on stream {}; keep one", net.sn[*steam]));
+                    over.push(Finding::SteamTemperatureTwice {
+                        unit: n.clone(),
+                        stream: sn(*steam),
+                    });
                 }
                 if t.is_none() && !sf {
-                    under.push(format!("boiler {n}: give the steam temperature T of boiler {n} (or T on its steam stream {})", net.sn[*steam]));
+                    under.push(Finding::MissingSteamTemperature {
+                        unit: n.clone(),
+                        stream: sn(*steam),
+                    });
                 }
                 if efficiency.is_none() {
-                    under.push(format!("boiler {n}: give the boiler efficiency (heat to steam over fuel heat input, from the plant's test data)"));
+                    under.push(Finding::MissingBoilerEfficiency { unit: n.clone() });
                 }
                 if let (Some(a), Some(b)) = (p, net.streams[*steam].p) {
                     if (a - b).abs() > 1e-9 * a {
-                        over.push(format!("boiler {n}: the steam pressure is given as p of the boiler and differently on stream {}; keep one", net.sn[*steam]));
+                        over.push(Finding::SteamPressureConflict {
+                            unit: n.clone(),
+                            stream: sn(*steam),
+                        });
                     }
                 }
             }
             (Unit::Turbine { efficiency, .. }, Ports::Turbine { order, .. }) => {
                 if efficiency.is_none() {
-                    let open: Vec<&str> = order
+                    let open: Vec<String> = order
                         .iter()
                         .filter(|&&s| net.fixed[s].is_none())
-                        .map(|&s| net.sn[s])
+                        .map(|&s| sn(s))
                         .collect();
                     if !open.is_empty() {
-                        under.push(format!("turbine {n}: give its isentropic efficiency, or the measured T of outlet stream(s) {}", open.join(", ")));
+                        under.push(Finding::MissingTurbineEfficiency {
+                            unit: n.clone(),
+                            outlets: open,
+                        });
                     }
                 }
             }
@@ -412,15 +432,21 @@ fn check_states(net: &Net, under: &mut Vec<String>, over: &mut Vec<String>) {
                     efficiency: None, ..
                 },
                 _,
-            ) => under.push(format!("pump {n}: give its efficiency")),
+            ) => under.push(Finding::MissingPumpEfficiency { unit: n.clone() }),
             (Unit::Desuperheater { t, superheat, .. }, Ports::Desup { out, .. }) => {
                 let k = t.is_some() as usize
                     + superheat.is_some() as usize
                     + net.fixed[*out].is_some() as usize;
                 if k == 0 {
-                    under.push(format!("desuperheater {n}: give its target temperature T or its target superheat (or T on its outlet stream {})", net.sn[*out]));
+                    under.push(Finding::MissingDesuperheaterTarget {
+                        unit: n.clone(),
+                        stream: sn(*out),
+                    });
                 } else if k > 1 {
-                    over.push(format!("desuperheater {n}: give only one of target T, target superheat and T on its outlet stream {}", net.sn[*out]));
+                    over.push(Finding::DesuperheaterTargetTwice {
+                        unit: n.clone(),
+                        stream: sn(*out),
+                    });
                 }
             }
             (
@@ -429,13 +455,14 @@ fn check_states(net: &Net, under: &mut Vec<String>, over: &mut Vec<String>) {
                 | Unit::Flash { p: None, .. }
                 | Unit::Condenser { p: None },
                 _,
-            ) => under.push(format!("{} {n}: give its pressure p", unit.kind())),
+            ) => under.push(Finding::MissingPressure { unit: n.clone() }),
             (Unit::Exchanger { .. }, Ports::Exchanger { ho, co, .. }) => {
                 if net.fixed[*ho].is_none() && net.fixed[*co].is_none() {
-                    under.push(format!(
-                        "exchanger {n}: give the outlet temperature of stream {} or of stream {}",
-                        net.sn[*ho], net.sn[*co]
-                    ));
+                    under.push(Finding::MissingExchangerOutlet {
+                        unit: n.clone(),
+                        hot_out: sn(*ho),
+                        cold_out: sn(*co),
+                    });
                 }
             }
             (
@@ -447,33 +474,55 @@ fn check_states(net: &Net, under: &mut Vec<String>, over: &mut Vec<String>) {
                 Ports::User { ret, inlet },
             ) => {
                 if !(0.0..=1.0).contains(return_fraction) {
-                    over.push(format!(
-                        "user {n}: return_fraction = {return_fraction} is outside 0..1"
-                    ));
+                    over.push(Finding::OutOfRange {
+                        unit: n.clone(),
+                        quantity: "return_fraction",
+                        value: *return_fraction,
+                        low: 0.0,
+                        high: 1.0,
+                        interval: Interval::Closed,
+                    });
                 }
                 if let Some(d) = demand {
                     if net.streams[*inlet].flow.is_some() {
-                        over.push(format!("user {n}: the steam demand is given both as demand and as the flow of stream {}; keep one", net.sn[*inlet]));
+                        over.push(Finding::DemandTwice {
+                            unit: n.clone(),
+                            stream: sn(*inlet),
+                        });
                     } else if *d < 0.0 {
-                        over.push(format!("user {n}: demand = {d} kg/s is negative"));
+                        over.push(Finding::NegativeDemand {
+                            unit: n.clone(),
+                            value: *d,
+                        });
                     }
                 }
                 match ret {
                     None => {
                         if *return_fraction > 0.0 {
-                            over.push(format!("user {n}: return_fraction = {return_fraction} but no condensate stream leaves user {n}; add a stream from {n} or set return_fraction 0"));
+                            over.push(Finding::ReturnWithoutStream {
+                                unit: n.clone(),
+                                return_fraction: *return_fraction,
+                            });
                         }
                         if return_t.is_none() {
-                            under.push(format!("user {n}: give the condensate temperature return_T (for the lost condensate)"));
+                            under.push(Finding::MissingLostCondensateTemperature {
+                                unit: n.clone(),
+                            });
                         }
                     }
                     Some(r) => {
                         let sf = net.fixed[*r].is_some();
                         if return_t.is_some() && sf {
-                            over.push(format!("user {n}: the condensate temperature is given both as return_T and on stream {}; keep one", net.sn[*r]));
+                            over.push(Finding::ReturnTemperatureTwice {
+                                unit: n.clone(),
+                                stream: sn(*r),
+                            });
                         }
                         if return_t.is_none() && !sf {
-                            under.push(format!("user {n}: give the condensate return temperature return_T (or T on stream {})", net.sn[*r]));
+                            under.push(Finding::MissingReturnTemperature {
+                                unit: n.clone(),
+                                stream: sn(*r),
+                            });
                         }
                     }
                 }
@@ -482,10 +531,16 @@ fn check_states(net: &Net, under: &mut Vec<String>, over: &mut Vec<String>) {
                 for &o in &net.outs[u] {
                     let sf = net.fixed[o].is_some();
                     if t.is_some() && sf {
-                        over.push(format!("makeup {n}: the water temperature is given both as T of the make-up and on stream {}; keep one", net.sn[o]));
+                        over.push(Finding::MakeupTemperatureTwice {
+                            unit: n.clone(),
+                            stream: sn(o),
+                        });
                     }
                     if t.is_none() && !sf {
-                        under.push(format!("makeup {n}: give the make-up water temperature T"));
+                        under.push(Finding::MissingMakeupTemperature {
+                            unit: n.clone(),
+                            stream: sn(o),
+                        });
                     }
                 }
             }
@@ -534,21 +589,22 @@ fn dest_p(net: &Net, s: usize) -> Option<f64> {
     }
 }
 
-fn resolve_pressures(net: &mut Net, under: &mut Vec<String>, over: &mut Vec<String>) {
+fn resolve_pressures(net: &mut Net, under: &mut Vec<Finding>, over: &mut Vec<Finding>) {
     let ns = net.sn.len();
     for s in 0..ns {
         if let Some(p) = net.streams[s].p {
             if let Some(q) = src_p(net, s) {
                 let u = net.from[s];
                 if (p - q).abs() > 1e-9 * q && !matches!(net.units[u], Unit::Boiler { .. }) {
-                    over.push(format!(
-                        "stream {}: its pressure is set by {} ({q} MPa); remove p from the stream",
-                        net.sn[s],
-                        label(net, u)
-                    ));
+                    over.push(Finding::PressureSetBySource {
+                        stream: net.sn[s].to_string(),
+                        unit: uref(net, u),
+                        p: q,
+                    });
                 }
             }
             net.p[s] = p;
+            net.p_source[s] = Source::Stream;
         }
     }
     for _ in 0..ns + 2 {
@@ -557,8 +613,14 @@ fn resolve_pressures(net: &mut Net, under: &mut Vec<String>, over: &mut Vec<Stri
             if net.p[s].is_finite() {
                 continue;
             }
-            let mut v = src_p(net, s).or_else(|| dest_p(net, s));
+            let mut v = src_p(net, s);
+            let mut by = net.from[s];
             if v.is_none() {
+                v = dest_p(net, s);
+                by = net.to[s];
+            }
+            if v.is_none() {
+                by = net.from[s];
                 v = match net.units[net.from[s]] {
                     Unit::Makeup { .. } => Some(P_ATM),
                     Unit::User { .. } => {
@@ -580,6 +642,7 @@ fn resolve_pressures(net: &mut Net, under: &mut Vec<String>, over: &mut Vec<Stri
             }
             if let Some(v) = v {
                 net.p[s] = v;
+                net.p_source[s] = Source::Unit(net.un[by].to_string());
                 changed = true;
             }
         }
@@ -590,17 +653,16 @@ fn resolve_pressures(net: &mut Net, under: &mut Vec<String>, over: &mut Vec<Stri
     for s in 0..ns {
         let p = net.p[s];
         if !p.is_finite() {
-            under.push(format!(
-                "stream {}: its pressure is not fixed: give p on the stream or on {} or {}",
-                net.sn[s],
-                label(net, net.from[s]),
-                label(net, net.to[s])
-            ));
+            under.push(Finding::PressureNotFixed {
+                stream: net.sn[s].to_string(),
+                from: uref(net, net.from[s]),
+                to: uref(net, net.to[s]),
+            });
         } else if p <= 0.0 {
-            over.push(format!(
-                "stream {}: pressure {p} MPa is not positive",
-                net.sn[s]
-            ));
+            over.push(Finding::PressureNotPositive {
+                stream: net.sn[s].to_string(),
+                p,
+            });
         }
     }
 }
@@ -887,11 +949,11 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
     let mut bal = Vec::new();
     let mut spec = Vec::new();
     for (u, unit) in net.units.iter().enumerate() {
-        let lab = label(net, u);
+        let lab = Of::Unit(u);
         let ins = &net.ins[u];
         let outs = &net.outs[u];
         let mass = |extra: &[(usize, f64)]| {
-            let mut r = Row::new(lab.clone(), "mass balance");
+            let mut r = Row::new(lab, "mass balance");
             for &i in ins {
                 r.add(i, 1.0);
             }
@@ -916,20 +978,20 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
                 match bd {
                     Some(b) => {
                         bal.push(mass(&[]));
-                        let mut r = Row::new(lab.clone(), "blowdown fraction");
+                        let mut r = Row::new(lab, "blowdown fraction");
                         r.add(*b, 1.0);
                         r.add(*steam, -f / (1.0 - f));
                         bal.push(r);
                     }
                     None => {
-                        let mut r = Row::new(lab.clone(), "mass balance");
+                        let mut r = Row::new(lab, "mass balance");
                         r.add(*fw, 1.0);
                         r.add(*steam, -1.0 / (1.0 - f));
                         bal.push(r);
                     }
                 }
                 if let Some(v) = steam_flow {
-                    let mut r = Row::spec(lab.clone(), "steam flow");
+                    let mut r = Row::spec(lab, "steam flow");
                     r.add(*steam, 1.0);
                     r.rhs = *v;
                     spec.push(r);
@@ -938,7 +1000,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
             (Unit::Turbine { power, .. }, Ports::Turbine { inlet, order }) => {
                 bal.push(mass(&[]));
                 if let Some(pw) = power {
-                    let mut r = Row::spec(lab.clone(), "power");
+                    let mut r = Row::spec(lab, "power");
                     r.add(*inlet, h(st, *inlet));
                     for &o in order {
                         r.add(o, -h(st, o));
@@ -951,7 +1013,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
             | (Unit::Condenser { .. }, _) => bal.push(mass(&[])),
             (Unit::Desuperheater { .. }, _) => {
                 bal.push(mass(&[]));
-                let mut r = Row::new(lab.clone(), "energy balance");
+                let mut r = Row::new(lab, "energy balance");
                 for &i in ins {
                     r.add(i, h(st, i));
                 }
@@ -970,7 +1032,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
                 let hv = p.and_then(|p| sat_vapour(p).ok()).map(|s| s.props.h);
                 let lost = if vent.is_none() { f } else { 0.0 };
                 bal.push(mass(&[(*steam, -lost)]));
-                let mut r = Row::new(lab.clone(), "energy balance");
+                let mut r = Row::new(lab, "energy balance");
                 for &i in ins {
                     r.add(i, h(st, i));
                 }
@@ -982,7 +1044,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
                 }
                 bal.push(r);
                 if let (Some(v), Some(f)) = (vent, vent_fraction) {
-                    let mut r = Row::spec(lab.clone(), "vent fraction");
+                    let mut r = Row::spec(lab, "vent fraction");
                     r.add(*v, 1.0);
                     r.add(*steam, -f);
                     spec.push(r);
@@ -990,7 +1052,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
             }
             (Unit::Flash { .. }, Ports::Flash { vapour, .. }) => {
                 bal.push(mass(&[]));
-                let mut r = Row::new(lab.clone(), "flash split");
+                let mut r = Row::new(lab, "flash split");
                 r.add(*vapour, 1.0);
                 for &i in ins {
                     r.add(i, -net.flash_x[u]);
@@ -998,16 +1060,16 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
                 bal.push(r);
             }
             (Unit::Exchanger { .. }, Ports::Exchanger { hi, ho, ci, co }) => {
-                let mut r = Row::new(lab.clone(), "hot-side mass balance");
+                let mut r = Row::new(lab, "hot-side mass balance");
                 r.add(*hi, 1.0);
                 r.add(*ho, -1.0);
                 bal.push(r);
-                let mut r = Row::new(lab.clone(), "cold-side mass balance");
+                let mut r = Row::new(lab, "cold-side mass balance");
                 r.add(*ci, 1.0);
                 r.add(*co, -1.0);
                 bal.push(r);
                 if net.fixed[*ho].is_some() && net.fixed[*co].is_some() {
-                    let mut r = Row::new(lab.clone(), "energy balance");
+                    let mut r = Row::new(lab, "energy balance");
                     r.add(*hi, h(st, *hi) - h(st, *ho));
                     r.add(*ci, -(h(st, *co) - h(st, *ci)));
                     bal.push(r);
@@ -1022,13 +1084,13 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
                 Ports::User { inlet, ret },
             ) => {
                 if let Some(r0) = ret {
-                    let mut r = Row::new(lab.clone(), "condensate return fraction");
+                    let mut r = Row::new(lab, "condensate return fraction");
                     r.add(*r0, 1.0);
                     r.add(*inlet, -return_fraction);
                     bal.push(r);
                 }
                 if let Some(d) = demand {
-                    let mut r = Row::spec(lab.clone(), "steam demand");
+                    let mut r = Row::spec(lab, "steam demand");
                     r.add(*inlet, 1.0);
                     r.rhs = *d;
                     spec.push(r);
@@ -1039,7 +1101,7 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
     }
     for (s, sp) in net.streams.iter().enumerate() {
         if let Some(f) = sp.flow {
-            let mut r = Row::spec(format!("stream {}", net.sn[s]), "fixed flow");
+            let mut r = Row::spec(Of::Stream(s), "fixed flow");
             r.add(s, 1.0);
             r.rhs = f;
             spec.push(r);
@@ -1049,18 +1111,20 @@ fn rows(net: &Net, st: &[Option<State>]) -> Vec<Row> {
     bal
 }
 
-fn uniq(v: &mut Vec<String>, s: String) {
-    if !v.contains(&s) {
-        v.push(s);
+fn uniq<T: PartialEq>(v: &mut Vec<T>, x: T) {
+    if !v.contains(&x) {
+        v.push(x);
     }
 }
 
-fn list(names: &[&str]) -> String {
-    const MAX: usize = 10;
-    if names.len() > MAX {
-        format!("{} and {} more", names[..MAX].join(", "), names.len() - MAX)
-    } else {
-        names.join(", ")
+fn equation(net: &Net, row: &Row) -> Equation {
+    Equation {
+        owner: match row.owner {
+            Of::Unit(u) => Owner::Unit(uref(net, u)),
+            Of::Stream(s) => Owner::Stream(net.sn[s].to_string()),
+        },
+        what: row.what,
+        specification: row.spec,
     }
 }
 
@@ -1068,114 +1132,162 @@ fn flow_messages(
     net: &Net,
     rows: &[Row],
     a: &dof::Analysis,
-    under: &mut Vec<String>,
-    over: &mut Vec<String>,
+    under: &mut Vec<Finding>,
+    over: &mut Vec<Finding>,
 ) {
     let n = net.sn.len();
     let has_makeup = net.units.iter().any(|u| matches!(u, Unit::Makeup { .. }));
     let has_vent = net.units.iter().any(|u| matches!(u, Unit::Vent));
     if a.rank < n {
-        let und: Vec<&str> = a.undetermined.iter().map(|&s| net.sn[s]).collect();
-        let free: Vec<&str> = a.free.iter().map(|&s| net.sn[s]).collect();
+        let und: Vec<String> = a
+            .undetermined
+            .iter()
+            .map(|&s| net.sn[s].to_string())
+            .collect();
+        let free: Vec<String> = a.free.iter().map(|&s| net.sn[s].to_string()).collect();
         let mut hints = Vec::new();
         for &s in &a.undetermined {
             for u in [net.from[s], net.to[s]] {
-                let nm = net.un[u];
+                let nm = net.un[u].to_string();
                 match (net.units[u], &net.ports[u]) {
-                    (Unit::Turbine { power: None, .. }, _) => uniq(
-                        &mut hints,
-                        format!("give the steam flow of turbine {nm} (the flow of one of its streams) or its power"),
-                    ),
+                    (Unit::Turbine { power: None, .. }, _) => {
+                        uniq(&mut hints, FlowHint::TurbineFlow { unit: nm })
+                    }
                     (Unit::User { demand: None, .. }, Ports::User { inlet, .. }) if *inlet == s => {
-                        uniq(&mut hints, format!("give the steam demand of user {nm}"))
+                        uniq(&mut hints, FlowHint::UserDemand { unit: nm })
                     }
-                    (Unit::Boiler { steam_flow: None, .. }, Ports::Boiler { steam, .. })
-                        if *steam == s =>
-                    {
-                        uniq(&mut hints, format!("give the steam flow of boiler {nm}, or let a header or user downstream fix it"))
-                    }
+                    (
+                        Unit::Boiler {
+                            steam_flow: None, ..
+                        },
+                        Ports::Boiler { steam, .. },
+                    ) if *steam == s => uniq(&mut hints, FlowHint::BoilerSteamFlow { unit: nm }),
                     (Unit::Header { .. }, _) if net.outs[u].contains(&s) => {
-                        let os: Vec<&str> = net.outs[u]
+                        let os: Vec<String> = net.outs[u]
                             .iter()
                             .filter(|o| a.undetermined.contains(o))
-                            .map(|&o| net.sn[o])
+                            .map(|&o| net.sn[o].to_string())
                             .collect();
                         if os.len() > 1 {
-                            uniq(&mut hints, format!("header {nm} has {} outlets with no rule to share its steam ({}): give the flow of one of them, or send the surplus to a vent", os.len(), os.join(", ")))
+                            uniq(
+                                &mut hints,
+                                FlowHint::HeaderOutlets {
+                                    unit: nm,
+                                    outlets: os,
+                                },
+                            )
                         }
                     }
-                    (Unit::Deaerator { vent_fraction: None, .. }, Ports::Deaerator { vent: Some(v), .. })
-                        if *v == s =>
-                    {
-                        uniq(&mut hints, format!("give vent_fraction of deaerator {nm} or the flow of its vent stream {}", net.sn[*v]))
-                    }
-                    (Unit::Vent, _) | (Unit::Makeup { .. }, _) => uniq(
+                    (
+                        Unit::Deaerator {
+                            vent_fraction: None,
+                            ..
+                        },
+                        Ports::Deaerator { vent: Some(v), .. },
+                    ) if *v == s => uniq(
                         &mut hints,
-                        format!("{} {nm} takes any flow: fix a flow or demand elsewhere so that it closes a balance", net.units[u].kind()),
+                        FlowHint::DeaeratorVent {
+                            unit: nm,
+                            vent: net.sn[*v].to_string(),
+                        },
                     ),
+                    (Unit::Vent, _) | (Unit::Makeup { .. }, _) => {
+                        uniq(&mut hints, FlowHint::Boundary { unit: uref(net, u) })
+                    }
                     _ => {}
                 }
             }
         }
-        under.push(format!(
-            "{} flow equation(s) missing: the flows of streams {} are not fixed; for example give the flow of stream(s) {}{}{}",
-            n - a.rank,
-            list(&und),
-            list(&free),
-            if hints.is_empty() { "" } else { "; usual choices: " },
-            hints.join("; ")
-        ));
+        under.push(Finding::FlowsNotFixed {
+            missing: n - a.rank,
+            undetermined: und,
+            free,
+            hints,
+        });
     }
     for set in &a.clashes {
-        let what: Vec<String> = set
-            .iter()
-            .map(|&r| format!("{} ({})", rows[r].owner, rows[r].what))
-            .collect();
+        let equations: Vec<Equation> = set.iter().map(|&r| equation(net, &rows[r])).collect();
         let mut hints = Vec::new();
         for &r in set {
             let row = &rows[r];
-            if let Some(name) = row.owner.strip_prefix("header ") {
-                if row.what == "mass balance" {
-                    uniq(&mut hints, format!("header {name} has no free outlet flow: let a vent or make-up close the balance"));
+            if let Of::Unit(u) = row.owner {
+                if matches!(net.units[u], Unit::Header { .. }) && row.what == "mass balance" {
+                    uniq(
+                        &mut hints,
+                        ClashHint::HeaderNoFreeOutlet {
+                            unit: net.un[u].to_string(),
+                        },
+                    );
                 }
             }
         }
-        let specs: Vec<String> = set
+        let specs: Vec<Equation> = set
             .iter()
-            .filter(|&&r| {
-                matches!(
-                    rows[r].what,
-                    "fixed flow" | "steam demand" | "power" | "steam flow" | "vent fraction"
-                )
-            })
-            .map(|&r| format!("{} ({})", rows[r].owner, rows[r].what))
+            .filter(|&&r| rows[r].spec)
+            .map(|&r| equation(net, &rows[r]))
             .collect();
         if !specs.is_empty() {
-            uniq(&mut hints, format!("remove one of: {}", specs.join(", ")));
+            uniq(
+                &mut hints,
+                ClashHint::RemoveOne {
+                    specifications: specs,
+                },
+            );
         }
         if !has_makeup {
-            uniq(&mut hints, "the site has no makeup unit: water lost at users, blowdown or vents cannot be replaced; add one".into());
+            uniq(&mut hints, ClashHint::AddMakeup);
         }
         if !has_vent && hints.len() < 2 {
-            uniq(&mut hints, "a vent unit can take surplus steam".into());
+            uniq(&mut hints, ClashHint::AddVent);
         }
-        over.push(format!(
-            "these cannot all hold independently: {}; {}",
-            what.join(", "),
-            hints.join("; ")
-        ));
+        over.push(Finding::EquationsClash { equations, hints });
     }
 }
 
-fn dof_error(under: &[String], over: &[String]) -> Error {
-    let mut parts = Vec::new();
-    if !under.is_empty() {
-        parts.push(format!("under-specified: {}", under.join(" | ")));
+fn dof_error(
+    net: &Net,
+    under: Vec<Finding>,
+    over: Vec<Finding>,
+    flows: Option<&dof::Analysis>,
+) -> Error {
+    let units = net
+        .units
+        .iter()
+        .enumerate()
+        .map(|(u, unit)| UnitStatus {
+            unit: uref(net, u),
+            given: unit.given(),
+        })
+        .collect();
+    let streams = (0..net.sn.len())
+        .map(|s| StreamStatus {
+            name: net.sn[s].to_string(),
+            flow: if net.streams[s].flow.is_some() {
+                FlowStatus::Given
+            } else {
+                match flows {
+                    None => FlowStatus::Unknown,
+                    Some(a) if a.undetermined.contains(&s) => FlowStatus::Free,
+                    Some(_) => FlowStatus::Fixed,
+                }
+            },
+            pressure: net.p_source[s].clone(),
+            state: if net.fixed[s].is_some() {
+                Source::Stream
+            } else {
+                Source::Unit(net.un[net.from[s]].to_string())
+            },
+        })
+        .collect();
+    let mut findings = under;
+    findings.extend(over);
+    Error::Specification {
+        diagnosis: Box::new(Diagnosis {
+            findings,
+            units,
+            streams,
+        }),
     }
-    if !over.is_empty() {
-        parts.push(format!("over-specified: {}", over.join(" | ")));
-    }
-    Error::invalid(format!("site balance: {}", parts.join(" || ")))
 }
 
 /// Solves a site network.
@@ -1190,12 +1302,16 @@ pub fn solve_from(network: &Network, guess: Option<&Solution>) -> Result<Solutio
     let mut over = Vec::new();
     for (u, unit) in net.units.iter().enumerate() {
         let nm = net.un[u];
-        let bad = |q: &str, v: f64, lo: f64, hi: f64, over: &mut Vec<String>| {
+        let bad = |q: &'static str, v: f64, lo: f64, hi: f64, over: &mut Vec<Finding>| {
             if !(v.is_finite() && v > lo && v <= hi) {
-                over.push(format!(
-                    "{} {nm}: {q} = {v} is outside ({lo}, {hi}]",
-                    unit.kind()
-                ));
+                over.push(Finding::OutOfRange {
+                    unit: UnitRef::new(nm, unit.kind()),
+                    quantity: q,
+                    value: v,
+                    low: lo,
+                    high: hi,
+                    interval: Interval::OpenClosed,
+                });
             }
         };
         match unit {
@@ -1208,9 +1324,14 @@ pub fn solve_from(network: &Network, guess: Option<&Solution>) -> Result<Solutio
                     bad("efficiency", *e, 0.0, 1.0, &mut over);
                 }
                 if !(0.0..0.5).contains(blowdown_fraction) {
-                    over.push(format!(
-                        "boiler {nm}: blowdown_fraction = {blowdown_fraction} is outside 0..0.5"
-                    ));
+                    over.push(Finding::OutOfRange {
+                        unit: UnitRef::new(nm, unit.kind()),
+                        quantity: "blowdown_fraction",
+                        value: *blowdown_fraction,
+                        low: 0.0,
+                        high: 0.5,
+                        interval: Interval::ClosedOpen,
+                    });
                 }
             }
             Unit::Turbine {
@@ -1224,16 +1345,21 @@ pub fn solve_from(network: &Network, guess: Option<&Solution>) -> Result<Solutio
             Unit::Deaerator {
                 vent_fraction: Some(f),
                 ..
-            } if !(0.0..0.5).contains(f) => over.push(format!(
-                "deaerator {nm}: vent_fraction = {f} is outside 0..0.5"
-            )),
+            } if !(0.0..0.5).contains(f) => over.push(Finding::OutOfRange {
+                unit: UnitRef::new(nm, unit.kind()),
+                quantity: "vent_fraction",
+                value: *f,
+                low: 0.0,
+                high: 0.5,
+                interval: Interval::ClosedOpen,
+            }),
             _ => {}
         }
     }
     check_states(&net, &mut under, &mut over);
     resolve_pressures(&mut net, &mut under, &mut over);
     if !under.is_empty() || !over.is_empty() {
-        return Err(dof_error(&under, &over));
+        return Err(dof_error(&net, under, over, None));
     }
     // turbine outlets in order of falling pressure
     for u in 0..net.un.len() {
@@ -1273,7 +1399,7 @@ pub fn solve_from(network: &Network, guess: Option<&Solution>) -> Result<Solutio
     };
     if a.rank < ns || !a.clashes.is_empty() {
         flow_messages(&net, &rs, &a, &mut under, &mut over);
-        return Err(dof_error(&under, &over));
+        return Err(dof_error(&net, under, over, Some(&a)));
     }
     let mut iterations = 0;
     let mut res = f64::INFINITY;
