@@ -544,3 +544,36 @@ fn a_single_exchanger_gives_exactly_what_exchanger_balance_gives() {
     );
     assert!(rel(sol_h.units["X"].duty.unwrap(), x.duty) < 1e-9);
 }
+
+/// A model built once (the network checked and every pressure resolved) solves to the same
+/// answer as `solve`, bit for bit, cold and from a guess; a refused network is refused by the
+/// build step already, with the same error.
+#[test]
+fn a_model_built_once_solves_like_solve() {
+    let v: Value = serde_json::from_str(SITE).unwrap();
+    let net = network(&v);
+    let model = b::Model::build(&net).expect("the example site is well specified");
+    // Debug text: every f64 printed exactly (shortest round trip), NaN fields included
+    let same = |a: &Solution, b: &Solution| format!("{a:?}") == format!("{b:?}");
+    let cold = model.solve().unwrap();
+    assert!(same(&cold, &b::solve(&net).unwrap()));
+    let warm = model.solve_from(Some(&cold)).unwrap();
+    assert!(same(&warm, &b::solve_from(&net, Some(&cold)).unwrap()));
+
+    let mut v = v;
+    v["units"]["BFP"]
+        .as_object_mut()
+        .unwrap()
+        .remove("efficiency");
+    let net = network(&v);
+    let e = b::Model::build(&net).expect_err("a pump without efficiency");
+    assert!(
+        matches!(&e, steamcell::error::Error::Specification { .. }),
+        "{e:?}"
+    );
+    assert_eq!(e, b::solve(&net).unwrap_err());
+    assert!(
+        e.to_string().contains("pump BFP: give its efficiency"),
+        "{e}"
+    );
+}

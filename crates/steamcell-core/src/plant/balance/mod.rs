@@ -7,26 +7,35 @@
 //! units). Energy flows are m h with the IAPWS-IF97 enthalpy reference (liquid at the triple
 //! point), so site totals are absolute enthalpy flows.
 //!
-//! Method: pressures are fixed first (from units and streams); then successive substitution:
+//! Method: [`Model::build`] checks the network once (structure, specifications, ranges) and
+//! fixes every stream's pressure (from units and streams); then successive substitution:
 //! with the flows known, every stream state follows from its source unit (mixing, expansion,
 //! saturation...); with the states known, the flows satisfy a square linear system (mass
 //! balances, energy balances of deaerators and desuperheaters, splits, specifications), solved
 //! directly. Recycles (deaerator feedwater, condensate returns) need no tearing of their own.
 //! Before solving, the degrees of freedom are counted: the flow system's rank tells which
-//! streams are free (under-specified) and which equations clash (over-specified); the error
-//! names them and suggests the usual choice.
+//! streams are free (under-specified) and which equations clash (over-specified). A refused
+//! network gets an [`Error::Specification`](crate::error::Error::Specification) whose
+//! [`Diagnosis`] names the units, streams and quantities and suggests the usual choice.
+//!
+//! Layout: `model.rs` (the validated model), `units/` (one module per unit kind, behind two
+//! traits), `solve.rs` (the iteration and the results), `dof.rs` (the linear flow system and
+//! its rank), `diagnosis.rs` (the findings as data and their text).
 //!
 //! Invariant: on success every unit's mass and energy balance and the site's overall balance
 //! close to 1e-9 relative (checked; otherwise `NotConverged`).
 
 mod diagnosis;
 mod dof;
+mod model;
 mod solve;
+mod units;
 
 pub use diagnosis::{
     ClashHint, Diagnosis, Equation, Finding, FlowHint, FlowStatus, Interval, Owner, Side, Source,
     StreamStatus, UnitRef, UnitStatus,
 };
+pub use model::Model;
 pub use solve::{solve, solve_from, sweep};
 
 use super::Balance;
