@@ -523,3 +523,63 @@ fn an_ill_formed_network_is_refused_without_a_diagnosis() {
     assert_eq!(e.code, 1006);
     assert!(e.data.get("diagnosis").is_none(), "{}", e.data);
 }
+
+#[test]
+fn values_that_need_no_solve_are_refused_by_the_count() {
+    // (case, edit, finding code, fragment of its message)
+    let table: Vec<(&str, Edit, &str, &str)> = vec![
+        (
+            "a quality above 1 on a turbine exhaust",
+            |n| set(n, "streams.t_lp.x", json!(1.5)),
+            "quality_out_of_range",
+            "stream t_lp: x = 1.5 is outside 0..1",
+        ),
+        (
+            "a pump discharging below its suction",
+            |n| set(n, "units.FP.p", json!("0.5 bar")),
+            "pump_does_not_raise",
+            "pump FP: the discharge pressure 0.05 MPa is not above the suction pressure 0.12 MPa",
+        ),
+    ];
+    for (case, edit, code, message) in table {
+        let mut n = base();
+        edit(&mut n);
+        let (text, d) = diagnosis(&n);
+        assert!(
+            text.starts_with("site balance: over-specified: "),
+            "{case}: {text}"
+        );
+        assert!(text.contains(message), "{case}: {text}");
+        assert_eq!(d["over"][0]["code"], code, "{case}: {d:#}");
+        assert_eq!(d["over"][0]["message"], message, "{case}");
+    }
+}
+
+#[test]
+fn a_desuperheater_above_the_critical_pressure_is_refused_by_the_count() {
+    // critical pressure 22.064 MPa: IAPWS R7-97(2012), Eq. (4)
+    let net = json!({
+        "units": {
+            "M": { "kind": "makeup", "T": "500 degC" },
+            "W": { "kind": "makeup", "T": "20 degC" },
+            "DS": { "kind": "desuperheater", "water": "w", "T": "450 degC", "p": "250 bar" },
+            "V": { "kind": "vent" }
+        },
+        "streams": {
+            "s": { "from": "M", "to": "DS", "flow": 1, "p": "300 bar" },
+            "w": { "from": "W", "to": "DS", "p": "300 bar" },
+            "out": { "from": "DS", "to": "V" }
+        }
+    });
+    let (text, d) = diagnosis(&net);
+    assert_eq!(
+        d["over"][0]["code"], "desuperheater_above_critical",
+        "{d:#}"
+    );
+    assert_eq!(d["over"][0]["value"], 25.0);
+    assert_eq!(d["over"][0]["value_unit"], "MPa");
+    assert!(
+        text.contains("desuperheater DS: the outlet pressure 25 MPa is at or above the critical pressure 22.064 MPa"),
+        "{text}"
+    );
+}

@@ -10,6 +10,7 @@
 //! rendering of a [`Diagnosis`] is the one-line message of the refusal (the under-specified
 //! findings, then the over-specified ones, each in the order found).
 
+use crate::water::state::P_C;
 use std::fmt;
 
 /// A unit named in a finding: its name and kind.
@@ -308,6 +309,30 @@ pub enum Finding {
         /// Its pressure, MPa.
         p: f64,
     },
+    /// A stream's quality lies outside 0..1.
+    QualityOutOfRange {
+        /// The stream.
+        stream: String,
+        /// The quality given.
+        x: f64,
+    },
+    /// A pump's discharge pressure is not above its suction pressure (MPa).
+    PumpDoesNotRaise {
+        /// The pump.
+        unit: UnitRef,
+        /// Discharge pressure, MPa.
+        discharge: f64,
+        /// Suction pressure, MPa.
+        suction: f64,
+    },
+    /// A desuperheater's outlet is at or above the critical pressure (MPa), where steam has
+    /// no superheat.
+    DesuperheaterAboveCritical {
+        /// The desuperheater.
+        unit: UnitRef,
+        /// Outlet pressure, MPa.
+        p: f64,
+    },
     // ---- missing specifications (under-specified) ----
     /// A boiler without a steam temperature (neither on the boiler nor on its steam stream).
     MissingSteamTemperature {
@@ -466,6 +491,9 @@ impl Finding {
             | StateSetBySource { .. }
             | PressureSetBySource { .. }
             | PressureNotPositive { .. }
+            | QualityOutOfRange { .. }
+            | PumpDoesNotRaise { .. }
+            | DesuperheaterAboveCritical { .. }
             | SteamTemperatureTwice { .. }
             | SteamPressureConflict { .. }
             | DesuperheaterTargetTwice { .. }
@@ -487,6 +515,9 @@ impl Finding {
             PressureSetBySource { .. } => "pressure_set_by_source",
             PressureNotFixed { .. } => "pressure_not_fixed",
             PressureNotPositive { .. } => "pressure_not_positive",
+            QualityOutOfRange { .. } => "quality_out_of_range",
+            PumpDoesNotRaise { .. } => "pump_does_not_raise",
+            DesuperheaterAboveCritical { .. } => "desuperheater_above_critical",
             MissingSteamTemperature { .. } => "missing_steam_temperature",
             MissingBoilerEfficiency { .. } => "missing_boiler_efficiency",
             MissingTurbineEfficiency { .. } => "missing_turbine_efficiency",
@@ -517,9 +548,12 @@ impl Finding {
             OutOfRange { quantity, .. } => Some(quantity),
             NegativeDemand { .. } | DemandTwice { .. } => Some("demand"),
             StateSetBySource { .. } => None,
-            PressureSetBySource { .. } | PressureNotFixed { .. } | PressureNotPositive { .. } => {
-                Some("p")
-            }
+            PressureSetBySource { .. }
+            | PressureNotFixed { .. }
+            | PressureNotPositive { .. }
+            | PumpDoesNotRaise { .. }
+            | DesuperheaterAboveCritical { .. } => Some("p"),
+            QualityOutOfRange { .. } => Some("x"),
             MissingPressure { .. } | SteamPressureConflict { .. } => Some("p"),
             MissingSteamTemperature { .. }
             | MissingDesuperheaterTarget { .. }
@@ -546,7 +580,11 @@ impl Finding {
         match self {
             OutOfRange { value, .. } => Some((*value, "")),
             NegativeDemand { value, .. } => Some((*value, "kg/s")),
-            PressureSetBySource { p, .. } | PressureNotPositive { p, .. } => Some((*p, "MPa")),
+            PressureSetBySource { p, .. }
+            | PressureNotPositive { p, .. }
+            | DesuperheaterAboveCritical { p, .. } => Some((*p, "MPa")),
+            PumpDoesNotRaise { discharge, .. } => Some((*discharge, "MPa")),
+            QualityOutOfRange { x, .. } => Some((*x, "")),
             ReturnWithoutStream {
                 return_fraction, ..
             } => Some((*return_fraction, "")),
@@ -599,7 +637,10 @@ impl Finding {
             | ReturnWithoutStream { unit, .. }
             | MakeupTemperatureTwice { unit, .. } => vec![unit],
             PressureNotFixed { from, to, .. } => vec![from, to],
-            PressureNotPositive { .. } | FlowsNotFixed { .. } => Vec::new(),
+            PumpDoesNotRaise { unit, .. } | DesuperheaterAboveCritical { unit, .. } => vec![unit],
+            PressureNotPositive { .. } | QualityOutOfRange { .. } | FlowsNotFixed { .. } => {
+                Vec::new()
+            }
             EquationsClash { equations, .. } => {
                 let mut v: Vec<&UnitRef> = Vec::new();
                 for e in equations {
@@ -622,6 +663,7 @@ impl Finding {
             | PressureSetBySource { stream, .. }
             | PressureNotFixed { stream, .. }
             | PressureNotPositive { stream, .. }
+            | QualityOutOfRange { stream, .. }
             | MissingSteamTemperature { stream, .. }
             | MissingDesuperheaterTarget { stream, .. }
             | MissingReturnTemperature { stream, .. }
@@ -652,7 +694,9 @@ impl Finding {
             | MissingPumpEfficiency { .. }
             | MissingPressure { .. }
             | MissingLostCondensateTemperature { .. }
-            | ReturnWithoutStream { .. } => Vec::new(),
+            | ReturnWithoutStream { .. }
+            | PumpDoesNotRaise { .. }
+            | DesuperheaterAboveCritical { .. } => Vec::new(),
         }
     }
 }
@@ -715,6 +759,21 @@ impl fmt::Display for Finding {
             PressureNotPositive { stream, p } => {
                 write!(f, "stream {stream}: pressure {p} MPa is not positive")
             }
+            QualityOutOfRange { stream, x } => {
+                write!(f, "stream {stream}: x = {x} is outside 0..1")
+            }
+            PumpDoesNotRaise {
+                unit,
+                discharge,
+                suction,
+            } => write!(
+                f,
+                "{unit}: the discharge pressure {discharge} MPa is not above the suction pressure {suction} MPa"
+            ),
+            DesuperheaterAboveCritical { unit, p } => write!(
+                f,
+                "{unit}: the outlet pressure {p} MPa is at or above the critical pressure {P_C} MPa, where steam has no superheat"
+            ),
             MissingSteamTemperature { unit, stream } => write!(
                 f,
                 "{unit}: give the steam temperature T of boiler {} (or T on its steam stream {stream})",

@@ -10,7 +10,8 @@
 //! Invariant: every input error is found here: a structural error at once (one message), the
 //! specification findings all together as an [`Error::Specification`] whose diagnosis lists
 //! the under-specified findings, then the over-specified ones, each in the order of the
-//! checks (ranges, stream states, unit specifications, stream pressures). Only the count of
+//! checks (stream qualities, unit ranges, stream states, unit specifications, stream
+//! pressures). Only the count of
 //! the flow equations, which needs the stream states, is left to the solver.
 
 use super::diagnosis::{Diagnosis, Finding, FlowStatus, Side, Source, StreamStatus, UnitStatus};
@@ -152,6 +153,17 @@ impl Model {
                 });
             }
         }
+        let quality: Vec<Finding> = (0..w.sn.len())
+            .filter_map(|s| match w.fixed[s] {
+                Some(FixedState::X(x)) if !(0.0..=1.0).contains(&x) => {
+                    Some(Finding::QualityOutOfRange {
+                        stream: w.stream(s),
+                        x,
+                    })
+                }
+                Some(FixedState::X(_) | FixedState::T(_) | FixedState::H(_)) | None => None,
+            })
+            .collect();
         let (p_given, p_final, p_source) = resolve_pressures(&mut w, &drafts);
         let mut f = Findings::default();
         let mut validated = Vec::with_capacity(drafts.len());
@@ -162,7 +174,7 @@ impl Model {
                 Err(Refused(())) => refused = true,
             }
         }
-        let findings = ordered(vec![f.range, states, f.spec, p_given, p_final]);
+        let findings = ordered(vec![quality, f.range, states, f.spec, p_given, p_final]);
         let streams: Vec<StreamSlot> = (0..w.sn.len())
             .map(|s| StreamSlot {
                 name: w.stream(s),

@@ -4,7 +4,8 @@
 //!
 //! Units: internal (MPa, K, kJ/kg, kg/s, kW).
 //!
-//! Invariant: the validated desuperheater has exactly one target.
+//! Invariant: the validated desuperheater has exactly one target and its outlet lies below
+//! the critical pressure.
 
 use super::{count, find_port, fixed_state, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
@@ -69,6 +70,13 @@ impl Draft for Wired {
         w.known_p(self.steam)
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
+        let p = w.p[self.out];
+        if p >= P_C {
+            f.note(Finding::DesuperheaterAboveCritical {
+                unit: w.unit(self.u),
+                p,
+            });
+        }
         let stream = w.stream(self.out);
         let target = match (self.t, self.superheat, w.fixed[self.out]) {
             (Some(t), None, None) => Target::T(t),

@@ -3,8 +3,8 @@
 //!
 //! Units: internal (MPa, K, kJ/kg, kg/s, kW).
 //!
-//! Invariant: the validated pump holds its efficiency; the discharge pressure must exceed
-//! the suction pressure (refused otherwise).
+//! Invariant: the validated pump holds its efficiency and its discharge pressure exceeds its
+//! suction pressure.
 
 use super::{check_efficiency, count, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
@@ -58,6 +58,14 @@ impl Draft for Wired {
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
         check_efficiency(w, self.u, self.efficiency, f);
+        let (discharge, suction) = (w.p[self.out], w.p[self.inlet]);
+        if discharge <= suction {
+            f.note(Finding::PumpDoesNotRaise {
+                unit: w.unit(self.u),
+                discharge,
+                suction,
+            });
+        }
         let efficiency = self.efficiency.ok_or_else(|| {
             f.refuse(Finding::MissingPumpEfficiency {
                 unit: w.unit(self.u),
