@@ -535,6 +535,15 @@ fn values_that_need_no_solve_are_refused_by_the_count() {
             "stream t_lp: x = 1.5 is outside 0..1",
         ),
         (
+            "T and h on a turbine exhaust",
+            |n| {
+                set(n, "streams.t_lp.T", json!("150 degC"));
+                set(n, "streams.t_lp.h", json!(2700));
+            },
+            "state_given_twice",
+            "stream t_lp: give at most one of T, h, x (with p) — it has 2",
+        ),
+        (
             "a pump discharging below its suction",
             |n| set(n, "units.FP.p", json!("0.5 bar")),
             "pump_does_not_raise",

@@ -309,6 +309,13 @@ pub enum Finding {
         /// Its pressure, MPa.
         p: f64,
     },
+    /// A stream carries more than one of T, h and x.
+    StateGivenTwice {
+        /// The stream.
+        stream: String,
+        /// How many of T, h and x it carries.
+        count: usize,
+    },
     /// A stream's quality lies outside 0..1.
     QualityOutOfRange {
         /// The stream.
@@ -491,6 +498,7 @@ impl Finding {
             | StateSetBySource { .. }
             | PressureSetBySource { .. }
             | PressureNotPositive { .. }
+            | StateGivenTwice { .. }
             | QualityOutOfRange { .. }
             | PumpDoesNotRaise { .. }
             | DesuperheaterAboveCritical { .. }
@@ -515,6 +523,7 @@ impl Finding {
             PressureSetBySource { .. } => "pressure_set_by_source",
             PressureNotFixed { .. } => "pressure_not_fixed",
             PressureNotPositive { .. } => "pressure_not_positive",
+            StateGivenTwice { .. } => "state_given_twice",
             QualityOutOfRange { .. } => "quality_out_of_range",
             PumpDoesNotRaise { .. } => "pump_does_not_raise",
             DesuperheaterAboveCritical { .. } => "desuperheater_above_critical",
@@ -547,7 +556,7 @@ impl Finding {
         match self {
             OutOfRange { quantity, .. } => Some(quantity),
             NegativeDemand { .. } | DemandTwice { .. } => Some("demand"),
-            StateSetBySource { .. } => None,
+            StateSetBySource { .. } | StateGivenTwice { .. } => None,
             PressureSetBySource { .. }
             | PressureNotFixed { .. }
             | PressureNotPositive { .. }
@@ -585,6 +594,7 @@ impl Finding {
             | DesuperheaterAboveCritical { p, .. } => Some((*p, "MPa")),
             PumpDoesNotRaise { discharge, .. } => Some((*discharge, "MPa")),
             QualityOutOfRange { x, .. } => Some((*x, "")),
+            StateGivenTwice { count, .. } => Some((*count as f64, "")),
             ReturnWithoutStream {
                 return_fraction, ..
             } => Some((*return_fraction, "")),
@@ -638,9 +648,10 @@ impl Finding {
             | MakeupTemperatureTwice { unit, .. } => vec![unit],
             PressureNotFixed { from, to, .. } => vec![from, to],
             PumpDoesNotRaise { unit, .. } | DesuperheaterAboveCritical { unit, .. } => vec![unit],
-            PressureNotPositive { .. } | QualityOutOfRange { .. } | FlowsNotFixed { .. } => {
-                Vec::new()
-            }
+            PressureNotPositive { .. }
+            | StateGivenTwice { .. }
+            | QualityOutOfRange { .. }
+            | FlowsNotFixed { .. } => Vec::new(),
             EquationsClash { equations, .. } => {
                 let mut v: Vec<&UnitRef> = Vec::new();
                 for e in equations {
@@ -664,6 +675,7 @@ impl Finding {
             | PressureNotFixed { stream, .. }
             | PressureNotPositive { stream, .. }
             | QualityOutOfRange { stream, .. }
+            | StateGivenTwice { stream, .. }
             | MissingSteamTemperature { stream, .. }
             | MissingDesuperheaterTarget { stream, .. }
             | MissingReturnTemperature { stream, .. }
@@ -759,6 +771,10 @@ impl fmt::Display for Finding {
             PressureNotPositive { stream, p } => {
                 write!(f, "stream {stream}: pressure {p} MPa is not positive")
             }
+            StateGivenTwice { stream, count } => write!(
+                f,
+                "stream {stream}: give at most one of T, h, x (with p) — it has {count}"
+            ),
             QualityOutOfRange { stream, x } => {
                 write!(f, "stream {stream}: x = {x} is outside 0..1")
             }

@@ -10,7 +10,7 @@
 //! Invariant: every input error is found here: a structural error at once (one message), the
 //! specification findings all together as an [`Error::Specification`] whose diagnosis lists
 //! the under-specified findings, then the over-specified ones, each in the order of the
-//! checks (stream qualities, unit ranges, stream states, unit specifications, stream
+//! checks (streams with more than one of T, h and x, stream qualities, unit ranges, stream states, unit specifications, stream
 //! pressures). Only the count of
 //! the flow equations, which needs the stream states, is left to the solver.
 
@@ -132,7 +132,7 @@ impl Model {
         if network.streams.is_empty() {
             return Err(Error::invalid("the network has no streams"));
         }
-        let mut w = wire(network)?;
+        let (mut w, twice) = wire(network)?;
         let raw: Vec<_> = network.units.values().collect();
         let mut drafts: Vec<Box<dyn Draft>> = Vec::with_capacity(raw.len());
         for (u, unit) in raw.iter().enumerate() {
@@ -174,7 +174,8 @@ impl Model {
                 Err(Refused(())) => refused = true,
             }
         }
-        let findings = ordered(vec![quality, f.range, states, f.spec, p_given, p_final]);
+        let stages = vec![twice, quality, f.range, states, f.spec, p_given, p_final];
+        let findings = ordered(stages);
         let streams: Vec<StreamSlot> = (0..w.sn.len())
             .map(|s| StreamSlot {
                 name: w.stream(s),
@@ -272,8 +273,9 @@ fn specification(
     }
 }
 
-/// Stream ends, the streams' fixed values (at most one of T, h, x; all finite).
-fn wire(network: &Network) -> Result<Wiring<'_>> {
+/// Stream ends and the streams' fixed values (all finite); with the streams that carry more
+/// than one of T, h and x (the first counts).
+fn wire(network: &Network) -> Result<(Wiring<'_>, Vec<Finding>)> {
     let un: Vec<&str> = network.units.keys().map(String::as_str).collect();
     let kinds: Vec<&'static str> = network.units.values().map(|u| u.kind()).collect();
     let sn: Vec<&str> = network.streams.keys().map(String::as_str).collect();
@@ -290,6 +292,7 @@ fn wire(network: &Network) -> Result<Wiring<'_>> {
     let mut ins = vec![Vec::new(); un.len()];
     let mut outs = vec![Vec::new(); un.len()];
     let mut fixed = Vec::new();
+    let mut twice = Vec::new();
     for (i, s) in streams.iter().enumerate() {
         let f = idx(&s.from, sn[i], "from")?;
         let t = idx(&s.to, sn[i], "to")?;
@@ -314,11 +317,10 @@ fn wire(network: &Network) -> Result<Wiring<'_>> {
             fx.push(FixedState::X(v));
         }
         if fx.len() > 1 {
-            return Err(Error::invalid(format!(
-                "over-specified: stream {}: give at most one of T, h, x (with p) — it has {}",
-                sn[i],
-                fx.len()
-            )));
+            twice.push(Finding::StateGivenTwice {
+                stream: sn[i].to_string(),
+                count: fx.len(),
+            });
         }
         for (q, v) in [
             ("flow", s.flow),
@@ -334,7 +336,7 @@ fn wire(network: &Network) -> Result<Wiring<'_>> {
         fixed.push(fx.first().copied());
     }
     let ns = sn.len();
-    Ok(Wiring {
+    let w = Wiring {
         un,
         kinds,
         sn,
@@ -345,7 +347,8 @@ fn wire(network: &Network) -> Result<Wiring<'_>> {
         outs,
         fixed,
         p: vec![f64::NAN; ns],
-    })
+    };
+    Ok((w, twice))
 }
 
 /// Fixes every stream's pressure: given on the stream, else imposed by its source unit, else
