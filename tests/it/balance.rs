@@ -577,3 +577,39 @@ fn a_model_built_once_solves_like_solve() {
         "{e}"
     );
 }
+
+/// The site balance is validated once: after `Model::build` the solver needs no `expect`,
+/// `unwrap` or `unreachable!` on specification values, and behaviour per unit kind is reached
+/// through the unit traits, never through a `match` with a fallback arm (a new kind must
+/// not compile silently). Source: the project's own rule (DEVELOPERS.md, invariants).
+#[test]
+fn the_balance_solver_has_no_fallbacks() {
+    fn files(dir: &std::path::Path, out: &mut Vec<std::path::PathBuf>) {
+        for e in std::fs::read_dir(dir).unwrap() {
+            let p = e.unwrap().path();
+            if p.is_dir() {
+                files(&p, out);
+            } else if p.extension().is_some_and(|x| x == "rs") {
+                out.push(p);
+            }
+        }
+    }
+    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("crates/steamcell-core/src/plant/balance");
+    let mut list = Vec::new();
+    files(&root, &mut list);
+    assert!(list.len() > 10, "{list:?}");
+    let mut bad = Vec::new();
+    for f in &list {
+        let text = std::fs::read_to_string(f).unwrap();
+        for (i, line) in text.lines().enumerate() {
+            let code = line.split("//").next().unwrap_or("");
+            for pat in ["unreachable!", ".expect(", ".unwrap()", "_ =>"] {
+                if code.contains(pat) {
+                    bad.push(format!("{}:{}: {}", f.display(), i + 1, line.trim()));
+                }
+            }
+        }
+    }
+    assert!(bad.is_empty(), "{}", bad.join("\n"));
+}
