@@ -15,7 +15,7 @@ use crate::plant::Balance;
 use crate::units::Dim;
 use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
-use serde_json::Value;
+use serde_json::{json, Value};
 use std::collections::BTreeMap;
 
 /// Most points of one `balance.sweep`.
@@ -894,5 +894,123 @@ fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
         failed,
         caution: b::CAUTION.into(),
         units_used: units_used(&ctx),
+    })
+}
+
+fn source_json(s: &b::Source) -> Value {
+    match s {
+        b::Source::Stream => json!({ "source": "stream" }),
+        b::Source::Unit(u) => json!({ "source": "unit", "unit": u }),
+        b::Source::Missing => json!({ "source": "missing" }),
+    }
+}
+
+fn finding_json(f: &b::Finding) -> Value {
+    let (value, value_unit) = match f.value() {
+        Some((v, u)) => (Some(v), Some(u)),
+        None => (None, None),
+    };
+    let mut o = json!({
+        "code": f.code(),
+        "message": f.to_string(),
+        "units": f.units().iter().map(|u| u.name.as_str()).collect::<Vec<_>>(),
+        "streams": f.streams(),
+        "quantity": f.quantity(),
+        "value": value,
+        "value_unit": value_unit,
+    });
+    if let b::Finding::FlowsNotFixed {
+        missing,
+        undetermined,
+        free,
+        hints,
+    } = f
+    {
+        o["missing"] = json!(missing);
+        o["undetermined"] = json!(undetermined);
+        o["free"] = json!(free);
+        o["hints"] = hints
+            .iter()
+            .map(|h| {
+                json!({
+                    "code": h.code(),
+                    "message": h.to_string(),
+                    "unit": h.unit(),
+                    "streams": h.streams(),
+                })
+            })
+            .collect();
+    }
+    if let b::Finding::EquationsClash { equations, hints } = f {
+        o["equations"] = equations
+            .iter()
+            .map(|e| {
+                let (owner, kind) = match &e.owner {
+                    b::Owner::Unit(u) => (u.name.as_str(), u.kind),
+                    b::Owner::Stream(s) => (s.as_str(), "stream"),
+                };
+                json!({
+                    "owner": owner,
+                    "owner_kind": kind,
+                    "what": e.what,
+                    "specification": e.specification,
+                    "message": e.to_string(),
+                })
+            })
+            .collect();
+        o["hints"] = hints
+            .iter()
+            .map(|h| json!({ "code": h.code(), "message": h.to_string() }))
+            .collect();
+    }
+    o
+}
+
+/// The degree-of-freedom diagnosis of a refused network as the `diagnosis` of the error's
+/// `data` (documented with code 1006 in [`super::ERROR_CODES`]): the under- and
+/// over-specified findings, what each unit was given and which findings name it, and who
+/// fixes each stream's flow, pressure and state.
+pub fn diagnosis_json(d: &b::Diagnosis) -> Value {
+    let mut units = serde_json::Map::new();
+    for u in &d.units {
+        let named = |side: b::Side| -> Vec<&'static str> {
+            d.findings
+                .iter()
+                .filter(|f| f.side() == side && f.units().iter().any(|r| r.name == u.unit.name))
+                .map(|f| f.code())
+                .collect()
+        };
+        units.insert(
+            u.unit.name.clone(),
+            json!({
+                "kind": u.unit.kind,
+                "given": u.given,
+                "under": named(b::Side::Under),
+                "over": named(b::Side::Over),
+            }),
+        );
+    }
+    let mut streams = serde_json::Map::new();
+    for s in &d.streams {
+        let flow = match s.flow {
+            b::FlowStatus::Given => "given",
+            b::FlowStatus::Fixed => "fixed",
+            b::FlowStatus::Free => "free",
+            b::FlowStatus::Unknown => "unknown",
+        };
+        streams.insert(
+            s.name.clone(),
+            json!({
+                "flow": flow,
+                "p": source_json(&s.pressure),
+                "state": source_json(&s.state),
+            }),
+        );
+    }
+    json!({
+        "under": d.under().map(finding_json).collect::<Vec<_>>(),
+        "over": d.over().map(finding_json).collect::<Vec<_>>(),
+        "units": units,
+        "streams": streams,
     })
 }

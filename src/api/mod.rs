@@ -114,7 +114,7 @@ pub const ERROR_CODES: &[(i64, &str, &str)] = &[
     (
         codes::INVALID_INPUT,
         "invalid_input",
-        "A value or combination of inputs is not acceptable (missing, extra, ill-formed). data: message.",
+        "A value or combination of inputs is not acceptable (missing, extra, ill-formed). data: message; a site network refused by its degree-of-freedom count (balance.solve) also carries diagnosis: {under: [finding], over: [finding], units: {name: {kind, given, under, over}}, streams: {name: {flow, p, state}}}, where a finding is {code, message, units, streams, quantity, value, value_unit} (plus missing, undetermined, free and hints for code flows_not_fixed; equations and hints for equations_clash).",
     ),
     (
         codes::NOT_CONVERGED,
@@ -323,6 +323,14 @@ impl From<Error> for ApiError {
             Error::Infeasible { message } => (
                 codes::INFEASIBLE,
                 json!({ "kind": "infeasible", "message": message }),
+            ),
+            Error::Specification { diagnosis } => (
+                codes::INVALID_INPUT,
+                json!({
+                    "kind": "invalid_input",
+                    "message": message,
+                    "diagnosis": balance::diagnosis_json(&diagnosis),
+                }),
             ),
         };
         ApiError {

@@ -274,3 +274,321 @@ fn a_closed_loop_is_not_over_specified() {
         assert!((r["streams"][s]["flow"].as_f64().unwrap() - 10.0).abs() < 1e-9);
     }
 }
+
+/// The refusal as data: `data.diagnosis` of a 1006 error lists the findings (code, units,
+/// streams, quantity, message), what each unit was given and who fixes each stream; the
+/// message is the rendering of the same findings.
+fn diagnosis(net: &Value) -> (String, Value) {
+    let e = solve(net).expect_err("refused");
+    assert_eq!(e.code, 1006, "{e}");
+    assert_eq!(e.data["kind"], "invalid_input");
+    assert_eq!(e.data["message"], e.message.as_str());
+    (e.message, e.data["diagnosis"].clone())
+}
+
+/// The API message is "site balance: under-specified: a | b || over-specified: c", each part
+/// the message of one finding of `data.diagnosis`, in order.
+fn message_from_data(d: &Value) -> String {
+    let part = |side: &str| -> Vec<String> {
+        d[side]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|f| f["message"].as_str().unwrap().to_string())
+            .collect()
+    };
+    let (u, o) = (part("under"), part("over"));
+    let mut parts = Vec::new();
+    if !u.is_empty() {
+        parts.push(format!("under-specified: {}", u.join(" | ")));
+    }
+    if !o.is_empty() {
+        parts.push(format!("over-specified: {}", o.join(" | ")));
+    }
+    format!("site balance: {}", parts.join(" || "))
+}
+
+#[test]
+fn a_missing_efficiency_is_a_finding_on_its_unit() {
+    let mut n = base();
+    remove(&mut n, "units.FP.efficiency");
+    remove(&mut n, "units.HP.p");
+    let (message, d) = diagnosis(&n);
+    assert_eq!(message, message_from_data(&d));
+    let under = d["under"].as_array().unwrap();
+    let codes: Vec<&str> = under.iter().map(|f| f["code"].as_str().unwrap()).collect();
+    assert_eq!(
+        codes,
+        [
+            "missing_pump_efficiency",
+            "missing_pressure",
+            "pressure_not_fixed",
+            "pressure_not_fixed"
+        ],
+        "{d:#}"
+    );
+    assert_eq!(under[0]["code"], "missing_pump_efficiency");
+    assert_eq!(under[0]["units"], json!(["FP"]));
+    assert_eq!(under[0]["quantity"], "efficiency");
+    assert_eq!(under[0]["message"], "pump FP: give its efficiency");
+    assert_eq!(under[1]["code"], "missing_pressure");
+    assert_eq!(under[1]["units"], json!(["HP"]));
+    assert_eq!(under[1]["quantity"], "p");
+    // the streams leaving header HP have no pressure: each names both of its units
+    assert_eq!(under[2]["streams"], json!(["hp_lv"]));
+    assert_eq!(under[2]["units"], json!(["HP", "LV"]));
+    assert_eq!(under[3]["streams"], json!(["hp_t"]));
+    assert_eq!(d["over"], json!([]));
+    // per unit: what it was given and which findings name it
+    assert_eq!(d["units"]["FP"]["kind"], "pump");
+    assert_eq!(d["units"]["FP"]["given"], json!(["p"]));
+    assert_eq!(
+        d["units"]["FP"]["under"],
+        json!(["missing_pump_efficiency"])
+    );
+    assert_eq!(d["units"]["T"]["under"], json!(["pressure_not_fixed"]));
+    assert_eq!(d["units"]["MK"]["under"], json!([]));
+    // per stream: the flows were not analysed (the units were refused first); who fixes p
+    // and the state
+    assert_eq!(d["streams"]["hp_t"]["flow"], "given");
+    assert_eq!(d["streams"]["t_lp"]["flow"], "unknown");
+    assert_eq!(
+        d["streams"]["fp_b"]["p"],
+        json!({ "source": "unit", "unit": "FP" })
+    );
+    assert_eq!(
+        d["streams"]["t_lp"]["p"],
+        json!({ "source": "unit", "unit": "LP" })
+    );
+    assert_eq!(
+        d["streams"]["b_hp"]["p"],
+        json!({ "source": "unit", "unit": "B" })
+    );
+    assert_eq!(
+        d["streams"]["hp_t"]["p"],
+        json!({ "source": "missing" }),
+        "header HP has no pressure"
+    );
+    assert_eq!(
+        d["streams"]["t_lp"]["state"],
+        json!({ "source": "unit", "unit": "T" })
+    );
+}
+
+#[test]
+fn free_flows_are_data_with_their_usual_choices() {
+    let mut n = base();
+    remove(&mut n, "units.U.demand");
+    let (message, d) = diagnosis(&n);
+    assert_eq!(message, message_from_data(&d));
+    let f = &d["under"][0];
+    assert_eq!(f["code"], "flows_not_fixed");
+    assert_eq!(f["missing"], 1);
+    assert_eq!(f["quantity"], "flow");
+    let undetermined: Vec<&str> = f["undetermined"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s.as_str().unwrap())
+        .collect();
+    assert!(undetermined.contains(&"lp_u"), "{undetermined:?}");
+    assert_eq!(f["streams"], f["undetermined"]);
+    assert_eq!(f["free"].as_array().unwrap().len(), 1);
+    let hints = f["hints"].as_array().unwrap();
+    assert!(
+        hints
+            .iter()
+            .any(|h| h["code"] == "give_user_demand" && h["unit"] == "U"),
+        "{hints:?}"
+    );
+    // every undetermined stream is "free", a stream with a given flow "given", the others
+    // "fixed"
+    for (name, s) in d["streams"].as_object().unwrap() {
+        let want = if undetermined.contains(&name.as_str()) {
+            "free"
+        } else if ["hp_t", "lp_vt"].contains(&name.as_str()) {
+            "given"
+        } else {
+            "fixed"
+        };
+        assert_eq!(s["flow"], want, "{name}");
+    }
+    assert_eq!(
+        d["units"]["U"]["given"],
+        json!(["return_fraction", "return_T"])
+    );
+}
+
+#[test]
+fn clashing_equations_are_data_with_the_specifications_to_remove() {
+    let mut n = base();
+    set(&mut n, "units.T.power", json!("1 MW"));
+    let (message, d) = diagnosis(&n);
+    assert_eq!(message, message_from_data(&d));
+    let f = &d["over"][0];
+    assert_eq!(f["code"], "equations_clash");
+    let eq = f["equations"].as_array().unwrap();
+    assert!(eq.iter().any(|e| e["owner"] == "T"
+        && e["owner_kind"] == "turbine"
+        && e["what"] == "power"
+        && e["specification"] == true));
+    assert!(eq.iter().any(|e| e["owner"] == "hp_t"
+        && e["owner_kind"] == "stream"
+        && e["what"] == "fixed flow"
+        && e["specification"] == true));
+    assert!(eq
+        .iter()
+        .any(|e| e["what"] == "mass balance" && e["specification"] == false));
+    let remove = f["hints"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|h| h["code"] == "remove_one_specification")
+        .expect("a hint to remove a specification");
+    assert!(remove["message"]
+        .as_str()
+        .unwrap()
+        .contains("turbine T (power)"));
+    assert!(f["units"].as_array().unwrap().contains(&json!("T")));
+    assert!(f["streams"].as_array().unwrap().contains(&json!("hp_t")));
+    assert!(d["units"]["T"]["over"]
+        .as_array()
+        .unwrap()
+        .contains(&json!("equations_clash")));
+}
+
+#[test]
+fn a_conflicting_stream_pressure_carries_the_units_value() {
+    let mut n = base();
+    set(&mut n, "streams.lp_u.p", json!("5 bar"));
+    let (message, d) = diagnosis(&n);
+    assert_eq!(message, message_from_data(&d));
+    let f = &d["over"][0];
+    assert_eq!(f["code"], "pressure_set_by_source");
+    assert_eq!(f["streams"], json!(["lp_u"]));
+    assert_eq!(f["units"], json!(["LP"]));
+    assert_eq!(f["quantity"], "p");
+    // 3 bar, in the balance's internal unit
+    assert!((f["value"].as_f64().unwrap() - 0.3).abs() < 1e-12);
+    assert_eq!(f["value_unit"], "MPa");
+    assert_eq!(d["streams"]["lp_u"]["p"], json!({ "source": "stream" }));
+}
+
+#[test]
+fn the_core_returns_the_diagnosis_typed() {
+    use steamcell::api::balance::NetworkIn;
+    use steamcell::api::vocab::Ctx;
+    use steamcell::error::Error;
+    use steamcell::plant::balance::{self as b, Finding, Side, UnitRef};
+    let mut n = base();
+    remove(&mut n, "units.B.efficiency");
+    set(&mut n, "units.T.efficiency", json!(1.2));
+    let net: NetworkIn = serde_json::from_value(n).unwrap();
+    let net = net.to_network(&Ctx::new(None, None).unwrap()).unwrap();
+    let Err(Error::Specification { diagnosis }) = b::solve(&net) else {
+        panic!("refused with a diagnosis")
+    };
+    assert_eq!(
+        diagnosis.findings,
+        vec![
+            Finding::MissingBoilerEfficiency {
+                unit: UnitRef::new("B", "boiler"),
+            },
+            Finding::OutOfRange {
+                unit: UnitRef::new("T", "turbine"),
+                quantity: "efficiency",
+                value: 1.2,
+                low: 0.0,
+                high: 1.0,
+                interval: b::Interval::OpenClosed,
+            },
+        ]
+    );
+    assert_eq!(diagnosis.findings[0].side(), Side::Under);
+    assert_eq!(diagnosis.findings[1].side(), Side::Over);
+    assert_eq!(
+        diagnosis.to_string(),
+        "site balance: under-specified: boiler B: give the boiler efficiency (heat to steam over fuel heat input, from the plant's test data) || over-specified: turbine T: efficiency = 1.2 is outside (0, 1]"
+    );
+    assert_eq!(diagnosis.streams.len(), 12);
+    assert_eq!(diagnosis.units.len(), 10);
+}
+
+#[test]
+fn an_ill_formed_network_is_refused_without_a_diagnosis() {
+    // a structural error (a stream to no unit) is found before the count: plain invalid_input
+    let mut n = base();
+    set(&mut n, "streams.lp_vt.to", json!("VENT2"));
+    let e = solve(&n).expect_err("refused");
+    assert_eq!(e.code, 1006);
+    assert!(e.data.get("diagnosis").is_none(), "{}", e.data);
+}
+
+#[test]
+fn values_that_need_no_solve_are_refused_by_the_count() {
+    // (case, edit, finding code, fragment of its message)
+    let table: Vec<(&str, Edit, &str, &str)> = vec![
+        (
+            "a quality above 1 on a turbine exhaust",
+            |n| set(n, "streams.t_lp.x", json!(1.5)),
+            "quality_out_of_range",
+            "stream t_lp: x = 1.5 is outside 0..1",
+        ),
+        (
+            "T and h on a turbine exhaust",
+            |n| {
+                set(n, "streams.t_lp.T", json!("150 degC"));
+                set(n, "streams.t_lp.h", json!(2700));
+            },
+            "state_given_twice",
+            "stream t_lp: give at most one of T, h, x (with p) — it has 2",
+        ),
+        (
+            "a pump discharging below its suction",
+            |n| set(n, "units.FP.p", json!("0.5 bar")),
+            "pump_does_not_raise",
+            "pump FP: the discharge pressure 0.05 MPa is not above the suction pressure 0.12 MPa",
+        ),
+    ];
+    for (case, edit, code, message) in table {
+        let mut n = base();
+        edit(&mut n);
+        let (text, d) = diagnosis(&n);
+        assert!(
+            text.starts_with("site balance: over-specified: "),
+            "{case}: {text}"
+        );
+        assert!(text.contains(message), "{case}: {text}");
+        assert_eq!(d["over"][0]["code"], code, "{case}: {d:#}");
+        assert_eq!(d["over"][0]["message"], message, "{case}");
+    }
+}
+
+#[test]
+fn a_desuperheater_above_the_critical_pressure_is_refused_by_the_count() {
+    // critical pressure 22.064 MPa: IAPWS R7-97(2012), Eq. (4)
+    let net = json!({
+        "units": {
+            "M": { "kind": "makeup", "T": "500 degC" },
+            "W": { "kind": "makeup", "T": "20 degC" },
+            "DS": { "kind": "desuperheater", "water": "w", "T": "450 degC", "p": "250 bar" },
+            "V": { "kind": "vent" }
+        },
+        "streams": {
+            "s": { "from": "M", "to": "DS", "flow": 1, "p": "300 bar" },
+            "w": { "from": "W", "to": "DS", "p": "300 bar" },
+            "out": { "from": "DS", "to": "V" }
+        }
+    });
+    let (text, d) = diagnosis(&net);
+    assert_eq!(
+        d["over"][0]["code"], "desuperheater_above_critical",
+        "{d:#}"
+    );
+    assert_eq!(d["over"][0]["value"], 25.0);
+    assert_eq!(d["over"][0]["value_unit"], "MPa");
+    assert!(
+        text.contains("desuperheater DS: the outlet pressure 25 MPa is at or above the critical pressure 22.064 MPa"),
+        "{text}"
+    );
+}

@@ -8,6 +8,7 @@
 //! [`Error::OutOfRange`] names the unit of its value and limit. They reach the caller in these
 //! units: errors are not re-stated in the caller's units.
 
+use crate::plant::balance::Diagnosis;
 use std::fmt;
 
 /// Which side of a limit a value fell on.
@@ -89,6 +90,12 @@ pub enum Error {
     Infeasible {
         /// One-line explanation.
         message: String,
+    },
+    /// A site network is under- or over-specified (refused before solving): what is missing,
+    /// given twice or contradictory, per unit and stream, as data.
+    Specification {
+        /// The degree-of-freedom diagnosis.
+        diagnosis: Box<Diagnosis>,
     },
 }
 
@@ -214,6 +221,7 @@ impl fmt::Display for Error {
                 fmt_num(*limit)
             ),
             Error::Infeasible { message } => write!(f, "{message}"),
+            Error::Specification { diagnosis } => write!(f, "{diagnosis}"),
         }
     }
 }

@@ -8,6 +8,15 @@
 
 #![allow(clippy::needless_range_loop)] // dense elimination reads clearer with indices
 
+/// Who owns an equation: a unit or a stream (by index).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Of {
+    /// A unit's balance or specification.
+    Unit(usize),
+    /// A stream's fixed flow.
+    Stream(usize),
+}
+
 /// One linear equation sum(coef * m) = rhs on stream flows.
 #[derive(Debug, Clone)]
 pub struct Row {
@@ -15,8 +24,8 @@ pub struct Row {
     pub coefs: Vec<(usize, f64)>,
     /// Right-hand side.
     pub rhs: f64,
-    /// Who owns it, e.g. "header HP" or "stream S1".
-    pub owner: String,
+    /// Who owns it.
+    pub owner: Of,
     /// What it says, e.g. "mass balance" or "fixed flow".
     pub what: &'static str,
     /// A specification (fixed flow, demand, power...) rather than a unit balance.
@@ -24,7 +33,7 @@ pub struct Row {
 }
 
 impl Row {
-    pub fn new(owner: String, what: &'static str) -> Row {
+    pub fn new(owner: Of, what: &'static str) -> Row {
         Row {
             coefs: Vec::new(),
             rhs: 0.0,
@@ -33,7 +42,7 @@ impl Row {
             spec: false,
         }
     }
-    pub fn spec(owner: String, what: &'static str) -> Row {
+    pub fn spec(owner: Of, what: &'static str) -> Row {
         Row {
             spec: true,
             ..Row::new(owner, what)

@@ -7,21 +7,35 @@
 //! units). Energy flows are m h with the IAPWS-IF97 enthalpy reference (liquid at the triple
 //! point), so site totals are absolute enthalpy flows.
 //!
-//! Method: pressures are fixed first (from units and streams); then successive substitution:
+//! Method: [`Model::build`] checks the network once (structure, specifications, ranges) and
+//! fixes every stream's pressure (from units and streams); then successive substitution:
 //! with the flows known, every stream state follows from its source unit (mixing, expansion,
 //! saturation...); with the states known, the flows satisfy a square linear system (mass
 //! balances, energy balances of deaerators and desuperheaters, splits, specifications), solved
 //! directly. Recycles (deaerator feedwater, condensate returns) need no tearing of their own.
 //! Before solving, the degrees of freedom are counted: the flow system's rank tells which
-//! streams are free (under-specified) and which equations clash (over-specified); the error
-//! names them and suggests the usual choice.
+//! streams are free (under-specified) and which equations clash (over-specified). A refused
+//! network gets an [`Error::Specification`](crate::error::Error::Specification) whose
+//! [`Diagnosis`] names the units, streams and quantities and suggests the usual choice.
+//!
+//! Layout: `model.rs` (the validated model), `units/` (one module per unit kind, behind two
+//! traits), `solve.rs` (the iteration and the results), `dof.rs` (the linear flow system and
+//! its rank), `diagnosis.rs` (the findings as data and their text).
 //!
 //! Invariant: on success every unit's mass and energy balance and the site's overall balance
 //! close to 1e-9 relative (checked; otherwise `NotConverged`).
 
+mod diagnosis;
 mod dof;
+mod model;
 mod solve;
+mod units;
 
+pub use diagnosis::{
+    ClashHint, Diagnosis, Equation, Finding, FlowHint, FlowStatus, Interval, Owner, Side, Source,
+    StreamStatus, UnitRef, UnitStatus,
+};
+pub use model::Model;
 pub use solve::{solve, solve_from, sweep};
 
 use super::Balance;
@@ -186,6 +200,88 @@ impl Unit {
             Unit::Vent => "vent",
             Unit::Makeup { .. } => "makeup",
         }
+    }
+
+    /// The specifications given on the unit, as named on the wire.
+    pub fn given(&self) -> Vec<&'static str> {
+        fn some<T>(v: &mut Vec<&'static str>, name: &'static str, x: &Option<T>) {
+            if x.is_some() {
+                v.push(name);
+            }
+        }
+        let mut v = Vec::new();
+        match self {
+            Unit::Boiler {
+                p,
+                t,
+                efficiency,
+                blowdown_fraction,
+                blowdown,
+                steam_flow,
+            } => {
+                some(&mut v, "p", p);
+                some(&mut v, "T", t);
+                some(&mut v, "efficiency", efficiency);
+                if *blowdown_fraction != 0.0 {
+                    v.push("blowdown_fraction");
+                }
+                some(&mut v, "blowdown", blowdown);
+                some(&mut v, "steam_flow", steam_flow);
+            }
+            Unit::Turbine { efficiency, power } => {
+                some(&mut v, "efficiency", efficiency);
+                some(&mut v, "power", power);
+            }
+            Unit::Valve { p } | Unit::Header { p } | Unit::Condenser { p } => some(&mut v, "p", p),
+            Unit::Desuperheater {
+                water,
+                p,
+                t,
+                superheat,
+            } => {
+                some(&mut v, "water", water);
+                some(&mut v, "p", p);
+                some(&mut v, "T", t);
+                some(&mut v, "superheat", superheat);
+            }
+            Unit::Deaerator {
+                p,
+                steam,
+                vent,
+                vent_fraction,
+            } => {
+                some(&mut v, "p", p);
+                some(&mut v, "steam", steam);
+                some(&mut v, "vent", vent);
+                some(&mut v, "vent_fraction", vent_fraction);
+            }
+            Unit::Flash { p, vapour } => {
+                some(&mut v, "p", p);
+                some(&mut v, "vapour", vapour);
+            }
+            Unit::Pump { p, efficiency } => {
+                some(&mut v, "p", p);
+                some(&mut v, "efficiency", efficiency);
+            }
+            Unit::Exchanger { hot_in, hot_out } => {
+                some(&mut v, "hot_in", hot_in);
+                some(&mut v, "hot_out", hot_out);
+            }
+            Unit::User {
+                demand,
+                return_fraction,
+                return_t,
+            } => {
+                some(&mut v, "demand", demand);
+                if *return_fraction != 0.0 {
+                    v.push("return_fraction");
+                }
+                some(&mut v, "return_T", return_t);
+            }
+            Unit::Vent => {}
+            Unit::Makeup { t } => some(&mut v, "T", t),
+        }
+        v
     }
 }
 

@@ -1,0 +1,972 @@
+//! The degree-of-freedom diagnosis of a site network, as data: every finding (a missing
+//! specification, a specification given twice or out of range, a stream whose pressure or
+//! state is not the caller's to give, flows the equations leave free, equations that cannot
+//! all hold) names its units, streams and quantity; each stream's status says who fixes its
+//! flow, pressure and state; each unit lists the specifications it was given.
+//!
+//! Units: values inside findings are in the internal units of the balance (MPa, K, kg/s).
+//!
+//! Invariant: text is rendered only by the `Display` impls here, from the data; the
+//! rendering of a [`Diagnosis`] is the one-line message of the refusal (the under-specified
+//! findings, then the over-specified ones, each in the order found).
+
+use crate::water::state::P_C;
+use std::fmt;
+
+/// A unit named in a finding: its name and kind.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct UnitRef {
+    /// Unit name.
+    pub name: String,
+    /// Unit kind as on the wire, e.g. "header".
+    pub kind: &'static str,
+}
+
+impl UnitRef {
+    /// A unit of `kind` named `name`.
+    pub fn new(name: &str, kind: &'static str) -> UnitRef {
+        UnitRef {
+            name: name.to_string(),
+            kind,
+        }
+    }
+}
+
+impl fmt::Display for UnitRef {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{} {}", self.kind, self.name)
+    }
+}
+
+/// Missing (under-specified) or too much (over-specified).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Side {
+    /// Something the balance needs is not given.
+    Under,
+    /// Something is given twice, contradicts another specification or is out of range.
+    Over,
+}
+
+/// The interval a specification must lie in (as the message prints it).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Interval {
+    /// low < v <= high, printed "(low, high]".
+    OpenClosed,
+    /// low <= v < high, printed "low..high".
+    ClosedOpen,
+    /// low <= v <= high, printed "low..high".
+    Closed,
+}
+
+/// Who owns an equation of the flow system.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Owner {
+    /// A unit (its balance or one of its specifications).
+    Unit(UnitRef),
+    /// A stream (its fixed flow).
+    Stream(String),
+}
+
+impl fmt::Display for Owner {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Owner::Unit(u) => write!(f, "{u}"),
+            Owner::Stream(s) => write!(f, "stream {s}"),
+        }
+    }
+}
+
+/// One equation of the flow system, named by its owner and what it says.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Equation {
+    /// The unit or stream it belongs to.
+    pub owner: Owner,
+    /// What it says, e.g. "mass balance", "fixed flow", "steam demand".
+    pub what: &'static str,
+    /// A specification (fixed flow, demand, power, steam flow, vent fraction) rather than a
+    /// unit balance.
+    pub specification: bool,
+}
+
+impl fmt::Display for Equation {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{} ({})", self.owner, self.what)
+    }
+}
+
+/// The usual choice that would fix free flows.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum FlowHint {
+    /// Give the steam flow of a turbine (a flow of one of its streams) or its power.
+    TurbineFlow {
+        /// Turbine name.
+        unit: String,
+    },
+    /// Give the steam demand of a process user.
+    UserDemand {
+        /// User name.
+        unit: String,
+    },
+    /// Give the steam flow of a boiler, or let a header or user downstream fix it.
+    BoilerSteamFlow {
+        /// Boiler name.
+        unit: String,
+    },
+    /// A header has several outlets and no rule to share its steam among them.
+    HeaderOutlets {
+        /// Header name.
+        unit: String,
+        /// Its outlets whose flows are free.
+        outlets: Vec<String>,
+    },
+    /// Give a deaerator's vent fraction or the flow of its vent stream.
+    DeaeratorVent {
+        /// Deaerator name.
+        unit: String,
+        /// Its vent stream.
+        vent: String,
+    },
+    /// A vent or make-up takes any flow: fix a flow or demand elsewhere.
+    Boundary {
+        /// The vent or make-up.
+        unit: UnitRef,
+    },
+}
+
+impl FlowHint {
+    /// Stable snake-case name of the hint.
+    pub fn code(&self) -> &'static str {
+        match self {
+            FlowHint::TurbineFlow { .. } => "give_turbine_flow",
+            FlowHint::UserDemand { .. } => "give_user_demand",
+            FlowHint::BoilerSteamFlow { .. } => "give_boiler_steam_flow",
+            FlowHint::HeaderOutlets { .. } => "share_header_outlets",
+            FlowHint::DeaeratorVent { .. } => "give_deaerator_vent",
+            FlowHint::Boundary { .. } => "boundary_takes_any_flow",
+        }
+    }
+    /// The unit the hint is about.
+    pub fn unit(&self) -> &str {
+        match self {
+            FlowHint::TurbineFlow { unit }
+            | FlowHint::UserDemand { unit }
+            | FlowHint::BoilerSteamFlow { unit }
+            | FlowHint::HeaderOutlets { unit, .. }
+            | FlowHint::DeaeratorVent { unit, .. } => unit,
+            FlowHint::Boundary { unit } => &unit.name,
+        }
+    }
+    /// The streams the hint names.
+    pub fn streams(&self) -> Vec<&str> {
+        match self {
+            FlowHint::HeaderOutlets { outlets, .. } => outlets.iter().map(String::as_str).collect(),
+            FlowHint::DeaeratorVent { vent, .. } => vec![vent.as_str()],
+            FlowHint::TurbineFlow { .. }
+            | FlowHint::UserDemand { .. }
+            | FlowHint::BoilerSteamFlow { .. }
+            | FlowHint::Boundary { .. } => Vec::new(),
+        }
+    }
+}
+
+impl fmt::Display for FlowHint {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            FlowHint::TurbineFlow { unit } => write!(
+                f,
+                "give the steam flow of turbine {unit} (the flow of one of its streams) or its power"
+            ),
+            FlowHint::UserDemand { unit } => write!(f, "give the steam demand of user {unit}"),
+            FlowHint::BoilerSteamFlow { unit } => write!(
+                f,
+                "give the steam flow of boiler {unit}, or let a header or user downstream fix it"
+            ),
+            FlowHint::HeaderOutlets { unit, outlets } => write!(
+                f,
+                "header {unit} has {} outlets with no rule to share its steam ({}): give the flow of one of them, or send the surplus to a vent",
+                outlets.len(),
+                outlets.join(", ")
+            ),
+            FlowHint::DeaeratorVent { unit, vent } => write!(
+                f,
+                "give vent_fraction of deaerator {unit} or the flow of its vent stream {vent}"
+            ),
+            FlowHint::Boundary { unit } => write!(
+                f,
+                "{unit} takes any flow: fix a flow or demand elsewhere so that it closes a balance"
+            ),
+        }
+    }
+}
+
+/// The usual way out of equations that cannot all hold.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum ClashHint {
+    /// Every flow at a header is fixed: let a vent or make-up close its balance.
+    HeaderNoFreeOutlet {
+        /// Header name.
+        unit: String,
+    },
+    /// Remove one of these specifications.
+    RemoveOne {
+        /// The specifications in the clash.
+        specifications: Vec<Equation>,
+    },
+    /// The site has no make-up unit to replace water lost.
+    AddMakeup,
+    /// A vent unit could take surplus steam.
+    AddVent,
+}
+
+impl ClashHint {
+    /// Stable snake-case name of the hint.
+    pub fn code(&self) -> &'static str {
+        match self {
+            ClashHint::HeaderNoFreeOutlet { .. } => "header_has_no_free_outlet",
+            ClashHint::RemoveOne { .. } => "remove_one_specification",
+            ClashHint::AddMakeup => "add_makeup",
+            ClashHint::AddVent => "add_vent",
+        }
+    }
+}
+
+impl fmt::Display for ClashHint {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ClashHint::HeaderNoFreeOutlet { unit } => write!(
+                f,
+                "header {unit} has no free outlet flow: let a vent or make-up close the balance"
+            ),
+            ClashHint::RemoveOne { specifications } => {
+                write!(f, "remove one of: {}", join(specifications, ", "))
+            }
+            ClashHint::AddMakeup => f.write_str(
+                "the site has no makeup unit: water lost at users, blowdown or vents cannot be replaced; add one",
+            ),
+            ClashHint::AddVent => f.write_str("a vent unit can take surplus steam"),
+        }
+    }
+}
+
+/// One finding of the degree-of-freedom analysis.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Finding {
+    // ---- values out of range (over-specified) ----
+    /// A unit's specification lies outside its interval.
+    OutOfRange {
+        /// The unit.
+        unit: UnitRef,
+        /// The specification, as named on the wire.
+        quantity: &'static str,
+        /// The value given.
+        value: f64,
+        /// Lowest allowed value.
+        low: f64,
+        /// Highest allowed value.
+        high: f64,
+        /// Which ends are allowed.
+        interval: Interval,
+    },
+    /// A user's steam demand is negative (kg/s).
+    NegativeDemand {
+        /// The user.
+        unit: UnitRef,
+        /// The demand, kg/s.
+        value: f64,
+    },
+    // ---- streams ----
+    /// A stream carries T, h or x although its source unit sets its state.
+    StateSetBySource {
+        /// The stream.
+        stream: String,
+        /// Its source unit.
+        unit: UnitRef,
+        /// How the unit sets it, e.g. "mixing at the header pressure".
+        by: &'static str,
+    },
+    /// A stream carries a pressure other than the one its source unit sets (MPa).
+    PressureSetBySource {
+        /// The stream.
+        stream: String,
+        /// Its source unit.
+        unit: UnitRef,
+        /// The unit's pressure, MPa.
+        p: f64,
+    },
+    /// Nothing fixes a stream's pressure.
+    PressureNotFixed {
+        /// The stream.
+        stream: String,
+        /// Its source unit.
+        from: UnitRef,
+        /// Its destination unit.
+        to: UnitRef,
+    },
+    /// A stream's pressure is zero or negative (MPa).
+    PressureNotPositive {
+        /// The stream.
+        stream: String,
+        /// Its pressure, MPa.
+        p: f64,
+    },
+    /// A stream carries more than one of T, h and x.
+    StateGivenTwice {
+        /// The stream.
+        stream: String,
+        /// How many of T, h and x it carries.
+        count: usize,
+    },
+    /// A stream's quality lies outside 0..1.
+    QualityOutOfRange {
+        /// The stream.
+        stream: String,
+        /// The quality given.
+        x: f64,
+    },
+    /// A pump's discharge pressure is not above its suction pressure (MPa).
+    PumpDoesNotRaise {
+        /// The pump.
+        unit: UnitRef,
+        /// Discharge pressure, MPa.
+        discharge: f64,
+        /// Suction pressure, MPa.
+        suction: f64,
+    },
+    /// A desuperheater's outlet is at or above the critical pressure (MPa), where steam has
+    /// no superheat.
+    DesuperheaterAboveCritical {
+        /// The desuperheater.
+        unit: UnitRef,
+        /// Outlet pressure, MPa.
+        p: f64,
+    },
+    // ---- missing specifications (under-specified) ----
+    /// A boiler without a steam temperature (neither on the boiler nor on its steam stream).
+    MissingSteamTemperature {
+        /// The boiler.
+        unit: UnitRef,
+        /// Its steam stream.
+        stream: String,
+    },
+    /// A boiler without an efficiency.
+    MissingBoilerEfficiency {
+        /// The boiler.
+        unit: UnitRef,
+    },
+    /// A turbine without an efficiency and outlets without a measured state.
+    MissingTurbineEfficiency {
+        /// The turbine.
+        unit: UnitRef,
+        /// Its outlets without T, h or x.
+        outlets: Vec<String>,
+    },
+    /// A pump without an efficiency.
+    MissingPumpEfficiency {
+        /// The pump.
+        unit: UnitRef,
+    },
+    /// A desuperheater with no target (T, superheat or T on the outlet).
+    MissingDesuperheaterTarget {
+        /// The desuperheater.
+        unit: UnitRef,
+        /// Its outlet stream.
+        stream: String,
+    },
+    /// A header, deaerator, flash vessel or condenser without its pressure.
+    MissingPressure {
+        /// The unit.
+        unit: UnitRef,
+    },
+    /// An exchanger with neither outlet state given.
+    MissingExchangerOutlet {
+        /// The exchanger.
+        unit: UnitRef,
+        /// Its hot outlet.
+        hot_out: String,
+        /// Its cold outlet.
+        cold_out: String,
+    },
+    /// A user without a return stream and without the temperature of its lost condensate.
+    MissingLostCondensateTemperature {
+        /// The user.
+        unit: UnitRef,
+    },
+    /// A user whose return stream has no temperature (neither return_T nor T on the stream).
+    MissingReturnTemperature {
+        /// The user.
+        unit: UnitRef,
+        /// Its return stream.
+        stream: String,
+    },
+    /// A make-up outlet without a water temperature.
+    MissingMakeupTemperature {
+        /// The make-up.
+        unit: UnitRef,
+        /// The outlet stream concerned.
+        stream: String,
+    },
+    // ---- given twice or contradicting (over-specified) ----
+    /// A boiler's steam temperature given on the boiler and on its steam stream.
+    SteamTemperatureTwice {
+        /// The boiler.
+        unit: UnitRef,
+        /// Its steam stream.
+        stream: String,
+    },
+    /// A boiler's steam pressure given on the boiler and, differently, on its steam stream.
+    SteamPressureConflict {
+        /// The boiler.
+        unit: UnitRef,
+        /// Its steam stream.
+        stream: String,
+    },
+    /// More than one desuperheater target.
+    DesuperheaterTargetTwice {
+        /// The desuperheater.
+        unit: UnitRef,
+        /// Its outlet stream.
+        stream: String,
+    },
+    /// A user's demand given as demand and as the flow of its steam stream.
+    DemandTwice {
+        /// The user.
+        unit: UnitRef,
+        /// Its steam stream.
+        stream: String,
+    },
+    /// A user's return temperature given as return_T and on its return stream.
+    ReturnTemperatureTwice {
+        /// The user.
+        unit: UnitRef,
+        /// Its return stream.
+        stream: String,
+    },
+    /// A return fraction above zero but no return stream.
+    ReturnWithoutStream {
+        /// The user.
+        unit: UnitRef,
+        /// The return fraction given.
+        return_fraction: f64,
+    },
+    /// A make-up water temperature given on the make-up and on its outlet stream.
+    MakeupTemperatureTwice {
+        /// The make-up.
+        unit: UnitRef,
+        /// The outlet stream.
+        stream: String,
+    },
+    // ---- the flow equations ----
+    /// The flow equations leave flows free.
+    FlowsNotFixed {
+        /// Number of equations missing.
+        missing: usize,
+        /// Streams whose flows are not fixed.
+        undetermined: Vec<String>,
+        /// Streams whose flows, if given, would close the system (one per missing equation).
+        free: Vec<String>,
+        /// The usual choices.
+        hints: Vec<FlowHint>,
+    },
+    /// Equations (one or more specifications among them) that cannot all hold independently.
+    EquationsClash {
+        /// The equations.
+        equations: Vec<Equation>,
+        /// The usual ways out.
+        hints: Vec<ClashHint>,
+    },
+}
+
+impl Finding {
+    /// Under- or over-specified.
+    pub fn side(&self) -> Side {
+        use Finding::*;
+        match self {
+            PressureNotFixed { .. }
+            | MissingSteamTemperature { .. }
+            | MissingBoilerEfficiency { .. }
+            | MissingTurbineEfficiency { .. }
+            | MissingPumpEfficiency { .. }
+            | MissingDesuperheaterTarget { .. }
+            | MissingPressure { .. }
+            | MissingExchangerOutlet { .. }
+            | MissingLostCondensateTemperature { .. }
+            | MissingReturnTemperature { .. }
+            | MissingMakeupTemperature { .. }
+            | FlowsNotFixed { .. } => Side::Under,
+            OutOfRange { .. }
+            | NegativeDemand { .. }
+            | StateSetBySource { .. }
+            | PressureSetBySource { .. }
+            | PressureNotPositive { .. }
+            | StateGivenTwice { .. }
+            | QualityOutOfRange { .. }
+            | PumpDoesNotRaise { .. }
+            | DesuperheaterAboveCritical { .. }
+            | SteamTemperatureTwice { .. }
+            | SteamPressureConflict { .. }
+            | DesuperheaterTargetTwice { .. }
+            | DemandTwice { .. }
+            | ReturnTemperatureTwice { .. }
+            | ReturnWithoutStream { .. }
+            | MakeupTemperatureTwice { .. }
+            | EquationsClash { .. } => Side::Over,
+        }
+    }
+
+    /// Stable snake-case name of the finding.
+    pub fn code(&self) -> &'static str {
+        use Finding::*;
+        match self {
+            OutOfRange { .. } => "out_of_range",
+            NegativeDemand { .. } => "negative_demand",
+            StateSetBySource { .. } => "state_set_by_source",
+            PressureSetBySource { .. } => "pressure_set_by_source",
+            PressureNotFixed { .. } => "pressure_not_fixed",
+            PressureNotPositive { .. } => "pressure_not_positive",
+            StateGivenTwice { .. } => "state_given_twice",
+            QualityOutOfRange { .. } => "quality_out_of_range",
+            PumpDoesNotRaise { .. } => "pump_does_not_raise",
+            DesuperheaterAboveCritical { .. } => "desuperheater_above_critical",
+            MissingSteamTemperature { .. } => "missing_steam_temperature",
+            MissingBoilerEfficiency { .. } => "missing_boiler_efficiency",
+            MissingTurbineEfficiency { .. } => "missing_turbine_efficiency",
+            MissingPumpEfficiency { .. } => "missing_pump_efficiency",
+            MissingDesuperheaterTarget { .. } => "missing_desuperheater_target",
+            MissingPressure { .. } => "missing_pressure",
+            MissingExchangerOutlet { .. } => "missing_exchanger_outlet",
+            MissingLostCondensateTemperature { .. } => "missing_lost_condensate_temperature",
+            MissingReturnTemperature { .. } => "missing_return_temperature",
+            MissingMakeupTemperature { .. } => "missing_makeup_temperature",
+            SteamTemperatureTwice { .. } => "steam_temperature_twice",
+            SteamPressureConflict { .. } => "steam_pressure_conflict",
+            DesuperheaterTargetTwice { .. } => "desuperheater_target_twice",
+            DemandTwice { .. } => "demand_twice",
+            ReturnTemperatureTwice { .. } => "return_temperature_twice",
+            ReturnWithoutStream { .. } => "return_without_stream",
+            MakeupTemperatureTwice { .. } => "makeup_temperature_twice",
+            FlowsNotFixed { .. } => "flows_not_fixed",
+            EquationsClash { .. } => "equations_clash",
+        }
+    }
+
+    /// The specification concerned, as named on the wire (on the unit, or on a stream for
+    /// "flow", "p" and "T"), if the finding is about one.
+    pub fn quantity(&self) -> Option<&'static str> {
+        use Finding::*;
+        match self {
+            OutOfRange { quantity, .. } => Some(quantity),
+            NegativeDemand { .. } | DemandTwice { .. } => Some("demand"),
+            StateSetBySource { .. } | StateGivenTwice { .. } => None,
+            PressureSetBySource { .. }
+            | PressureNotFixed { .. }
+            | PressureNotPositive { .. }
+            | PumpDoesNotRaise { .. }
+            | DesuperheaterAboveCritical { .. } => Some("p"),
+            QualityOutOfRange { .. } => Some("x"),
+            MissingPressure { .. } | SteamPressureConflict { .. } => Some("p"),
+            MissingSteamTemperature { .. }
+            | MissingDesuperheaterTarget { .. }
+            | MissingExchangerOutlet { .. }
+            | MissingMakeupTemperature { .. }
+            | SteamTemperatureTwice { .. }
+            | DesuperheaterTargetTwice { .. }
+            | MakeupTemperatureTwice { .. } => Some("T"),
+            MissingBoilerEfficiency { .. }
+            | MissingTurbineEfficiency { .. }
+            | MissingPumpEfficiency { .. } => Some("efficiency"),
+            MissingLostCondensateTemperature { .. }
+            | MissingReturnTemperature { .. }
+            | ReturnTemperatureTwice { .. } => Some("return_T"),
+            ReturnWithoutStream { .. } => Some("return_fraction"),
+            FlowsNotFixed { .. } | EquationsClash { .. } => Some("flow"),
+        }
+    }
+
+    /// The value concerned and its unit (internal units: "MPa", "kg/s", "" for a pure
+    /// number), if the finding is about one.
+    pub fn value(&self) -> Option<(f64, &'static str)> {
+        use Finding::*;
+        match self {
+            OutOfRange { value, .. } => Some((*value, "")),
+            NegativeDemand { value, .. } => Some((*value, "kg/s")),
+            PressureSetBySource { p, .. }
+            | PressureNotPositive { p, .. }
+            | DesuperheaterAboveCritical { p, .. } => Some((*p, "MPa")),
+            PumpDoesNotRaise { discharge, .. } => Some((*discharge, "MPa")),
+            QualityOutOfRange { x, .. } => Some((*x, "")),
+            StateGivenTwice { count, .. } => Some((*count as f64, "")),
+            ReturnWithoutStream {
+                return_fraction, ..
+            } => Some((*return_fraction, "")),
+            StateSetBySource { .. }
+            | PressureNotFixed { .. }
+            | MissingSteamTemperature { .. }
+            | MissingBoilerEfficiency { .. }
+            | MissingTurbineEfficiency { .. }
+            | MissingPumpEfficiency { .. }
+            | MissingDesuperheaterTarget { .. }
+            | MissingPressure { .. }
+            | MissingExchangerOutlet { .. }
+            | MissingLostCondensateTemperature { .. }
+            | MissingReturnTemperature { .. }
+            | MissingMakeupTemperature { .. }
+            | SteamTemperatureTwice { .. }
+            | SteamPressureConflict { .. }
+            | DesuperheaterTargetTwice { .. }
+            | DemandTwice { .. }
+            | ReturnTemperatureTwice { .. }
+            | MakeupTemperatureTwice { .. }
+            | FlowsNotFixed { .. }
+            | EquationsClash { .. } => None,
+        }
+    }
+
+    /// The units the finding names.
+    pub fn units(&self) -> Vec<&UnitRef> {
+        use Finding::*;
+        match self {
+            OutOfRange { unit, .. }
+            | NegativeDemand { unit, .. }
+            | StateSetBySource { unit, .. }
+            | PressureSetBySource { unit, .. }
+            | MissingSteamTemperature { unit, .. }
+            | MissingBoilerEfficiency { unit }
+            | MissingTurbineEfficiency { unit, .. }
+            | MissingPumpEfficiency { unit }
+            | MissingDesuperheaterTarget { unit, .. }
+            | MissingPressure { unit }
+            | MissingExchangerOutlet { unit, .. }
+            | MissingLostCondensateTemperature { unit }
+            | MissingReturnTemperature { unit, .. }
+            | MissingMakeupTemperature { unit, .. }
+            | SteamTemperatureTwice { unit, .. }
+            | SteamPressureConflict { unit, .. }
+            | DesuperheaterTargetTwice { unit, .. }
+            | DemandTwice { unit, .. }
+            | ReturnTemperatureTwice { unit, .. }
+            | ReturnWithoutStream { unit, .. }
+            | MakeupTemperatureTwice { unit, .. } => vec![unit],
+            PressureNotFixed { from, to, .. } => vec![from, to],
+            PumpDoesNotRaise { unit, .. } | DesuperheaterAboveCritical { unit, .. } => vec![unit],
+            PressureNotPositive { .. }
+            | StateGivenTwice { .. }
+            | QualityOutOfRange { .. }
+            | FlowsNotFixed { .. } => Vec::new(),
+            EquationsClash { equations, .. } => {
+                let mut v: Vec<&UnitRef> = Vec::new();
+                for e in equations {
+                    if let Owner::Unit(u) = &e.owner {
+                        if !v.contains(&u) {
+                            v.push(u);
+                        }
+                    }
+                }
+                v
+            }
+        }
+    }
+
+    /// The streams the finding names.
+    pub fn streams(&self) -> Vec<&str> {
+        use Finding::*;
+        match self {
+            StateSetBySource { stream, .. }
+            | PressureSetBySource { stream, .. }
+            | PressureNotFixed { stream, .. }
+            | PressureNotPositive { stream, .. }
+            | QualityOutOfRange { stream, .. }
+            | StateGivenTwice { stream, .. }
+            | MissingSteamTemperature { stream, .. }
+            | MissingDesuperheaterTarget { stream, .. }
+            | MissingReturnTemperature { stream, .. }
+            | MissingMakeupTemperature { stream, .. }
+            | SteamTemperatureTwice { stream, .. }
+            | SteamPressureConflict { stream, .. }
+            | DesuperheaterTargetTwice { stream, .. }
+            | DemandTwice { stream, .. }
+            | ReturnTemperatureTwice { stream, .. }
+            | MakeupTemperatureTwice { stream, .. } => vec![stream.as_str()],
+            MissingTurbineEfficiency { outlets, .. } => {
+                outlets.iter().map(String::as_str).collect()
+            }
+            MissingExchangerOutlet {
+                hot_out, cold_out, ..
+            } => vec![hot_out.as_str(), cold_out.as_str()],
+            FlowsNotFixed { undetermined, .. } => undetermined.iter().map(String::as_str).collect(),
+            EquationsClash { equations, .. } => equations
+                .iter()
+                .filter_map(|e| match &e.owner {
+                    Owner::Stream(s) => Some(s.as_str()),
+                    Owner::Unit(_) => None,
+                })
+                .collect(),
+            OutOfRange { .. }
+            | NegativeDemand { .. }
+            | MissingBoilerEfficiency { .. }
+            | MissingPumpEfficiency { .. }
+            | MissingPressure { .. }
+            | MissingLostCondensateTemperature { .. }
+            | ReturnWithoutStream { .. }
+            | PumpDoesNotRaise { .. }
+            | DesuperheaterAboveCritical { .. } => Vec::new(),
+        }
+    }
+}
+
+fn join<T: fmt::Display>(items: &[T], sep: &str) -> String {
+    items
+        .iter()
+        .map(ToString::to_string)
+        .collect::<Vec<_>>()
+        .join(sep)
+}
+
+/// At most ten names, then "and N more".
+fn list(names: &[String]) -> String {
+    const MAX: usize = 10;
+    if names.len() > MAX {
+        format!("{} and {} more", names[..MAX].join(", "), names.len() - MAX)
+    } else {
+        names.join(", ")
+    }
+}
+
+fn interval(f: &mut fmt::Formatter<'_>, low: f64, high: f64, i: Interval) -> fmt::Result {
+    match i {
+        Interval::OpenClosed => write!(f, "({low}, {high}]"),
+        Interval::ClosedOpen | Interval::Closed => write!(f, "{low}..{high}"),
+    }
+}
+
+impl fmt::Display for Finding {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        use Finding::*;
+        match self {
+            OutOfRange {
+                unit,
+                quantity,
+                value,
+                low,
+                high,
+                interval: i,
+            } => {
+                write!(f, "{unit}: {quantity} = {value} is outside ")?;
+                interval(f, *low, *high, *i)
+            }
+            NegativeDemand { unit, value } => {
+                write!(f, "{unit}: demand = {value} kg/s is negative")
+            }
+            StateSetBySource { stream, unit, by } => write!(
+                f,
+                "stream {stream}: its state is set by {unit} ({by}); remove its T/h/x"
+            ),
+            PressureSetBySource { stream, unit, p } => write!(
+                f,
+                "stream {stream}: its pressure is set by {unit} ({p} MPa); remove p from the stream"
+            ),
+            PressureNotFixed { stream, from, to } => write!(
+                f,
+                "stream {stream}: its pressure is not fixed: give p on the stream or on {from} or {to}"
+            ),
+            PressureNotPositive { stream, p } => {
+                write!(f, "stream {stream}: pressure {p} MPa is not positive")
+            }
+            StateGivenTwice { stream, count } => write!(
+                f,
+                "stream {stream}: give at most one of T, h, x (with p) — it has {count}"
+            ),
+            QualityOutOfRange { stream, x } => {
+                write!(f, "stream {stream}: x = {x} is outside 0..1")
+            }
+            PumpDoesNotRaise {
+                unit,
+                discharge,
+                suction,
+            } => write!(
+                f,
+                "{unit}: the discharge pressure {discharge} MPa is not above the suction pressure {suction} MPa"
+            ),
+            DesuperheaterAboveCritical { unit, p } => write!(
+                f,
+                "{unit}: the outlet pressure {p} MPa is at or above the critical pressure {P_C} MPa, where steam has no superheat"
+            ),
+            MissingSteamTemperature { unit, stream } => write!(
+                f,
+                "{unit}: give the steam temperature T of boiler {} (or T on its steam stream {stream})",
+                unit.name
+            ),
+            MissingBoilerEfficiency { unit } => write!(
+                f,
+                "{unit}: give the boiler efficiency (heat to steam over fuel heat input, from the plant's test data)"
+            ),
+            MissingTurbineEfficiency { unit, outlets } => write!(
+                f,
+                "{unit}: give its isentropic efficiency, or the measured T of outlet stream(s) {}",
+                outlets.join(", ")
+            ),
+            MissingPumpEfficiency { unit } => write!(f, "{unit}: give its efficiency"),
+            MissingDesuperheaterTarget { unit, stream } => write!(
+                f,
+                "{unit}: give its target temperature T or its target superheat (or T on its outlet stream {stream})"
+            ),
+            MissingPressure { unit } => write!(f, "{unit}: give its pressure p"),
+            MissingExchangerOutlet {
+                unit,
+                hot_out,
+                cold_out,
+            } => write!(
+                f,
+                "{unit}: give the outlet temperature of stream {hot_out} or of stream {cold_out}"
+            ),
+            MissingLostCondensateTemperature { unit } => write!(
+                f,
+                "{unit}: give the condensate temperature return_T (for the lost condensate)"
+            ),
+            MissingReturnTemperature { unit, stream } => write!(
+                f,
+                "{unit}: give the condensate return temperature return_T (or T on stream {stream})"
+            ),
+            MissingMakeupTemperature { unit, .. } => {
+                write!(f, "{unit}: give the make-up water temperature T")
+            }
+            SteamTemperatureTwice { unit, stream } => write!(
+                f,
+                "{unit}: the steam temperature is given both as T of the boiler and on stream {stream}; keep one"
+            ),
+            SteamPressureConflict { unit, stream } => write!(
+                f,
+                "{unit}: the steam pressure is given as p of the boiler and differently on stream {stream}; keep one"
+            ),
+            DesuperheaterTargetTwice { unit, stream } => write!(
+                f,
+                "{unit}: give only one of target T, target superheat and T on its outlet stream {stream}"
+            ),
+            DemandTwice { unit, stream } => write!(
+                f,
+                "{unit}: the steam demand is given both as demand and as the flow of stream {stream}; keep one"
+            ),
+            ReturnTemperatureTwice { unit, stream } => write!(
+                f,
+                "{unit}: the condensate temperature is given both as return_T and on stream {stream}; keep one"
+            ),
+            ReturnWithoutStream {
+                unit,
+                return_fraction,
+            } => write!(
+                f,
+                "{unit}: return_fraction = {return_fraction} but no condensate stream leaves user {n}; add a stream from {n} or set return_fraction 0",
+                n = unit.name
+            ),
+            MakeupTemperatureTwice { unit, stream } => write!(
+                f,
+                "{unit}: the water temperature is given both as T of the make-up and on stream {stream}; keep one"
+            ),
+            FlowsNotFixed {
+                missing,
+                undetermined,
+                free,
+                hints,
+            } => write!(
+                f,
+                "{missing} flow equation(s) missing: the flows of streams {} are not fixed; for example give the flow of stream(s) {}{}{}",
+                list(undetermined),
+                list(free),
+                if hints.is_empty() { "" } else { "; usual choices: " },
+                join(hints, "; ")
+            ),
+            EquationsClash { equations, hints } => write!(
+                f,
+                "these cannot all hold independently: {}; {}",
+                join(equations, ", "),
+                join(hints, "; ")
+            ),
+        }
+    }
+}
+
+/// Who fixes a stream's pressure or state.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Source {
+    /// Given on the stream itself.
+    Stream,
+    /// Set by this unit (its specification or its physics).
+    Unit(String),
+    /// Nothing fixes it.
+    Missing,
+}
+
+/// Whether a stream's flow is fixed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FlowStatus {
+    /// Given on the stream.
+    Given,
+    /// Fixed by the balances and the specifications.
+    Fixed,
+    /// Left free by the flow equations.
+    Free,
+    /// Not analysed: the specifications of the units were refused first.
+    Unknown,
+}
+
+/// What fixes one stream.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct StreamStatus {
+    /// Stream name.
+    pub name: String,
+    /// Its flow.
+    pub flow: FlowStatus,
+    /// Who fixes its pressure.
+    pub pressure: Source,
+    /// Who fixes its state (T, h or x).
+    pub state: Source,
+}
+
+/// What one unit was given.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct UnitStatus {
+    /// The unit.
+    pub unit: UnitRef,
+    /// The specifications given on it, as named on the wire.
+    pub given: Vec<&'static str>,
+}
+
+/// The degree-of-freedom diagnosis of a refused network.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Diagnosis {
+    /// Every finding (at least one): the under-specified ones, then the over-specified ones,
+    /// each in the order the checks found them.
+    pub findings: Vec<Finding>,
+    /// Every unit, in name order.
+    pub units: Vec<UnitStatus>,
+    /// Every stream, in name order.
+    pub streams: Vec<StreamStatus>,
+}
+
+impl Diagnosis {
+    /// The under-specified findings, in order.
+    pub fn under(&self) -> impl Iterator<Item = &Finding> {
+        self.findings.iter().filter(|f| f.side() == Side::Under)
+    }
+    /// The over-specified findings, in order.
+    pub fn over(&self) -> impl Iterator<Item = &Finding> {
+        self.findings.iter().filter(|f| f.side() == Side::Over)
+    }
+}
+
+impl fmt::Display for Diagnosis {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let under: Vec<&Finding> = self.under().collect();
+        let over: Vec<&Finding> = self.over().collect();
+        f.write_str("site balance: ")?;
+        if !under.is_empty() {
+            write!(f, "under-specified: {}", join(&under, " | "))?;
+        }
+        if !over.is_empty() {
+            if !under.is_empty() {
+                f.write_str(" || ")?;
+            }
+            write!(f, "over-specified: {}", join(&over, " | "))?;
+        }
+        Ok(())
+    }
+}

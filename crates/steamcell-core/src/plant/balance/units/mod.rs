@@ -1,0 +1,371 @@
+//! The unit kinds of the site balance, one module per kind. Each implements [`Draft`] (the
+//! build step: how the unit is wired to its streams, which stream pressures and states it
+//! sets, what it needs given and in which range) and [`UnitKind`] (the solve step: its outlet
+//! states, its flow equations, its hints when flows are free or equations clash, its result).
+//!
+//! Adding a kind: its variant of [`Unit`] (with its `kind()` name and `given()` list), one
+//! module here implementing both traits, and its arm in [`draft`]; the compiler then lists
+//! everything else it must provide (every trait method; the API's wire conversion).
+//!
+//! Units: internal (MPa, K, kJ/kg, kg/s, kW).
+//!
+//! Invariant: behaviour that depends on the kind of a unit lives in its module, reached
+//! through the two traits; nothing matches on unit kinds with a fallback arm.
+
+use super::diagnosis::{ClashHint, FlowHint, UnitRef};
+use super::dof::{Of, Row};
+use super::model::{Findings, Model, Refused, Wiring};
+use super::{FixedState, SankeyLink, Totals, Unit, UnitResult};
+use crate::error::{Error, Result};
+use crate::water::state::{self, State};
+use std::fmt;
+
+mod boiler;
+mod condenser;
+mod deaerator;
+mod desuperheater;
+mod exchanger;
+mod flash;
+mod header;
+mod makeup;
+mod pump;
+mod turbine;
+mod user;
+mod valve;
+mod vent;
+
+/// Pressure assumed for make-up water with no other pressure (atmospheric, 0.101325 MPa).
+const P_ATM: f64 = 0.101_325;
+
+/// Wires unit `u` of the network to its streams; a structural error (port counts, named
+/// ports) is returned at once.
+pub(super) fn draft(unit: &Unit, u: usize, w: &Wiring) -> Result<Box<dyn Draft>> {
+    Ok(match unit {
+        Unit::Boiler {
+            p,
+            t,
+            efficiency,
+            blowdown_fraction,
+            blowdown,
+            steam_flow,
+        } => boiler::draft(
+            w,
+            u,
+            boiler::Given {
+                p: *p,
+                t: *t,
+                efficiency: *efficiency,
+                blowdown_fraction: *blowdown_fraction,
+                blowdown: blowdown.as_deref(),
+                steam_flow: *steam_flow,
+            },
+        )?,
+        Unit::Turbine { efficiency, power } => turbine::draft(w, u, *efficiency, *power)?,
+        Unit::Valve { p } => valve::draft(w, u, *p)?,
+        Unit::Desuperheater {
+            water,
+            p,
+            t,
+            superheat,
+        } => desuperheater::draft(w, u, water.as_deref(), *p, *t, *superheat)?,
+        Unit::Header { p } => header::draft(w, u, *p)?,
+        Unit::Deaerator {
+            p,
+            steam,
+            vent,
+            vent_fraction,
+        } => deaerator::draft(w, u, *p, steam.as_deref(), vent.as_deref(), *vent_fraction)?,
+        Unit::Flash { p, vapour } => flash::draft(w, u, *p, vapour.as_deref())?,
+        Unit::Pump { p, efficiency } => pump::draft(w, u, *p, *efficiency)?,
+        Unit::Condenser { p } => condenser::draft(w, u, *p)?,
+        Unit::Exchanger { hot_in, hot_out } => {
+            exchanger::draft(w, u, hot_in.as_deref(), hot_out.as_deref())?
+        }
+        Unit::User {
+            demand,
+            return_fraction,
+            return_t,
+        } => user::draft(w, u, *demand, *return_fraction, *return_t)?,
+        Unit::Vent => vent::draft(w, u)?,
+        Unit::Makeup { t } => makeup::draft(w, u, *t)?,
+    })
+}
+
+/// A unit wired to its streams, before its specification is checked (build step).
+pub(super) trait Draft {
+    /// How the unit sets the state of its outlet `s` ("mixing at the header pressure"), or
+    /// None when the stream's own T, h or x is used (or needed).
+    fn sets_state(&self, s: usize) -> Option<&'static str>;
+    /// The pressure the unit imposes on its outlet `s`, if any.
+    fn outlet_p(&self, s: usize, w: &Wiring) -> Option<f64>;
+    /// Whether a stream pressure other than [`Draft::outlet_p`] is reported as a conflict
+    /// (false: the unit checks its outlet pressure itself).
+    fn checks_outlet_p(&self) -> bool;
+    /// The pressure the unit imposes on its inlet `s`, if any.
+    fn inlet_p(&self, s: usize, w: &Wiring) -> Option<f64>;
+    /// The pressure of its outlet `s` when nothing else fixes it, if the unit has one.
+    fn default_p(&self, s: usize, w: &Wiring) -> Option<f64>;
+    /// Checks the specification (ranges, missing or doubled values) with every stream
+    /// pressure resolved, and returns the unit with every value it needs.
+    fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused>;
+}
+
+/// A site boundary.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(super) enum Boundary {
+    /// Make-up: takes in whatever water is needed.
+    Source,
+    /// Vent: sends out whatever is left.
+    Sink,
+}
+
+/// A validated unit (solve step).
+pub(super) trait UnitKind: fmt::Debug + Send + Sync {
+    /// Sets the unit's outlet states from its inlet states and the flows `m`; Ok(false)
+    /// while an inlet state it needs is unknown. `aux` is the unit's own unknown (a flash
+    /// vessel's vapour fraction), kept between passes.
+    fn states(&self, at: At, m: &[f64], st: &mut [Option<State>], aux: &mut f64) -> Result<bool>;
+    /// Appends the unit's flow equations at the current states: balances to `bal`,
+    /// specifications to `spec`.
+    fn flow_equations(
+        &self,
+        at: At,
+        st: &[Option<State>],
+        aux: f64,
+        bal: &mut Vec<Row>,
+        spec: &mut Vec<Row>,
+    );
+    /// The usual choice when the flow of its stream `s` is left free (`undetermined`: every
+    /// stream whose flow is).
+    fn flow_hint(&self, at: At, s: usize, undetermined: &[usize]) -> Option<FlowHint>;
+    /// The usual way out when its equation `what` is among equations that clash.
+    fn clash_hint(&self, at: At, what: &'static str) -> Option<ClashHint>;
+    /// Completes its result (power, duty, losses, warnings), the site totals and the
+    /// energy-flow links from the solved flows and states.
+    fn results(&self, at: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()>;
+    /// The boundary it is, if any.
+    fn boundary(&self) -> Option<Boundary>;
+    /// Whether a negative outlet flow is warned about in the common words (a valve has
+    /// its own warning).
+    fn warns_negative_outlets(&self) -> bool;
+}
+
+/// Unit `u` of a model, as the solve step sees it.
+#[derive(Clone, Copy)]
+pub(super) struct At<'a> {
+    pub model: &'a Model,
+    pub u: usize,
+}
+
+impl<'a> At<'a> {
+    /// Unit name.
+    pub fn name(self) -> &'a str {
+        &self.model.units[self.u].name
+    }
+    /// Inlet streams.
+    pub fn ins(self) -> &'a [usize] {
+        &self.model.units[self.u].ins
+    }
+    /// Outlet streams.
+    pub fn outs(self) -> &'a [usize] {
+        &self.model.units[self.u].outs
+    }
+    /// Stream name.
+    pub fn stream(self, s: usize) -> &'a str {
+        &self.model.streams[s].name
+    }
+    /// Stream pressure, MPa.
+    pub fn p(self, s: usize) -> f64 {
+        self.model.streams[s].p
+    }
+    /// "kind name".
+    pub fn label(self) -> String {
+        let u = &self.model.units[self.u];
+        format!("{} {}", u.kind, u.name)
+    }
+    /// The unit for a diagnosis.
+    pub fn unit_ref(self) -> UnitRef {
+        let u = &self.model.units[self.u];
+        UnitRef::new(&u.name, u.kind)
+    }
+    /// The boundary unit `v` is, if any.
+    pub fn boundary_of(self, v: usize) -> Option<Boundary> {
+        self.model.units[v].unit.boundary()
+    }
+    /// Prefixes an input or feasibility error with "kind name: ".
+    pub fn tag(self) -> impl Fn(Error) -> Error + 'a {
+        move |e| match e {
+            Error::InvalidInput { message } => {
+                Error::invalid(format!("{}: {message}", self.label()))
+            }
+            Error::Infeasible { message } => {
+                Error::infeasible(format!("{}: {message}", self.label()))
+            }
+            other => other,
+        }
+    }
+    /// A balance equation of this unit.
+    pub fn row(self, what: &'static str) -> Row {
+        Row::new(Of::Unit(self.u), what)
+    }
+    /// A specification equation of this unit.
+    pub fn spec_row(self, what: &'static str) -> Row {
+        Row::spec(Of::Unit(self.u), what)
+    }
+    /// Mass in - mass out (+ `extra` terms) = 0.
+    pub fn mass_balance(self, extra: &[(usize, f64)]) -> Row {
+        let mut r = self.row("mass balance");
+        for &i in self.ins() {
+            r.add(i, 1.0);
+        }
+        for &o in self.outs() {
+            r.add(o, -1.0);
+        }
+        for &(i, c) in extra {
+            r.add(i, c);
+        }
+        r
+    }
+    /// Enthalpy flow in - enthalpy flow out = 0 at the current states.
+    pub fn energy_balance(self, st: &[Option<State>]) -> Row {
+        let mut r = self.row("energy balance");
+        for &i in self.ins() {
+            r.add(i, h(st, i));
+        }
+        for &o in self.outs() {
+            r.add(o, -h(st, o));
+        }
+        r
+    }
+}
+
+/// What a unit's result step writes: its result, the site totals and the energy-flow links;
+/// with its stream mass and enthalpy flows in and out.
+pub(super) struct Report<'a> {
+    pub r: &'a mut UnitResult,
+    pub t: &'a mut Totals,
+    pub links: &'a mut Vec<SankeyLink>,
+    /// Mass in, kg/s.
+    pub mi: f64,
+    /// Enthalpy flow in, kW.
+    pub ei: f64,
+    /// Mass out, kg/s.
+    pub mo: f64,
+    /// Enthalpy flow out, kW.
+    pub eo: f64,
+}
+
+impl Report<'_> {
+    /// An energy-flow link that is not a stream (heat, work, losses).
+    pub fn link(&mut self, source: &str, target: &str, energy: f64, mass: f64) {
+        self.links.push(SankeyLink {
+            source: source.into(),
+            target: target.into(),
+            stream: None,
+            energy,
+            mass,
+        });
+    }
+    /// Adds a warning to the unit's result.
+    pub fn warn(&mut self, w: impl Into<String>) {
+        self.r.warnings.push(w.into());
+    }
+}
+
+/// Specific enthalpy of stream `i` at the current states (NaN while unknown).
+pub(super) fn h(st: &[Option<State>], i: usize) -> f64 {
+    st[i].map(|s| s.props.h).unwrap_or(f64::NAN)
+}
+
+/// The state at `p` with a stream's fixed value.
+fn fixed_state(p: f64, f: FixedState) -> Result<State> {
+    match f {
+        FixedState::T(t) => crate::plant::pt(p, t),
+        FixedState::H(h) => crate::plant::ph(p, h),
+        FixedState::X(x) => {
+            if !(0.0..=1.0).contains(&x) {
+                return Err(Error::invalid(format!("x = {x} is outside 0..1")));
+            }
+            state::at_px(p, x)
+        }
+    }
+}
+
+/// Adiabatic mixing of the streams in `list` whose states are known: the mixed enthalpy
+/// (the plain mean when the known flows add up to about zero); None if none is known.
+fn mix(list: &[usize], m: &[f64], st: &[Option<State>]) -> Option<f64> {
+    let known: Vec<(f64, f64)> = list
+        .iter()
+        .filter_map(|&i| st[i].map(|s| (m[i], s.props.h)))
+        .collect();
+    if known.is_empty() {
+        return None;
+    }
+    let mt: f64 = known.iter().map(|&(m, _)| m).sum();
+    let e: f64 = known.iter().map(|&(m, h)| m * h).sum();
+    if mt > 1e-12 * known.iter().map(|&(m, _)| m.abs()).sum::<f64>().max(1e-300) && mt > 0.0 {
+        Some(e / mt)
+    } else {
+        Some(known.iter().map(|&(_, h)| h).sum::<f64>() / known.len() as f64)
+    }
+}
+
+/// Checks the number of a unit's inlets or outlets.
+fn count(w: &Wiring, u: usize, what: &str, list: &[usize], lo: usize, hi: usize) -> Result<()> {
+    if list.len() < lo || list.len() > hi {
+        let want = if lo == hi {
+            format!("exactly {lo}")
+        } else if hi == usize::MAX {
+            format!("at least {lo}")
+        } else {
+            format!("{lo} to {hi}")
+        };
+        return Err(Error::invalid(format!(
+            "{} {} has {} {what} stream(s); it needs {want}",
+            w.kinds[u],
+            w.un[u],
+            list.len()
+        )));
+    }
+    Ok(())
+}
+
+/// The stream of `list` named by the unit's `field` (e.g. a deaerator's `steam`).
+fn find_port(
+    w: &Wiring,
+    u: usize,
+    field: &str,
+    name: Option<&str>,
+    list: &[usize],
+) -> Result<usize> {
+    let (kind, un) = (w.kinds[u], w.un[u]);
+    let names = || list.iter().map(|&i| w.sn[i]).collect::<Vec<_>>().join(", ");
+    let Some(n) = name else {
+        return Err(Error::invalid(format!(
+            "{kind} {un}: name its {field} stream with `{field}` (one of: {})",
+            names()
+        )));
+    };
+    list.iter().copied().find(|&i| w.sn[i] == n).ok_or_else(|| {
+        Error::invalid(format!(
+            "{kind} {un}: `{field}` = '{n}' is not one of its streams ({})",
+            names()
+        ))
+    })
+}
+
+/// Checks that an efficiency lies in (0, 1] (first stage).
+fn check_efficiency(w: &Wiring, u: usize, v: Option<f64>, f: &mut Findings) {
+    if let Some(v) = v {
+        if !(v.is_finite() && v > 0.0 && v <= 1.0) {
+            f.range(super::Finding::OutOfRange {
+                unit: w.unit(u),
+                quantity: "efficiency",
+                value: v,
+                low: 0.0,
+                high: 1.0,
+                interval: super::Interval::OpenClosed,
+            });
+        }
+    }
+}

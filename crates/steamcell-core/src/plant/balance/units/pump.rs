@@ -1,0 +1,149 @@
+//! Pump: liquid raised to a discharge pressure (from the pump, its stream or its
+//! destination) with an isentropic efficiency; the power it absorbs.
+//!
+//! Units: internal (MPa, K, kJ/kg, kg/s, kW).
+//!
+//! Invariant: the validated pump holds its efficiency and its discharge pressure exceeds its
+//! suction pressure.
+
+use super::{check_efficiency, count, At, Boundary, Draft, Report, UnitKind};
+use crate::error::{Error, Result};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
+use crate::plant::balance::dof::Row;
+use crate::plant::balance::model::{Findings, Refused, Wiring};
+use crate::plant::{ph, ps};
+use crate::water::state::State;
+
+struct Wired {
+    u: usize,
+    inlet: usize,
+    out: usize,
+    p: Option<f64>,
+    efficiency: Option<f64>,
+}
+
+pub(super) fn draft(
+    w: &Wiring,
+    u: usize,
+    p: Option<f64>,
+    efficiency: Option<f64>,
+) -> Result<Box<dyn Draft>> {
+    let (i, o) = (&w.ins[u], &w.outs[u]);
+    count(w, u, "inlet", i, 1, 1)?;
+    count(w, u, "outlet", o, 1, 1)?;
+    Ok(Box::new(Wired {
+        u,
+        inlet: i[0],
+        out: o[0],
+        p,
+        efficiency,
+    }))
+}
+
+impl Draft for Wired {
+    fn sets_state(&self, _: usize) -> Option<&'static str> {
+        Some("the pump efficiency")
+    }
+    fn outlet_p(&self, _: usize, _: &Wiring) -> Option<f64> {
+        self.p
+    }
+    fn checks_outlet_p(&self) -> bool {
+        true
+    }
+    fn inlet_p(&self, _: usize, _: &Wiring) -> Option<f64> {
+        None
+    }
+    fn default_p(&self, _: usize, _: &Wiring) -> Option<f64> {
+        None
+    }
+    fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
+        check_efficiency(w, self.u, self.efficiency, f);
+        let (discharge, suction) = (w.p[self.out], w.p[self.inlet]);
+        if discharge <= suction {
+            f.note(Finding::PumpDoesNotRaise {
+                unit: w.unit(self.u),
+                discharge,
+                suction,
+            });
+        }
+        let efficiency = self.efficiency.ok_or_else(|| {
+            f.refuse(Finding::MissingPumpEfficiency {
+                unit: w.unit(self.u),
+            })
+        })?;
+        Ok(Box::new(Pump {
+            inlet: self.inlet,
+            out: self.out,
+            efficiency,
+        }))
+    }
+}
+
+/// A validated pump.
+#[derive(Debug)]
+struct Pump {
+    inlet: usize,
+    out: usize,
+    efficiency: f64,
+}
+
+impl UnitKind for Pump {
+    fn states(&self, at: At, _: &[f64], st: &mut [Option<State>], _: &mut f64) -> Result<bool> {
+        let Some(si) = st[self.inlet] else {
+            return Ok(false);
+        };
+        let po = at.p(self.out);
+        if po <= si.props.p {
+            return Err(Error::invalid(format!(
+                "pump {}: the discharge pressure {} MPa is not above the suction pressure {} MPa",
+                at.name(),
+                po,
+                si.props.p
+            )));
+        }
+        let iso = ps(po, si.props.s).map_err(at.tag())?;
+        let w = (iso.props.h - si.props.h) / self.efficiency;
+        st[self.out] = Some(ph(po, si.props.h + w).map_err(at.tag())?);
+        Ok(true)
+    }
+
+    fn flow_equations(
+        &self,
+        at: At,
+        _: &[Option<State>],
+        _: f64,
+        bal: &mut Vec<Row>,
+        _: &mut Vec<Row>,
+    ) {
+        bal.push(at.mass_balance(&[]));
+    }
+
+    fn flow_hint(&self, _: At, _: usize, _: &[usize]) -> Option<FlowHint> {
+        None
+    }
+
+    fn clash_hint(&self, _: At, _: &'static str) -> Option<ClashHint> {
+        None
+    }
+
+    fn results(&self, at: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()> {
+        let pw = m[self.inlet] * (st[self.out].props.h - st[self.inlet].props.h);
+        out.r.power = Some(pw);
+        out.r.balance.energy_in += pw;
+        out.t.pump_power += pw;
+        out.link("power", at.name(), pw, 0.0);
+        out.r.efficiency = Some(self.efficiency);
+        if st[self.inlet].x.is_some_and(|x| x > 1e-9) {
+            out.warn("the pump inlet is not liquid");
+        }
+        Ok(())
+    }
+
+    fn boundary(&self) -> Option<Boundary> {
+        None
+    }
+
+    fn warns_negative_outlets(&self) -> bool {
+        true
+    }
+}
