@@ -392,39 +392,3 @@ fn sample_method_responses() {
         insta::assert_json_snapshot!(name, v);
     }
 }
-
-/// Only `src/api` and `src/server` read or write JSON: no serde, serde_json, `json!` or
-/// schemars in `src/main.rs`, `src/lib.rs` or the physics crate (DEVELOPERS.md invariant).
-#[test]
-fn json_lives_only_in_api_and_server() {
-    fn rust_files(dir: &std::path::Path, out: &mut Vec<std::path::PathBuf>) {
-        for entry in std::fs::read_dir(dir).unwrap() {
-            let path = entry.unwrap().path();
-            if path.is_dir() {
-                rust_files(&path, out);
-            } else if path.extension().is_some_and(|e| e == "rs") {
-                out.push(path);
-            }
-        }
-    }
-    let root = std::path::Path::new(env!("CARGO_MANIFEST_DIR"));
-    let mut files = Vec::new();
-    rust_files(&root.join("src"), &mut files);
-    rust_files(&root.join("crates/steamcell-core/src"), &mut files);
-    let allowed = [root.join("src/api"), root.join("src/server")];
-    let checked: Vec<_> = files
-        .iter()
-        .filter(|f| !allowed.iter().any(|a| f.starts_with(a)))
-        .collect();
-    assert!(checked.iter().any(|f| f.ends_with("src/main.rs")));
-    for f in checked {
-        let text = std::fs::read_to_string(f).unwrap();
-        for pattern in ["serde_json", "use serde", "serde::", "json!(", "schemars"] {
-            assert!(
-                !text.contains(pattern),
-                "{} uses {pattern}: JSON belongs in src/api or src/server",
-                f.display()
-            );
-        }
-    }
-}

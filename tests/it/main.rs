@@ -42,4 +42,5 @@ mod state_pairs;
 mod sweep_units;
 mod textbook_cogeneration;
 mod textbook_rankine;
+mod tidy;
 mod transports;
