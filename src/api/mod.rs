@@ -396,7 +396,10 @@ impl MethodSpec {
             params_schema: Box::new(|g| P::json_schema(g)),
             result_schema: Box::new(|g| g.subschema_for::<R>()),
             quick: false,
-            call: Box::new(move |_, params| to_result(f(decode_params(params)?))),
+            call: Box::new(move |_, params| {
+                let p = decode_params(params)?;
+                to_result(vocab::restating(|| f(p)))
+            }),
         }
     }
 
@@ -418,7 +421,10 @@ impl MethodSpec {
             params_schema: Box::new(|g| P::json_schema(g)),
             result_schema: Box::new(|g| g.subschema_for::<R>()),
             quick: false,
-            call: Box::new(move |ctx, params| to_result(f(ctx, decode_params(params)?))),
+            call: Box::new(move |ctx, params| {
+                let p = decode_params(params)?;
+                to_result(vocab::restating(|| f(ctx, p)))
+            }),
         }
     }
 
