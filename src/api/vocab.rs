@@ -134,10 +134,10 @@ pub const FIELD_DIMS: &[(&str, Dim)] = {
         ("head", Length),
         ("heat", HeatFlow),
         ("heat", Energy),
-        ("heat_input", HeatFlow),
+        ("heat_input", SpecificEnergy),
         ("heat_loss", HeatFlow),
         ("heat_loss_per_length", HeatFlowPerLength),
-        ("heat_rejected", HeatFlow),
+        ("heat_rejected", SpecificEnergy),
         ("heat_to_steam", HeatFlow),
         ("hot_end_difference", TemperatureDifference),
         ("hot_flow", MassFlow),
@@ -356,6 +356,60 @@ pub fn unit_system(units: Option<&Units>) -> Result<UnitSystem> {
     Ok(system)
 }
 
+/// The `units` param from a text (a query value, a command-line flag): a preset name ("bar"),
+/// a JSON object (`{"preset": "bar", "p": "barg"}`), or `key=unit` items separated by commas or
+/// semicolons (`preset=bar, p=barg, flow=t/h`). Checked as the param is ([`unit_system`]).
+pub fn units_from_text(text: &str) -> Result<Units> {
+    let t = text.trim();
+    let units = if t.starts_with('{') {
+        let map: BTreeMap<String, String> = serde_json::from_str(t).map_err(|e| {
+            Error::invalid(format!(
+                "units: '{t}' is not a JSON object of unit texts ({e})"
+            ))
+        })?;
+        Units::Choice(map)
+    } else if t.contains('=') {
+        let mut map = BTreeMap::new();
+        for item in t.split([',', ';']).map(str::trim).filter(|i| !i.is_empty()) {
+            let Some((k, v)) = item.split_once('=') else {
+                return Err(Error::invalid(format!(
+                    "units: '{item}' is not key=unit (e.g. preset=bar, p=barg, flow=t/h)"
+                )));
+            };
+            if map
+                .insert(k.trim().to_string(), v.trim().to_string())
+                .is_some()
+            {
+                return Err(Error::invalid(format!(
+                    "units: '{}' is given twice",
+                    k.trim()
+                )));
+            }
+        }
+        Units::Choice(map)
+    } else {
+        Units::Preset(t.to_string())
+    };
+    unit_system(Some(&units))?;
+    Ok(units)
+}
+
+/// `units` with one more key (`key` = `unit`): a preset becomes an object with it as its
+/// `preset`; a key given twice is refused.
+pub fn units_with(units: Option<Units>, key: &str, unit: &str) -> Result<Units> {
+    let mut map = match units {
+        None => BTreeMap::new(),
+        Some(Units::Preset(p)) => BTreeMap::from([("preset".to_string(), p)]),
+        Some(Units::Choice(m)) => m,
+    };
+    if map.insert(key.to_string(), unit.to_string()).is_some() {
+        return Err(Error::invalid(format!("units: '{key}' is given twice")));
+    }
+    let units = Units::Choice(map);
+    unit_system(Some(&units))?;
+    Ok(units)
+}
+
 /// What a request's conversions recorded: the units its inputs came in (for messages in the
 /// caller's units), the fields whose unit a name or path key chose, and whether an answer holds
 /// a gauge pressure.
@@ -364,6 +418,9 @@ struct Log {
     inputs: Vec<(String, Dim, Unit)>,
     refined: BTreeMap<String, &'static str>,
     gauge_out: bool,
+    /// The first gauge unit of the request (in or out): the ambient is echoed in its absolute
+    /// unit unless the request names a unit for `ambient`.
+    gauge: Option<Unit>,
 }
 
 /// Context shared by every conversion of one request: its units and ambient pressure, and a log
@@ -475,9 +532,7 @@ impl Ctx {
     /// Converts an input to internal units, recording the unit it came in.
     pub fn value(&self, quantity: &str, dim: Dim, input: &Input) -> Result<f64> {
         let parsed = self.parse(quantity, dim, input)?;
-        self.log()
-            .inputs
-            .push((quantity.to_string(), dim, parsed.unit));
+        self.note_input(quantity, dim, parsed.unit);
         Ok(parsed.internal)
     }
 
@@ -496,7 +551,11 @@ impl Ctx {
 
     /// Records that the input `quantity` came in `unit` (bulk columns, once per column).
     pub fn note_input(&self, quantity: &str, dim: Dim, unit: Unit) {
-        self.log().inputs.push((quantity.to_string(), dim, unit));
+        let mut log = self.log();
+        if unit.gauge && log.gauge.is_none() {
+            log.gauge = Some(unit);
+        }
+        log.inputs.push((quantity.to_string(), dim, unit));
     }
 
     /// The unit of the output field `name` (a dotted path for nested fields, e.g.
@@ -511,6 +570,9 @@ impl Ctx {
         if u.gauge || self.system.has_names() {
             let mut log = self.log();
             log.gauge_out |= u.gauge;
+            if u.gauge && log.gauge.is_none() {
+                log.gauge = Some(u);
+            }
             if self.system.named(name, dim).is_some() && u != self.system.for_dim(dim) {
                 log.refined.insert(name.to_string(), u.symbol);
             }
@@ -551,14 +613,25 @@ impl Ctx {
         self.out_unit(name, dim).symbol
     }
 
-    /// The ambient pressure in its absolute unit for this request, as "<value> <unit>".
+    /// The unit the ambient pressure is echoed in: the one the request names for `ambient`,
+    /// else the absolute unit of the first gauge unit the request used (barg: bar), else the
+    /// request's pressure unit (absolute).
+    pub fn ambient_unit(&self) -> Unit {
+        if let Some(u) = self.system.named("ambient", Dim::Pressure) {
+            return u.absolute();
+        }
+        let first_gauge = self.log().gauge;
+        match first_gauge {
+            Some(g) => g.absolute(),
+            None => self.system.for_dim(Dim::Pressure).absolute(),
+        }
+    }
+
+    /// The ambient pressure for a `units` map, as "<value> <unit>" in [`Ctx::ambient_unit`]
+    /// (the shortest text that reads back as the ambient used, e.g. "0.98 bar").
     pub fn ambient_text(&self) -> String {
-        let u = self.out_unit("ambient", Dim::Pressure);
-        format!(
-            "{} {}",
-            u.from_internal(self.ambient, self.ambient),
-            u.symbol
-        )
+        let u = self.ambient_unit();
+        format!("{} {}", u.shortest(self.ambient, self.ambient), u.symbol)
     }
 
     /// Completes a result's `units` map: the preset's name, every field whose unit a name or
@@ -876,7 +949,14 @@ fn state_result_in(st: &State, ctx: &Ctx, f: Formulation, prefix: &str) -> State
         }
         units_map.insert(fd.name().to_string(), unit(fd).symbol.to_string());
     }
-    let ambient_unit = ctx.state_unit(prefix, "ambient", Dim::Pressure);
+    // The ambient is echoed in the unit named for it, else in the absolute unit of a gauge
+    // pressure of the state (barg: bar), else in the state's unit for `ambient`.
+    let p_unit = unit(Field::P);
+    let ambient_unit = match ctx.system.named("ambient", Dim::Pressure) {
+        Some(u) => u.absolute(),
+        None if p_unit.gauge => p_unit.absolute(),
+        None => ctx.state_unit(prefix, "ambient", Dim::Pressure),
+    };
     units_map.insert("ambient".into(), ambient_unit.symbol.to_string());
     units_map.insert("preset".into(), ctx.preset.name().to_string());
     StateResult {
@@ -907,7 +987,10 @@ fn state_result_in(st: &State, ctx: &Ctx, f: Formulation, prefix: &str) -> State
         metastable: st.metastable,
         undefined,
         units: units_map,
-        ambient: ambient_unit.from_internal(ctx.ambient, ctx.ambient),
+        ambient: ambient_unit
+            .shortest(ctx.ambient, ctx.ambient)
+            .parse()
+            .unwrap_or_else(|_| ambient_unit.from_internal(ctx.ambient, ctx.ambient)),
         formulation: f.name().to_string(),
     }
 }

@@ -342,15 +342,33 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
                 match numbers(v) {
                     // Plain numbers: one conversion for the column, as a packed column.
                     Some(raw) => InputColumn::from_numbers(name, unit, ctx.ambient, &raw),
-                    None => InputColumn::from_results(
-                        name,
-                        v.iter().map(|x| match x {
-                            Input::Number(v) => units::parse_number_in(name, *v, unit, ctx.ambient)
-                                .map(|p| p.internal),
-                            Input::Text(t) => units::parse_text_in(name, dim, t, unit, ctx.ambient)
-                                .map(|p| p.internal),
-                        }),
-                    ),
+                    None => {
+                        let mut first_gauge = None;
+                        let col = InputColumn::from_results(
+                            name,
+                            v.iter().map(|x| {
+                                let parsed = match x {
+                                    Input::Number(v) => {
+                                        units::parse_number_in(name, *v, unit, ctx.ambient)
+                                    }
+                                    Input::Text(t) => {
+                                        units::parse_text_in(name, dim, t, unit, ctx.ambient)
+                                    }
+                                };
+                                parsed.map(|p| {
+                                    if p.unit.gauge && first_gauge.is_none() {
+                                        first_gauge = Some(p.unit);
+                                    }
+                                    p.internal
+                                })
+                            }),
+                        );
+                        if let Some(g) = first_gauge {
+                            gauge_in = true;
+                            ctx.note_input(name, dim, g);
+                        }
+                        col
+                    }
                 }
             }
             Column::Packed(pc) => {

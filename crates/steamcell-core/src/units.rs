@@ -822,6 +822,25 @@ impl Unit {
         v - self.offset
     }
 
+    /// The shortest decimal text of the internal value `internal` in this unit that reads back
+    /// through this unit as exactly `internal` ("0.9" for 0.09 MPa in bar, where the plain
+    /// conversion gives 0.8999999999999999): for echoes such as the ambient pressure.
+    pub fn shortest(&self, internal: f64, ambient: f64) -> String {
+        let v = self.from_internal(internal, ambient);
+        if !v.is_finite() {
+            return format!("{v}");
+        }
+        for digits in 1..=17 {
+            let text = crate::error::fmt_sig(v, digits);
+            if let Ok(back) = text.parse::<f64>() {
+                if self.to_internal(back, ambient) == internal {
+                    return text;
+                }
+            }
+        }
+        format!("{v}")
+    }
+
     /// The multiplier from this unit to the internal one (ignoring offset and ambient).
     pub fn scale(&self) -> f64 {
         if self.divide {
@@ -1111,7 +1130,16 @@ fn grouping_error(quantity: &str, text: &str, number: &str, rest: &str) -> Optio
     let continues = |r: &str| r.starts_with(|c: char| c.is_ascii_digit());
     let after = match sep {
         ',' | '\'' | '\u{2019}' | '_' => &rest[sep.len_utf8()..],
-        '0'..='9' => rest, // split_number trims the space between groups
+        // split_number trims the space between groups: "2 000 000" leaves "000 000"; a space
+        // before a unit made of digits ("0.4 1") is no grouping
+        '0'..='9' => {
+            let first = rest.split(' ').next().unwrap_or("");
+            let group = first.len() == 3 && first.bytes().all(|b| b.is_ascii_digit());
+            if !group || number.contains(['.', 'e', 'E']) {
+                return None;
+            }
+            rest
+        }
         _ => return None,
     };
     if !continues(after) {
