@@ -33,7 +33,7 @@ if ! "$PY" -c "import venv, ensurepip" >/dev/null 2>&1; then
   PY=/usr/bin/python3
 fi
 [ -x .venv/bin/python ] || "$PY" -m venv .venv
-.venv/bin/python -m pip install -q "./clients/python[all,test]"
+.venv/bin/python -m pip install -q "./clients/python[all,pint,test]"
 # the install builds out of tree (flit_core): nothing new in the checkout
 leftovers=$(git status --porcelain --ignored clients/python 2>/dev/null | grep -E '/build/|\.egg-info' || true)
 if [ -n "$leftovers" ]; then

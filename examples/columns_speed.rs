@@ -30,8 +30,8 @@ fn main() {
         let ctx = Ctx::new(None, None).unwrap();
         let pre = Preset::Engineering;
         let t0 = Instant::now();
-        let a = InputColumn::from_numbers("p", pre.unit(Dim::Pressure), &p);
-        let b = InputColumn::from_numbers("T", pre.unit(Dim::Temperature), &t);
+        let a = InputColumn::from_numbers("p", pre.unit(Dim::Pressure), ctx.ambient, &p);
+        let b = InputColumn::from_numbers("T", pre.unit(Dim::Temperature), ctx.ambient, &t);
         let want: Vec<String> = ["h", "s", "v"].iter().map(|s| s.to_string()).collect();
         let r = compute(
             &ctx,

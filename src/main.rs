@@ -45,13 +45,26 @@ enum Command {
         method: String,
         /// Params as one JSON object (default {}).
         params: Option<String>,
+        /// The units of bare numbers and of the answer, replacing the params' `units`: a preset
+        /// (si, engineering, us, bar, bar_th), key=unit items (preset=bar,p=barg,flow=t/h) or a
+        /// JSON object.
+        #[arg(long, value_name = "UNITS")]
+        units: Option<String>,
     },
-    /// Print one property as a bare number, e.g. `steamcell get h p=10MPa T=500degC units=si`.
+    /// Print one property as a bare number, e.g. `steamcell get h p=10MPa T=500degC --units si`
+    /// or `steamcell get p p=42barg T=410degC --unit barg`.
     Get {
         /// Result field, e.g. h.
         quantity: String,
-        /// Given quantities and options as name=value.
+        /// Given quantities and options as name=value (units=, units.p=barg, unit=, ambient=).
         pairs: Vec<String>,
+        /// The units of bare numbers and of the answer (as units=): a preset, key=unit items or
+        /// a JSON object.
+        #[arg(long, value_name = "UNITS")]
+        units: Option<String>,
+        /// The unit of the answered quantity (as unit=), e.g. barg, t/h, MW.
+        #[arg(long, value_name = "UNIT")]
+        unit: Option<String>,
     },
     /// Print one number of a site balance, e.g.
     /// `steamcell site examples/site/site.json net_power units.MP_users.demand="40 t/h"`.
@@ -64,8 +77,15 @@ enum Command {
         file: std::path::PathBuf,
         /// A site total or a dotted path into the result.
         quantity: String,
-        /// Specifications to change, as path=value, and units=/ambient=.
+        /// Specifications to change, as path=value, and units=/unit=/ambient=.
         pairs: Vec<String>,
+        /// The units of bare numbers and of the answer (as units=): a preset, key=unit items or
+        /// a JSON object.
+        #[arg(long, value_name = "UNITS")]
+        units: Option<String>,
+        /// The unit of the answered quantity (as unit=), e.g. MW, t/h.
+        #[arg(long, value_name = "UNIT")]
+        unit: Option<String>,
     },
     /// Write the OpenRPC document.
     Schema {
@@ -243,8 +263,16 @@ fn main() -> ExitCode {
                 }
             }
         }
-        Command::Call { method, params } => {
-            match steamcell::api::call_text(&method, params.as_deref().unwrap_or("{}")) {
+        Command::Call {
+            method,
+            params,
+            units,
+        } => {
+            match steamcell::api::call_text_with_units(
+                &method,
+                params.as_deref().unwrap_or("{}"),
+                units.as_deref(),
+            ) {
                 Ok(pretty) => print_out(&pretty),
                 Err(e) => {
                     eprintln!("error {}: {}", e.code, e.message);
@@ -252,8 +280,13 @@ fn main() -> ExitCode {
                 }
             }
         }
-        Command::Get { quantity, pairs } => {
-            let answer = steamcell::api::cell::pairs_from_args(&pairs)
+        Command::Get {
+            quantity,
+            pairs,
+            units,
+            unit,
+        } => {
+            let answer = steamcell::api::cell::pairs_from_args(&with_flags(pairs, units, unit))
                 .and_then(|p| steamcell::api::cell::cell(&quantity, &p));
             match answer {
                 Ok(text) => print_out(&text),
@@ -267,13 +300,18 @@ fn main() -> ExitCode {
             file,
             quantity,
             pairs,
-        } => match steamcell::api::site::from_file(&file, &quantity, &pairs) {
-            Ok(text) => print_out(&text),
-            Err(e) => {
-                eprintln!("{}", e.reason);
-                ExitCode::from(2)
+            units,
+            unit,
+        } => {
+            match steamcell::api::site::from_file(&file, &quantity, &with_flags(pairs, units, unit))
+            {
+                Ok(text) => print_out(&text),
+                Err(e) => {
+                    eprintln!("{}", e.reason);
+                    ExitCode::from(2)
+                }
             }
-        },
+        }
         Command::Schema { out } => {
             let text = steamcell::api::openrpc::document_text();
             let written = if out == "-" {
@@ -295,6 +333,13 @@ fn main() -> ExitCode {
             }
         }
     }
+}
+
+/// The name=value words with `--units` and `--unit` added as units= and unit=.
+fn with_flags(mut pairs: Vec<String>, units: Option<String>, unit: Option<String>) -> Vec<String> {
+    pairs.extend(units.map(|u| format!("units={u}")));
+    pairs.extend(unit.map(|u| format!("unit={u}")));
+    pairs
 }
 
 /// Ends the process once standard input reaches its end (or fails): the parent that holds it

@@ -117,13 +117,17 @@ def pick(result, path):
 
 def site_value(ref, changes, quantity):
     net = json.loads(SITE_FILE.read_text(encoding="utf-8"))
+    params = {}
     for path, value in changes.items():
+        if path == "unit":  # the unit of the answer: a units key of its field name
+            params["units"] = {quantity.split(".")[-1]: value}
+            continue
         at = net
         parts = path.split(".")
         for p in parts[:-1]:
             at = at[p]
         at[parts[-1]] = value
-    res = ref.call("balance.solve", {"network": net})
+    res = ref.call("balance.solve", dict(params, network=net))
     return pick(res, quantity if "." in quantity else "totals." + quantity)
 
 

@@ -7,7 +7,7 @@
 //! Invariant: thin wrappers; the network solver is `crate::plant::balance`.
 
 use super::plant::BalanceOut;
-use super::vocab::{state_result, Ctx, Input, StateResult};
+use super::vocab::{state_result, state_result_at, Ctx, Input, StateResult, Units};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::balance::{self as b, Network, StreamSpec, Unit};
@@ -373,9 +373,11 @@ impl NetworkIn {
 pub struct SolveParams {
     /// The site network.
     pub network: NetworkIn,
-    /// Unit preset of bare numbers and of the answer (see `water.state`).
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units (default 101.325 kPa).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -579,7 +581,7 @@ fn units_used(ctx: &Ctx) -> BTreeMap<String, String> {
     u.insert("p".into(), ctx.unit("p", Dim::Pressure).into());
     u.insert("T".into(), ctx.unit("T", Dim::Temperature).into());
     u.insert("h".into(), ctx.unit("h", Dim::SpecificEnergy).into());
-    u.insert("preset".into(), ctx.preset.name().into());
+    ctx.finish_units(&mut u);
     u
 }
 
@@ -600,7 +602,7 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
                         to: r.to.clone(),
                         flow: m("streams.flow", r.flow),
                         energy_flow: e("streams.energy_flow", r.flow * r.state.props.h),
-                        state: state_result(&r.state, ctx),
+                        state: state_result_at(&r.state, ctx, "streams.state"),
                     },
                 )
             })
@@ -616,7 +618,9 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
                         power: r.power.map(|v| w("units.power", v)),
                         duty: r.duty.map(|v| e("units.duty", v)),
                         fuel_heat_input: r.fuel_heat_input.map(|v| e("units.fuel_heat_input", v)),
-                        efficiency: r.efficiency,
+                        efficiency: r
+                            .efficiency
+                            .map(|v| ctx.out("units.efficiency", Dim::Dimensionless, v)),
                         mass_lost: m("units.mass_lost", r.mass_lost),
                         energy_lost: e("units.energy_lost", r.energy_lost),
                         balance: bal(ctx, &r.balance),
@@ -656,7 +660,7 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
 }
 
 fn balance_solve(p: SolveParams) -> Result<SolveResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let net = p.network.to_network(&ctx)?;
     let sol = b::solve(&net)?;
     Ok(solution_out(&ctx, &sol))
@@ -681,9 +685,11 @@ pub struct SweepParams {
     /// Streams whose flow and state to report per point (default: none).
     #[serde(default)]
     pub streams: Vec<String>,
-    /// Unit preset (see `water.state`).
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -793,7 +799,7 @@ pub fn set_path(root: &mut Value, path: &str, v: Value) -> Result<()> {
 }
 
 fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     if p.points == 0 || p.points > MAX_SWEEP_POINTS {
         return Err(Error::LimitExceeded {
             what: "balance.sweep points".into(),
@@ -802,12 +808,12 @@ fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
         });
     }
     let dim = spec_dim(&p.path)?;
-    // from/to in the preset's unit of the swept quantity (a bare number is taken as given)
+    // from/to in the request's unit of the swept quantity (a bare number is taken as given)
     let in_preset = |q: &str, x: &Input| -> Result<f64> {
         let internal = ctx.value(q, dim, x)?;
         Ok(match x {
             Input::Number(v) => *v,
-            Input::Text(_) => ctx.preset.from_internal(dim, internal),
+            Input::Text(_) => ctx.out(&p.path, dim, internal),
         })
     };
     let from = in_preset("from", &p.from)?;

@@ -5,12 +5,15 @@
 //! caller; a value that is a plain finite number goes as a JSON number, anything else such as
 //! "10 MPa" as a string), except the reserved names in [`RESERVED`] which become top-level
 //! params. The answer is the field `{quantity}` of the result, written as the shortest text that
-//! parses back to the same f64 (Rust `{}` of f64). Units are those of the request.
+//! parses back to the same f64 (Rust `{}` of f64). Units are those of the request: `units=` a
+//! preset, a JSON object or `key=unit` items (`units=preset=bar,p=barg`), `units.KEY=UNIT` one
+//! per-quantity unit (`units.p=barg`), and `unit=` the unit of the answered quantity itself
+//! (`/cell/p?...&unit=barg`).
 //!
 //! Invariant: every failure is a [`CellError`] with an HTTP status and a one-line reason; a
 //! failure of the method itself takes the status of [`ApiError::http_status`].
 
-use super::{find, ApiError};
+use super::{find, vocab, ApiError};
 use schemars::gen::SchemaSettings;
 use serde_json::{Map, Value};
 use std::sync::OnceLock;
@@ -21,6 +24,7 @@ pub const STATE_METHOD: &str = "water.state";
 /// Query names that are top-level params of `water.state` rather than given quantities.
 pub const RESERVED: &[&str] = &[
     "units",
+    "unit",
     "ambient",
     "formulation",
     "prefer",
@@ -97,17 +101,30 @@ pub fn wire_value(text: &str) -> Value {
     }
 }
 
-/// Builds the `water.state` params from decoded query pairs.
+/// Builds the `water.state` params from decoded query pairs (a `unit` pair stays a top-level
+/// name for [`request`] to place).
 pub fn params_from_pairs(pairs: &[(String, String)]) -> Result<Value, CellError> {
     let mut given = Map::new();
     let mut top = Map::new();
+    let mut unit_keys: Vec<(String, String)> = Vec::new();
     for (k, v) in pairs {
         if k.is_empty() {
             return Err(CellError::new(400, format!("empty name in '={v}'")));
         }
+        if let Some(key) = k.strip_prefix("units.") {
+            if unit_keys.iter().any(|(q, _)| q == key) {
+                return Err(CellError::new(400, format!("'{k}' is given twice")));
+            }
+            unit_keys.push((key.to_string(), v.clone()));
+            continue;
+        }
         let (target, value) = if RESERVED.contains(&k.as_str()) {
             let value = if k == "ambient" {
                 wire_value(v)
+            } else if k == "units" {
+                let units =
+                    vocab::units_from_text(v).map_err(|e| CellError::new(400, e.to_string()))?;
+                serde_json::to_value(units).unwrap_or(Value::Null)
             } else if k == "backward_only" || k == "metastable" {
                 match v.as_str() {
                     "true" | "1" | "yes" => Value::Bool(true),
@@ -130,6 +147,21 @@ pub fn params_from_pairs(pairs: &[(String, String)]) -> Result<Value, CellError>
             return Err(CellError::new(400, format!("'{k}' is given twice")));
         }
     }
+    if !unit_keys.is_empty() {
+        let mut units: Option<vocab::Units> = top
+            .remove("units")
+            .map(|u| serde_json::from_value(u).unwrap_or(vocab::Units::Preset(String::new())));
+        for (key, unit) in unit_keys {
+            units = Some(
+                vocab::units_with(units, &key, &unit)
+                    .map_err(|e| CellError::new(400, e.to_string()))?,
+            );
+        }
+        top.insert(
+            "units".into(),
+            serde_json::to_value(units).unwrap_or(Value::Null),
+        );
+    }
     top.insert("given".to_string(), Value::Object(given));
     Ok(Value::Object(top))
 }
@@ -150,7 +182,23 @@ pub fn request(quantity: &str, pairs: &[(String, String)]) -> Result<Value, Cell
             format!("unknown quantity '{quantity}'; known: {}", known.join(", ")),
         ));
     }
-    params_from_pairs(pairs)
+    let mut params = params_from_pairs(pairs)?;
+    if let Some(Value::String(unit)) = params.as_object_mut().and_then(|o| o.remove("unit")) {
+        if vocab::field_dims(quantity).is_empty() {
+            return Err(CellError::new(
+                400,
+                format!("unit = '{unit}': {quantity} is not a quantity with a unit"),
+            ));
+        }
+        let units = params
+            .get("units")
+            .cloned()
+            .map(|u| serde_json::from_value(u).unwrap_or(vocab::Units::Preset(String::new())));
+        let units = vocab::units_with(units, quantity, &unit)
+            .map_err(|e| CellError::new(400, e.to_string()))?;
+        params["units"] = serde_json::to_value(units).unwrap_or(Value::Null);
+    }
+    Ok(params)
 }
 
 /// The field `quantity` of a `water.state` result, as text (422 when it is not defined for

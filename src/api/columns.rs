@@ -10,17 +10,25 @@
 //! N * 8 bytes         column 2, ...
 //! ```
 //!
-//! Request header: `{"given": ["p", "T"], "rows": N, "want": ["h", "s"], "units"?,
-//! "ambient"?, "formulation"?, "prefer"?, "backward_only"?, "metastable"?}`, followed by the
-//! two `given` columns in that order, in the preset's units (NaN marks a missing value).
-//! Response header: `{"columns": ["h", "s"], "rows": N, "units": {...}, "failed": k,
-//! "failed_rows": [{"row", "code", "message"}, ...], "formulation"}`, followed by one column per
-//! wanted property (NaN where undefined or failed). Errors of the whole request answer a
-//! non-200 status with a JSON body `{"code", "message", "data"}` (the JSON-RPC error object).
+//! Request header: `{"given": ["p", "T"], "rows": N, "want": ["h", "s", "phase"],
+//! "given_units"?: {"p": "barg", "T": "degC"}, "units"?, "ambient"?, "formulation"?,
+//! "prefer"?, "backward_only"?, "metastable"?}`, followed by the two `given` columns in that
+//! order, each in its unit from `given_units` (else the request's unit for it; NaN marks a
+//! missing value). `units` is the request's units (a preset or an object, as for the methods):
+//! it sets the unit of every wanted column.
+//! Response header: `{"columns": ["h", "s", "phase"], "rows": N, "units": {"h": "kJ/kg", ...,
+//! "preset", "ambient"?}, "legends": {"phase": ["liquid", "vapour", "wet", "supercritical"]},
+//! "failed": k, "failed_rows": [{"row", "code", "message"}, ...], "formulation"}`, followed by
+//! one column per wanted property (NaN where undefined or failed). A text column ("phase")
+//! holds the index of its text in its legend; "region" holds the IF97 region number. `units`
+//! names `ambient` (e.g. "1.01325 bar") when an input or an output column is in a gauge unit.
+//! Errors of the whole request answer a non-200 status with a JSON body `{"code", "message",
+//! "data"}` (the JSON-RPC error object).
 //!
-//! Invariant: results are bit-identical to `water.batch` with `encoding: "f64le"`.
+//! Invariant: results are bit-identical to `water.batch` (JSON or `encoding: "f64le"`) with
+//! the same columns in the same units.
 
-use super::rows::{self, check_want, column_unit, input_dim, InputColumn};
+use super::rows::{self, check_want, column_unit, input_dim, input_unit, legend, InputColumn};
 use super::vocab::{self, Ctx};
 use super::ApiError;
 use crate::error::{Error, Result};
@@ -41,7 +49,9 @@ struct Header {
     rows: usize,
     want: Vec<String>,
     #[serde(default)]
-    units: Option<String>,
+    given_units: std::collections::BTreeMap<String, String>,
+    #[serde(default)]
+    units: Option<vocab::Units>,
     #[serde(default)]
     ambient: Option<vocab::Input>,
     #[serde(default)]
@@ -105,7 +115,7 @@ fn compute(body: &[u8], max_rows: usize) -> Result<Vec<u8>> {
             value: h.rows as f64,
         });
     }
-    check_want(&h.want, false)?;
+    check_want(&h.want, true)?;
     match h.formulation.as_deref() {
         None | Some("if97") | Some("IAPWS-IF97") => {}
         Some(other) => {
@@ -122,37 +132,48 @@ fn compute(body: &[u8], max_rows: usize) -> Result<Vec<u8>> {
             h.rows
         )));
     }
-    let ctx = Ctx::new(h.units.as_deref(), h.ambient.as_ref())?;
+    let ctx = Ctx::new(h.units.as_ref(), h.ambient.as_ref())?;
     let opts = h.flags.options()?;
+    if let Some(k) = h.given_units.keys().find(|k| !h.given.contains(k)) {
+        return Err(bad(format!(
+            "columns header: given_units names '{k}', which is not a given column ({})",
+            h.given.join(", ")
+        )));
+    }
     let mut cols = Vec::with_capacity(2);
+    let mut gauge_in = false;
     for (k, name) in h.given.iter().enumerate() {
         let (name, dim) = input_dim(name)?;
+        let unit = input_unit(&ctx, name, dim, h.given_units.get(name).map(String::as_str))?;
+        gauge_in |= unit.gauge;
         let bytes = &data[k * h.rows * 8..(k + 1) * h.rows * 8];
-        cols.push(InputColumn::from_le_bytes(
-            name,
-            ctx.preset.unit(dim),
-            bytes,
-        ));
+        cols.push(InputColumn::from_le_bytes(name, unit, ctx.ambient, bytes));
     }
     let out = rows::compute(&ctx, &opts, Formulation::If97, &cols[0], &cols[1], &h.want)?;
     let failed_rows: Vec<Value> = out
         .failed
         .iter()
         .map(|(i, e)| {
-            let api: ApiError = e.clone().into();
+            let api: ApiError = ctx.restate(e.clone()).into();
             json!({"row": i, "code": api.code, "message": format!("row {i}: {}", api.message)})
         })
         .collect();
-    let units: serde_json::Map<String, Value> = h
+    let mut units = std::collections::BTreeMap::new();
+    for w in &h.want {
+        if let Some(u) = column_unit(&ctx, w) {
+            units.insert(w.clone(), u.to_string());
+        }
+    }
+    ctx.finish_units(&mut units);
+    if gauge_in {
+        units.insert("ambient".into(), ctx.ambient_text());
+    }
+    let legends: serde_json::Map<String, Value> = h
         .want
         .iter()
-        .filter_map(|w| column_unit(&ctx, w).map(|u| (w.clone(), Value::from(u))))
-        .chain(std::iter::once((
-            "preset".to_string(),
-            Value::from(ctx.preset.name()),
-        )))
+        .filter_map(|w| legend(w).map(|l| (w.clone(), json!(l))))
         .collect();
-    let header = json!({
+    let mut header = json!({
         "columns": h.want,
         "rows": h.rows,
         "units": units,
@@ -160,6 +181,9 @@ fn compute(body: &[u8], max_rows: usize) -> Result<Vec<u8>> {
         "failed_rows": failed_rows,
         "formulation": "IAPWS-IF97",
     });
+    if !legends.is_empty() {
+        header["legends"] = Value::Object(legends);
+    }
     let head = serde_json::to_vec(&header).expect("a JSON value serialises");
     let mut body = Vec::with_capacity(4 + head.len() + out.n * out.k * 8);
     body.extend_from_slice(&(head.len() as u32).to_le_bytes());

@@ -11,7 +11,7 @@
 //! are re-stated in the caller's units.
 
 use super::plant::{BalanceOut, Stream};
-use super::vocab::{state_result, Ctx, Input, StateResult};
+use super::vocab::{state_result_at, Ctx, Input, StateResult, Units};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::correlations::FrictionModel;
@@ -44,49 +44,6 @@ pub fn methods() -> Vec<MethodSpec> {
 }
 
 // ---------------------------------------------------------------- shared: costing, errors
-
-/// Re-states a calculation error that names a quantity in an internal unit in the caller's unit.
-fn restate(ctx: &Ctx, e: Error) -> Error {
-    match e {
-        Error::OutOfRange {
-            quantity,
-            value,
-            limit,
-            unit,
-            bound,
-            formulation,
-        } => {
-            let dim = match unit.as_str() {
-                "m" => Some(Dim::Length),
-                "MPa" => Some(Dim::Pressure),
-                "K" => Some(Dim::Temperature),
-                "kg/s" => Some(Dim::MassFlow),
-                "m/s" => Some(Dim::Speed),
-                "W/(m K)" => Some(Dim::Conductivity),
-                _ => None,
-            };
-            match dim {
-                Some(d) => Error::OutOfRange {
-                    quantity,
-                    value: ctx.preset.from_internal(d, value),
-                    limit: ctx.preset.from_internal(d, limit),
-                    unit: ctx.preset.unit(d).symbol.to_string(),
-                    bound,
-                    formulation,
-                },
-                None => Error::OutOfRange {
-                    quantity,
-                    value,
-                    limit,
-                    unit,
-                    bound,
-                    formulation,
-                },
-            }
-        }
-        other => other,
-    }
-}
 
 /// Default hours per year: continuous operation.
 const HOURS_DEFAULT: f64 = 8760.0;
@@ -136,7 +93,7 @@ fn costing(
             .transpose()?
             .unwrap_or(MAKEUP_T_DEFAULT),
     };
-    c.check().map_err(|e| restate(ctx, e))?;
+    c.check().map_err(|e| ctx.restate(e))?;
     Ok(c)
 }
 
@@ -165,26 +122,28 @@ pub struct YearlyOut {
 const BASIS_STEAM: &str = "steam lost = flow x hours; boiler heat = steam x (h of the steam - h of make-up water at makeup_T pumped to the steam pressure); fuel = heat / boiler_efficiency; cost = fuel x fuel_cost or steam x steam_cost. Feed-pump work, deaerator venting, blowdown, water treatment and lost condensate return are not counted";
 const BASIS_HEAT: &str = "boiler heat = heat loss x hours (made good one for one by the boiler); steam = the steam that carries that heat (heat / (h of the inlet - h of make-up water at makeup_T)); fuel = heat / boiler_efficiency; cost = fuel x fuel_cost or steam x steam_cost";
 
-fn yearly(ctx: &Ctx, c: &Costing, y: &YearlyLoss, basis: &str) -> YearlyOut {
+/// The yearly loss `y` as the field `at` ("yearly", "insulation.bare.yearly") of its answer.
+fn yearly(ctx: &Ctx, at: &str, c: &Costing, y: &YearlyLoss, basis: &str) -> YearlyOut {
+    let f = |name: &str| format!("{at}.{name}");
     YearlyOut {
         hours_per_year: c.hours_per_year,
-        steam: ctx.preset.from_internal(Dim::Mass, y.steam),
-        heat: ctx.preset.from_internal(Dim::Energy, y.heat),
-        fuel: y.fuel.map(|f| ctx.preset.from_internal(Dim::Energy, f)),
+        steam: ctx.out(&f("steam"), Dim::Mass, y.steam),
+        heat: ctx.out(&f("heat"), Dim::Energy, y.heat),
+        fuel: y.fuel.map(|x| ctx.out(&f("fuel"), Dim::Energy, x)),
         cost: y.cost,
-        makeup_t: ctx.preset.from_internal(Dim::Temperature, c.makeup_t),
+        makeup_t: ctx.out(&f("makeup_T"), Dim::Temperature, c.makeup_t),
         basis: basis.to_string(),
     }
 }
 
 fn balance_out(ctx: &Ctx, b: &Balance) -> BalanceOut {
-    let m = |x: f64| ctx.preset.from_internal(Dim::MassFlow, x);
-    let e = |x: f64| ctx.preset.from_internal(Dim::HeatFlow, x);
+    let m = |name: &str, x: f64| ctx.out(name, Dim::MassFlow, x);
+    let e = |name: &str, x: f64| ctx.out(name, Dim::HeatFlow, x);
     BalanceOut {
-        mass_in: m(b.mass_in),
-        mass_out: m(b.mass_out),
-        energy_in: e(b.energy_in),
-        energy_out: e(b.energy_out),
+        mass_in: m("balance.mass_in", b.mass_in),
+        mass_out: m("balance.mass_out", b.mass_out),
+        energy_in: e("balance.energy_in", b.energy_in),
+        energy_out: e("balance.energy_out", b.energy_out),
         mass_residual: b.mass_residual(),
         energy_residual: b.energy_residual(),
     }
@@ -210,16 +169,17 @@ fn units_of(ctx: &Ctx, fields: &[(&str, Dim)]) -> BTreeMap<String, String> {
         "currency of the price given (per year)".into(),
     );
     m.insert("yearly.hours_per_year".into(), "h".into());
-    m.insert("preset".into(), ctx.preset.name().into());
+    ctx.finish_units(&mut m);
     m
 }
 
-fn sr(ctx: &Ctx, st: &State) -> StateResult {
-    state_result(st, ctx)
+fn sr(ctx: &Ctx, at: &str, st: &State) -> StateResult {
+    state_result_at(st, ctx, at)
 }
 
-fn o(ctx: &Ctx, dim: Dim, x: f64) -> f64 {
-    ctx.preset.from_internal(dim, x)
+/// The output field `name` (its dotted path in the answer) in its unit.
+fn o(ctx: &Ctx, name: &str, dim: Dim, x: f64) -> f64 {
+    ctx.out(name, dim, x)
 }
 
 fn length(ctx: &Ctx, name: &str, v: &Input) -> Result<f64> {
@@ -278,9 +238,11 @@ pub struct OrificeParams {
     /// Make-up water temperature (default 15 degC).
     #[serde(rename = "makeup_T", default, skip_serializing_if = "Option::is_none")]
     pub makeup_t: Option<Input>,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units and the default downstream pressure.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -351,13 +313,13 @@ pub struct OrificeResult {
 }
 
 fn orifice_flow(p: OrificeParams) -> Result<OrificeResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     if p.inlet.flow.is_some() {
         return Err(Error::invalid(
             "inlet.flow: orifice.flow computes the flow through the hole; give only the upstream state",
         ));
     }
-    let inlet = p.inlet.state(&ctx, "inlet").map_err(|e| restate(&ctx, e))?;
+    let inlet = p.inlet.state(&ctx, "inlet").map_err(|e| ctx.restate(e))?;
     let d = length(&ctx, "diameter", &p.diameter)?;
     let p_down = match &p.downstream_p {
         Some(x) => ctx.value("downstream_p", Dim::Pressure, x)?,
@@ -413,18 +375,26 @@ fn orifice_flow(p: OrificeParams) -> Result<OrificeResult> {
         flashing,
         approach,
     };
-    let r = orf::orifice_flow(&inlet, &spec).map_err(|e| restate(&ctx, e))?;
+    let r = orf::orifice_flow(&inlet, &spec).map_err(|e| ctx.restate(e))?;
     let y = c
         .steam_loss(r.mass_flow, r.stagnation.props.h, r.stagnation.props.p)
-        .map_err(|e| restate(&ctx, e))?;
-    let flux_unit = ctx.preset.from_internal(Dim::MassFlow, 1.0)
-        / ctx.preset.from_internal(Dim::Length, 1.0).powi(2);
+        .map_err(|e| ctx.restate(e))?;
+    // The mass flux has a unit of its own: lb/(h ft2) in the us preset, else kg/(s m2).
+    let us = ctx.preset == crate::units::Preset::Us;
+    let flux_unit = if us {
+        crate::units::Preset::Us.from_internal(Dim::MassFlow, 1.0)
+            / crate::units::Preset::Us
+                .from_internal(Dim::Length, 1.0)
+                .powi(2)
+    } else {
+        1.0
+    };
     let vapour = matches!(
         r.stagnation.phase,
         crate::water::state::Phase::Vapour | crate::water::state::Phase::Supercritical
     ) || r.stagnation.x.is_some_and(|x| x >= 1.0 - 1e-12);
-    let mflow = |x: f64| o(&ctx, Dim::MassFlow, x);
-    let pr = |x: f64| o(&ctx, Dim::Pressure, x);
+    let mflow = |name: &str, x: f64| o(&ctx, name, Dim::MassFlow, x);
+    let pr = |name: &str, x: f64| o(&ctx, name, Dim::Pressure, x);
     let mut units = units_of(
         &ctx,
         &[
@@ -442,25 +412,21 @@ fn orifice_flow(p: OrificeParams) -> Result<OrificeResult> {
     );
     units.insert(
         "ideal_mass_flux".into(),
-        match ctx.preset {
-            crate::units::Preset::Us => "lb/(h ft2)",
-            _ => "kg/(s m2)",
-        }
-        .into(),
+        if us { "lb/(h ft2)" } else { "kg/(s m2)" }.into(),
     );
-    Ok(OrificeResult {
-        inlet: sr(&ctx, &r.inlet),
-        stagnation: sr(&ctx, &r.stagnation),
-        throat: r.throat.as_ref().map(|s| sr(&ctx, s)),
-        downstream: sr(&ctx, &r.downstream),
-        mass_flow: mflow(r.mass_flow),
+    let mut out = OrificeResult {
+        inlet: sr(&ctx, "inlet", &r.inlet),
+        stagnation: sr(&ctx, "stagnation", &r.stagnation),
+        throat: r.throat.as_ref().map(|s| sr(&ctx, "throat", s)),
+        downstream: sr(&ctx, "downstream", &r.downstream),
+        mass_flow: mflow("mass_flow", r.mass_flow),
         choked: r.choked,
-        throat_p: pr(r.throat_p),
-        critical_p: r.critical_p.map(pr),
-        velocity: o(&ctx, Dim::Speed, r.velocity),
-        approach_velocity: o(&ctx, Dim::Speed, r.approach_velocity),
+        throat_p: pr("throat_p", r.throat_p),
+        critical_p: r.critical_p.map(|x| pr("critical_p", x)),
+        velocity: o(&ctx, "velocity", Dim::Speed, r.velocity),
+        approach_velocity: o(&ctx, "approach_velocity", Dim::Speed, r.approach_velocity),
         ideal_mass_flux: r.ideal_mass_flux * flux_unit,
-        discharge_coefficient: r.cd,
+        discharge_coefficient: o(&ctx, "discharge_coefficient", Dim::Dimensionless, r.cd),
         discharge_coefficient_source: cd_source,
         flashing: if vapour {
             "none".into()
@@ -468,18 +434,20 @@ fn orifice_flow(p: OrificeParams) -> Result<OrificeResult> {
             r.flashing.name().into()
         },
         ideal_gas: r.ideal_gas.map(|g| IdealGasOut {
-            kappa: g.kappa,
-            critical_p: pr(g.critical_p),
+            kappa: o(&ctx, "ideal_gas.kappa", Dim::Dimensionless, g.kappa),
+            critical_p: pr("ideal_gas.critical_p", g.critical_p),
             choked: g.choked,
-            mass_flow: mflow(g.mass_flow),
+            mass_flow: mflow("ideal_gas.mass_flow", g.mass_flow),
             deviation: g.deviation,
         }),
-        yearly: yearly(&ctx, &c, &y, BASIS_STEAM),
+        yearly: yearly(&ctx, "yearly", &c, &y, BASIS_STEAM),
         balance: balance_out(&ctx, &r.balance),
         warnings: r.warnings,
         caution: CAUTION.into(),
         units,
-    })
+    };
+    ctx.finish_units(&mut out.units);
+    Ok(out)
 }
 
 // ---------------------------------------------------------------- pipe.flow
@@ -612,9 +580,11 @@ pub struct PipeParams {
     /// Make-up water temperature (default 15 degC).
     #[serde(rename = "makeup_T", default, skip_serializing_if = "Option::is_none")]
     pub makeup_t: Option<Input>,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units, also the air pressure.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -754,24 +724,32 @@ fn condition_out(
 ) -> Result<(ConditionOut, YearlyLoss)> {
     let y = c
         .heat_loss(r.heat_loss, r.inlet.props.h, r.inlet.props.p)
-        .map_err(|e| restate(ctx, e))?;
+        .map_err(|e| ctx.restate(e))?;
+    let f = |field: &str| format!("insulation.{name}.{field}");
     Ok((
         ConditionOut {
             condition: name.into(),
-            heat_loss: o(ctx, Dim::HeatFlow, r.heat_loss),
-            heat_loss_per_length: o(ctx, Dim::HeatFlowPerLength, r.heat_loss / length),
-            surface_t: o(ctx, Dim::Temperature, r.max_surface_t),
-            outlet_t: o(ctx, Dim::Temperature, r.outlet.props.t),
-            condensate: r.condensate.map(|m| o(ctx, Dim::MassFlow, m)),
-            yearly: yearly(ctx, c, &y, BASIS_HEAT),
+            heat_loss: o(ctx, &f("heat_loss"), Dim::HeatFlow, r.heat_loss),
+            heat_loss_per_length: o(
+                ctx,
+                &f("heat_loss_per_length"),
+                Dim::HeatFlowPerLength,
+                r.heat_loss / length,
+            ),
+            surface_t: o(ctx, &f("surface_T"), Dim::Temperature, r.max_surface_t),
+            outlet_t: o(ctx, &f("outlet_T"), Dim::Temperature, r.outlet.props.t),
+            condensate: r
+                .condensate
+                .map(|m| o(ctx, &f("condensate"), Dim::MassFlow, m)),
+            yearly: yearly(ctx, &f("yearly"), c, &y, BASIS_HEAT),
         },
         y,
     ))
 }
 
 fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
-    let inlet = p.inlet.state(&ctx, "inlet").map_err(|e| restate(&ctx, e))?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
+    let inlet = p.inlet.state(&ctx, "inlet").map_err(|e| ctx.restate(e))?;
     let flow = p.inlet.flow_required(&ctx, "inlet")?;
     let opt = |name: &str, dim: Dim, v: &Option<Input>, default: f64| -> Result<f64> {
         v.as_ref()
@@ -928,13 +906,14 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
         (bare_wall.clone(), Some(insulated_wall.clone()))
     };
     // Check the insulated geometry even when it is only the alternative.
-    pipe::check_spec(&spec_for(insulated_wall)).map_err(|e| restate(&ctx, e))?;
-    let r = pipe::line_flow(&inlet, flow, &spec_for(as_built)).map_err(|e| restate(&ctx, e))?;
+    pipe::check_spec(&spec_for(insulated_wall)).map_err(|e| ctx.restate(e))?;
+    let r = pipe::line_flow(&inlet, flow, &spec_for(as_built)).map_err(|e| ctx.restate(e))?;
     let alt = alternative
-        .map(|w| pipe::line_flow(&inlet, flow, &spec_for(w)).map_err(|e| restate(&ctx, e)))
+        .map(|w| pipe::line_flow(&inlet, flow, &spec_for(w)).map_err(|e| ctx.restate(e)))
         .transpose()?;
     let built_name = if installed { "insulated" } else { "bare" };
     let (built_cond, built_y) = condition_out(&ctx, built_name, &r, &c, len)?;
+    let built_yearly = yearly(&ctx, "yearly", &c, &built_y, BASIS_HEAT);
     let insulation = match &alt {
         Some(a) => {
             let alt_name = if installed { "bare" } else { "insulated" };
@@ -947,15 +926,27 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
             let q_ins = if installed { r.heat_loss } else { a.heat_loss };
             let q_bare = if installed { a.heat_loss } else { r.heat_loss };
             Some(InsulationOut {
-                saving: o(&ctx, Dim::HeatFlow, q_bare - q_ins),
-                saving_fraction: if q_bare > 0.0 {
-                    (q_bare - q_ins) / q_bare
-                } else {
-                    0.0
-                },
-                yearly_heat_saving: o(&ctx, Dim::Energy, yb.heat - yi.heat),
+                saving: o(&ctx, "insulation.saving", Dim::HeatFlow, q_bare - q_ins),
+                saving_fraction: o(
+                    &ctx,
+                    "insulation.saving_fraction",
+                    Dim::Dimensionless,
+                    if q_bare > 0.0 {
+                        (q_bare - q_ins) / q_bare
+                    } else {
+                        0.0
+                    },
+                ),
+                yearly_heat_saving: o(
+                    &ctx,
+                    "insulation.yearly_heat_saving",
+                    Dim::Energy,
+                    yb.heat - yi.heat,
+                ),
                 yearly_fuel_saving: match (yb.fuel, yi.fuel) {
-                    (Some(b), Some(i)) => Some(o(&ctx, Dim::Energy, b - i)),
+                    (Some(b), Some(i)) => {
+                        Some(o(&ctx, "insulation.yearly_fuel_saving", Dim::Energy, b - i))
+                    }
                     _ => None,
                 },
                 yearly_cost_saving: match (yb.cost, yi.cost) {
@@ -976,10 +967,10 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
         warnings.push(format!(
             "the {} surface reaches {:.1} {} above the touch limit {:.1} {}: personnel protection (insulation, guards) is needed where it can be touched (common practice; follow local codes)",
             built_name,
-            o(&ctx, Dim::Temperature, r.max_surface_t),
-            ctx.preset.unit(Dim::Temperature).symbol,
-            o(&ctx, Dim::Temperature, touch),
-            ctx.preset.unit(Dim::Temperature).symbol,
+            o(&ctx, "surface_T", Dim::Temperature, r.max_surface_t),
+            ctx.unit("surface_T", Dim::Temperature),
+            o(&ctx, "touch_limit_T", Dim::Temperature, touch),
+            ctx.unit("touch_limit_T", Dim::Temperature),
         ));
     }
     let vmax = r.max_velocity;
@@ -999,10 +990,10 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
     if vmax > limit {
         warnings.push(format!(
             "the velocity reaches {:.2} {} above about {:.0} {} for {what}: expect noise, erosion and a large pressure drop (common practice, no source)",
-            o(&ctx, Dim::Speed, vmax),
-            ctx.preset.unit(Dim::Speed).symbol,
-            o(&ctx, Dim::Speed, limit),
-            ctx.preset.unit(Dim::Speed).symbol,
+            o(&ctx, "velocity", Dim::Speed, vmax),
+            ctx.unit("velocity", Dim::Speed),
+            o(&ctx, "velocity", Dim::Speed, limit),
+            ctx.unit("velocity", Dim::Speed),
         ));
     }
     if r.transitional {
@@ -1041,25 +1032,33 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
     for (i, pt) in r.points.iter().enumerate() {
         if i % stride == 0 || i == last {
             profile.push(ProfilePoint {
-                distance: o(&ctx, Dim::Length, pt.x),
-                p: o(&ctx, Dim::Pressure, pt.state.props.p),
-                t: o(&ctx, Dim::Temperature, pt.state.props.t),
-                h: o(&ctx, Dim::SpecificEnergy, pt.state.props.h),
-                x: pt.state.x,
-                velocity: o(&ctx, Dim::Speed, pt.velocity),
-                surface_t: o(&ctx, Dim::Temperature, pt.surface_t),
-                heat_loss_per_length: o(&ctx, Dim::HeatFlowPerLength, pt.q),
+                distance: o(&ctx, "profile.distance", Dim::Length, pt.x),
+                p: o(&ctx, "profile.p", Dim::Pressure, pt.state.props.p),
+                t: o(&ctx, "profile.T", Dim::Temperature, pt.state.props.t),
+                h: o(&ctx, "profile.h", Dim::SpecificEnergy, pt.state.props.h),
+                x: pt
+                    .state
+                    .x
+                    .map(|x| o(&ctx, "profile.x", Dim::Dimensionless, x)),
+                velocity: o(&ctx, "profile.velocity", Dim::Speed, pt.velocity),
+                surface_t: o(&ctx, "profile.surface_T", Dim::Temperature, pt.surface_t),
+                heat_loss_per_length: o(
+                    &ctx,
+                    "profile.heat_loss_per_length",
+                    Dim::HeatFlowPerLength,
+                    pt.q,
+                ),
             });
         }
     }
     let units = units_of(
         &ctx,
         &[
-            ("pressure_drop", Dim::Pressure),
-            ("dp_friction", Dim::Pressure),
-            ("dp_fittings", Dim::Pressure),
-            ("dp_elevation", Dim::Pressure),
-            ("dp_acceleration", Dim::Pressure),
+            ("pressure_drop", Dim::PressureDifference),
+            ("dp_friction", Dim::PressureDifference),
+            ("dp_fittings", Dim::PressureDifference),
+            ("dp_elevation", Dim::PressureDifference),
+            ("dp_acceleration", Dim::PressureDifference),
             ("inlet_velocity", Dim::Speed),
             ("outlet_velocity", Dim::Speed),
             ("heat_loss", Dim::HeatFlow),
@@ -1084,33 +1083,57 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
             ("insulation.yearly_fuel_saving", Dim::Energy),
         ],
     );
-    Ok(PipeResult {
-        inlet: sr(&ctx, &r.inlet),
-        outlet: sr(&ctx, &r.outlet),
+    let mut out = PipeResult {
+        inlet: sr(&ctx, "inlet", &r.inlet),
+        outlet: sr(&ctx, "outlet", &r.outlet),
         condition: built_name.into(),
-        pressure_drop: o(&ctx, Dim::Pressure, r.pressure_drop),
-        dp_friction: o(&ctx, Dim::Pressure, r.dp_friction),
-        dp_fittings: o(&ctx, Dim::Pressure, r.dp_fittings),
-        dp_elevation: o(&ctx, Dim::Pressure, r.dp_elevation),
-        dp_acceleration: o(&ctx, Dim::Pressure, r.dp_acceleration),
-        inlet_velocity: o(&ctx, Dim::Speed, r.points[0].velocity),
-        outlet_velocity: o(&ctx, Dim::Speed, r.points[last].velocity),
+        pressure_drop: o(
+            &ctx,
+            "pressure_drop",
+            Dim::PressureDifference,
+            r.pressure_drop,
+        ),
+        dp_friction: o(&ctx, "dp_friction", Dim::PressureDifference, r.dp_friction),
+        dp_fittings: o(&ctx, "dp_fittings", Dim::PressureDifference, r.dp_fittings),
+        dp_elevation: o(
+            &ctx,
+            "dp_elevation",
+            Dim::PressureDifference,
+            r.dp_elevation,
+        ),
+        dp_acceleration: o(
+            &ctx,
+            "dp_acceleration",
+            Dim::PressureDifference,
+            r.dp_acceleration,
+        ),
+        inlet_velocity: o(&ctx, "inlet_velocity", Dim::Speed, r.points[0].velocity),
+        outlet_velocity: o(&ctx, "outlet_velocity", Dim::Speed, r.points[last].velocity),
         reynolds: r.points[0].reynolds,
         friction_factor: r.points[0].friction_factor,
         friction_model: format!("{}: {}", friction.name(), friction.source()),
-        heat_loss: o(&ctx, Dim::HeatFlow, r.heat_loss),
-        heat_loss_per_length: o(&ctx, Dim::HeatFlowPerLength, r.heat_loss / len),
-        condensate: r.condensate.map(|m| o(&ctx, Dim::MassFlow, m)),
-        surface_t: o(&ctx, Dim::Temperature, r.max_surface_t),
-        touch_limit_t: o(&ctx, Dim::Temperature, touch),
+        heat_loss: o(&ctx, "heat_loss", Dim::HeatFlow, r.heat_loss),
+        heat_loss_per_length: o(
+            &ctx,
+            "heat_loss_per_length",
+            Dim::HeatFlowPerLength,
+            r.heat_loss / len,
+        ),
+        condensate: r
+            .condensate
+            .map(|m| o(&ctx, "condensate", Dim::MassFlow, m)),
+        surface_t: o(&ctx, "surface_T", Dim::Temperature, r.max_surface_t),
+        touch_limit_t: o(&ctx, "touch_limit_T", Dim::Temperature, touch),
         touch_safe: r.max_surface_t <= touch,
         segments: segments as u32,
         profile,
-        yearly: built_cond.yearly,
+        yearly: built_yearly,
         insulation,
         balance: balance_out(&ctx, &r.balance),
         warnings,
         caution: CAUTION.into(),
         units,
-    })
+    };
+    ctx.finish_units(&mut out.units);
+    Ok(out)
 }

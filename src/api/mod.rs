@@ -404,7 +404,10 @@ impl MethodSpec {
             params_schema: Box::new(|g| P::json_schema(g)),
             result_schema: Box::new(|g| g.subschema_for::<R>()),
             quick: false,
-            call: Box::new(move |_, params| to_result(f(decode_params(params)?))),
+            call: Box::new(move |_, params| {
+                let p = decode_params(params)?;
+                to_result(vocab::restating(|| f(p)))
+            }),
         }
     }
 
@@ -426,7 +429,10 @@ impl MethodSpec {
             params_schema: Box::new(|g| P::json_schema(g)),
             result_schema: Box::new(|g| g.subschema_for::<R>()),
             quick: false,
-            call: Box::new(move |ctx, params| to_result(f(ctx, decode_params(params)?))),
+            call: Box::new(move |ctx, params| {
+                let p = decode_params(params)?;
+                to_result(vocab::restating(|| f(ctx, p)))
+            }),
         }
     }
 
@@ -524,6 +530,41 @@ pub fn call_in(ctx: &ServerCtx, name: &str, params: Value) -> Result<Value, ApiE
 /// command line, library users, tests).
 pub fn call(name: &str, params: Value) -> Result<Value, ApiError> {
     call_in(&ServerCtx::default(), name, params)
+}
+
+/// Runs method `name` on params given as JSON text with their `units` replaced by `units` (a
+/// preset, a JSON object or `key=unit` items, see [`vocab::units_from_text`]), as the command
+/// line's `--units` does; returns the result as pretty JSON text.
+pub fn call_text_with_units(
+    name: &str,
+    params: &str,
+    units: Option<&str>,
+) -> Result<String, ApiError> {
+    let Some(units) = units else {
+        return call_text(name, params);
+    };
+    let mut value: Value = serde_json::from_str(params).map_err(|e| ApiError {
+        code: codes::PARSE_ERROR,
+        message: format!("params are not valid JSON: {e}"),
+        data: json!({ "kind": "parse_error" }),
+    })?;
+    let units = vocab::units_from_text(units).map_err(ApiError::from)?;
+    match &mut value {
+        Value::Object(o) => {
+            o.insert(
+                "units".into(),
+                serde_json::to_value(units).map_err(|e| ApiError::internal(e.to_string()))?,
+            );
+        }
+        _ => {
+            return Err(ApiError::invalid_params(
+                ".",
+                "--units needs params that are one object",
+            ))
+        }
+    }
+    let result = call(name, value)?;
+    serde_json::to_string_pretty(&result).map_err(|e| ApiError::internal(e.to_string()))
 }
 
 /// Runs method `name` on params given as JSON text; returns the result as pretty JSON text.

@@ -8,7 +8,7 @@
 //!
 //! Invariant: thin wrappers; the calculations are `crate::plant`.
 
-use super::vocab::{state_key_values, state_result, Ctx, Input, StateResult};
+use super::vocab::{state_key_values, state_result_at, Ctx, Input, StateResult, Units};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::components as c;
@@ -222,12 +222,12 @@ fn units_map(ctx: &Ctx, fields: &[(&str, Dim)]) -> BTreeMap<String, String> {
     ] {
         m.insert(n.into(), ctx.unit(n, d).into());
     }
-    m.insert("preset".into(), ctx.preset.name().into());
+    ctx.finish_units(&mut m);
     m
 }
 
-fn sr(ctx: &Ctx, st: &State) -> StateResult {
-    state_result(st, ctx)
+fn sr(ctx: &Ctx, at: &str, st: &State) -> StateResult {
+    state_result_at(st, ctx, at)
 }
 
 /// The output field `name` in its unit.
@@ -265,9 +265,11 @@ pub struct TurbineParams {
     /// pressure is `outlet_p`.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub outlet: Option<Stream>,
-    /// Unit preset (see `water.state`).
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units (default 101.325 kPa).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -304,9 +306,9 @@ pub struct TurbineResult {
 
 fn expansion_out(ctx: &Ctx, ex: &c::Expansion) -> TurbineResult {
     TurbineResult {
-        inlet: sr(ctx, &ex.inlet),
-        outlet: sr(ctx, &ex.outlet),
-        isentropic_outlet: sr(ctx, &ex.isentropic_outlet),
+        inlet: sr(ctx, "inlet", &ex.inlet),
+        outlet: sr(ctx, "outlet", &ex.outlet),
+        isentropic_outlet: sr(ctx, "isentropic_outlet", &ex.isentropic_outlet),
         specific_work: o(ctx, "specific_work", Dim::SpecificEnergy, ex.specific_work),
         isentropic_work: o(
             ctx,
@@ -315,8 +317,8 @@ fn expansion_out(ctx: &Ctx, ex: &c::Expansion) -> TurbineResult {
             ex.isentropic_work,
         ),
         power: of(ctx, "power", Dim::Power, ex.power),
-        efficiency: ex.efficiency,
-        moisture: ex.moisture,
+        efficiency: o(ctx, "efficiency", Dim::Dimensionless, ex.efficiency),
+        moisture: o(ctx, "moisture", Dim::Dimensionless, ex.moisture),
         balance: balance(ctx, &ex.balance),
         warnings: ex.warnings.clone(),
         caution: CAUTION.into(),
@@ -334,7 +336,7 @@ fn expansion_out(ctx: &Ctx, ex: &c::Expansion) -> TurbineResult {
 }
 
 fn turbine_expand(p: TurbineParams) -> Result<TurbineResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let inlet = p.inlet.state(&ctx, "inlet")?;
     let flow = p.inlet.flow(&ctx, "inlet")?;
     let p2 = pressure(&ctx, "outlet_p", &p.outlet_p)?;
@@ -374,9 +376,11 @@ pub struct TrainParams {
     pub inlet: Stream,
     /// Stages in order of falling pressure.
     pub stages: Vec<StageIn>,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -450,7 +454,7 @@ fn line_point(ctx: &Ctx, st: &State) -> LinePoint {
 }
 
 fn turbine_train(p: TrainParams) -> Result<TrainResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let inlet = p.inlet.state(&ctx, "inlet")?;
     let flow = p.inlet.flow_required(&ctx, "inlet")?;
     let stages = p
@@ -476,9 +480,13 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
         .map(|s| {
             line.push(line_point(&ctx, &s.expansion.outlet));
             StageOut {
-                inlet: sr(&ctx, &s.expansion.inlet),
-                outlet: sr(&ctx, &s.expansion.outlet),
-                isentropic_outlet: sr(&ctx, &s.expansion.isentropic_outlet),
+                inlet: sr(&ctx, "stages.inlet", &s.expansion.inlet),
+                outlet: sr(&ctx, "stages.outlet", &s.expansion.outlet),
+                isentropic_outlet: sr(
+                    &ctx,
+                    "stages.isentropic_outlet",
+                    &s.expansion.isentropic_outlet,
+                ),
                 flow: o(&ctx, "stages.flow", Dim::MassFlow, s.flow),
                 extraction: o(&ctx, "stages.extraction", Dim::MassFlow, s.extraction),
                 specific_work: o(
@@ -493,7 +501,12 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
                     Dim::Power,
                     s.expansion.power.unwrap_or(0.0),
                 ),
-                efficiency: s.expansion.efficiency,
+                efficiency: o(
+                    &ctx,
+                    "stages.efficiency",
+                    Dim::Dimensionless,
+                    s.expansion.efficiency,
+                ),
             }
         })
         .collect();
@@ -502,7 +515,12 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
         expansion_line: line,
         power: o(&ctx, "power", Dim::Power, t.power),
         exhaust_flow: o(&ctx, "exhaust_flow", Dim::MassFlow, t.exhaust_flow),
-        overall_efficiency: t.overall_efficiency,
+        overall_efficiency: o(
+            &ctx,
+            "overall_efficiency",
+            Dim::Dimensionless,
+            t.overall_efficiency,
+        ),
         balance: balance(&ctx, &t.balance),
         warnings: t.warnings,
         caution: CAUTION.into(),
@@ -536,9 +554,11 @@ pub struct PumpParams {
     /// "isentropic" (default) or "hydraulic".
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub efficiency_kind: Option<String>,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -576,7 +596,7 @@ pub struct PumpResult {
 }
 
 fn pump_raise(p: PumpParams) -> Result<PumpResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let inlet = p.inlet.state(&ctx, "inlet")?;
     let flow = p.inlet.flow(&ctx, "inlet")?;
     let p2 = pressure(&ctx, "outlet_p", &p.outlet_p)?;
@@ -592,12 +612,12 @@ fn pump_raise(p: PumpParams) -> Result<PumpResult> {
     };
     let r = c::pump_raise(&inlet, p2, eta, kind, flow)?;
     Ok(PumpResult {
-        inlet: sr(&ctx, &r.inlet),
-        outlet: sr(&ctx, &r.outlet),
-        isentropic_outlet: sr(&ctx, &r.isentropic_outlet),
+        inlet: sr(&ctx, "inlet", &r.inlet),
+        outlet: sr(&ctx, "outlet", &r.outlet),
+        isentropic_outlet: sr(&ctx, "isentropic_outlet", &r.isentropic_outlet),
         specific_work: o(&ctx, "specific_work", Dim::SpecificEnergy, r.specific_work),
         power: of(&ctx, "power", Dim::Power, r.power),
-        efficiency: r.efficiency,
+        efficiency: o(&ctx, "efficiency", Dim::Dimensionless, r.efficiency),
         efficiency_kind: match kind {
             c::PumpEfficiencyKind::Isentropic => "isentropic".into(),
             c::PumpEfficiencyKind::Hydraulic => "hydraulic".into(),
@@ -629,9 +649,11 @@ pub struct ValveParams {
     pub inlet: Stream,
     /// Outlet pressure.
     pub outlet_p: Input,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -659,14 +681,14 @@ pub struct ValveResult {
 }
 
 fn valve_throttle(p: ValveParams) -> Result<ValveResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let inlet = p.inlet.state(&ctx, "inlet")?;
     let flow = p.inlet.flow(&ctx, "inlet")?;
     let p2 = pressure(&ctx, "outlet_p", &p.outlet_p)?;
     let r = c::valve_throttle(&inlet, p2, flow)?;
     Ok(ValveResult {
-        inlet: sr(&ctx, &r.inlet),
-        outlet: sr(&ctx, &r.outlet),
+        inlet: sr(&ctx, "inlet", &r.inlet),
+        outlet: sr(&ctx, "outlet", &r.outlet),
         superheat: of(&ctx, "superheat", Dim::TemperatureDifference, r.superheat),
         temperature_drop: o(
             &ctx,
@@ -706,9 +728,11 @@ pub struct SprayParams {
     /// Target superheat above saturation at the outlet pressure (a temperature difference).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub target_superheat: Option<Input>,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -742,7 +766,7 @@ pub struct SprayResult {
 }
 
 fn desuperheater_spray(p: SprayParams) -> Result<SprayResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let steam = p.steam.state(&ctx, "steam")?;
     let flow = p.steam.flow(&ctx, "steam")?;
     let water = p.water.state(&ctx, "water")?;
@@ -768,11 +792,11 @@ fn desuperheater_spray(p: SprayParams) -> Result<SprayResult> {
     };
     let r = c::desuperheater_spray(&steam, flow, &water, p2, target)?;
     Ok(SprayResult {
-        steam: sr(&ctx, &r.steam),
-        water: sr(&ctx, &r.water),
-        outlet: sr(&ctx, &r.outlet),
+        steam: sr(&ctx, "steam", &r.steam),
+        water: sr(&ctx, "water", &r.water),
+        outlet: sr(&ctx, "outlet", &r.outlet),
         spray_flow: o(&ctx, "spray_flow", Dim::MassFlow, r.spray_flow),
-        spray_ratio: r.spray_ratio,
+        spray_ratio: o(&ctx, "spray_ratio", Dim::Dimensionless, r.spray_ratio),
         outlet_flow: o(&ctx, "outlet_flow", Dim::MassFlow, r.outlet_flow),
         superheat: o(&ctx, "superheat", Dim::TemperatureDifference, r.superheat),
         balance: balance(&ctx, &r.balance),
@@ -799,9 +823,11 @@ pub struct FlashParams {
     pub inlet: Stream,
     /// Flash-vessel pressure.
     pub p: Input,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -835,17 +861,17 @@ pub struct FlashResult {
 }
 
 fn flash_separate(p: FlashParams) -> Result<FlashResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let inlet = p.inlet.state(&ctx, "inlet")?;
     let flow = p.inlet.flow(&ctx, "inlet")?;
     let pv = pressure(&ctx, "p", &p.p)?;
     let r = c::flash_separate(&inlet, pv, flow)?;
     Ok(FlashResult {
-        inlet: sr(&ctx, &r.inlet),
-        mixture: sr(&ctx, &r.mixture),
-        vapour: sr(&ctx, &r.vapour),
-        liquid: sr(&ctx, &r.liquid),
-        flash_fraction: r.flash_fraction,
+        inlet: sr(&ctx, "inlet", &r.inlet),
+        mixture: sr(&ctx, "mixture", &r.mixture),
+        vapour: sr(&ctx, "vapour", &r.vapour),
+        liquid: sr(&ctx, "liquid", &r.liquid),
+        flash_fraction: o(&ctx, "flash_fraction", Dim::Dimensionless, r.flash_fraction),
         vapour_flow: o(&ctx, "vapour_flow", Dim::MassFlow, r.vapour_flow),
         liquid_flow: o(&ctx, "liquid_flow", Dim::MassFlow, r.liquid_flow),
         balance: balance(&ctx, &r.balance),
@@ -871,9 +897,11 @@ pub struct HeaderParams {
     pub inlets: Vec<Stream>,
     /// Header pressure.
     pub p: Input,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -897,7 +925,7 @@ pub struct HeaderResult {
 }
 
 fn header_mix(p: HeaderParams) -> Result<HeaderResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let ph = pressure(&ctx, "p", &p.p)?;
     let inlets = p
         .inlets
@@ -910,7 +938,7 @@ fn header_mix(p: HeaderParams) -> Result<HeaderResult> {
         .collect::<Result<Vec<_>>>()?;
     let r = c::header_mix(&inlets, ph)?;
     Ok(HeaderResult {
-        outlet: sr(&ctx, &r.outlet),
+        outlet: sr(&ctx, "outlet", &r.outlet),
         flow: o(&ctx, "flow", Dim::MassFlow, r.flow),
         balance: balance(&ctx, &r.balance),
         warnings: r.warnings,
@@ -940,9 +968,11 @@ pub struct ExchangerParams {
     pub hot: SideIn,
     /// Cold side (for a feedwater heater: the feedwater).
     pub cold: SideIn,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -988,7 +1018,7 @@ pub struct ExchangerResult {
 }
 
 fn exchanger_balance(p: ExchangerParams) -> Result<ExchangerResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let side = |s: &SideIn, name: &str| -> Result<c::Side> {
         let inlet = s.inlet.state(&ctx, &format!("{name}.inlet"))?;
         let outlet = s
@@ -1015,11 +1045,11 @@ fn exchanger_balance(p: ExchangerParams) -> Result<ExchangerResult> {
     let r = c::exchanger_balance(&hot, &cold)?;
     let dt = |name: &str, x: f64| o(&ctx, name, Dim::TemperatureDifference, x);
     Ok(ExchangerResult {
-        hot_in: sr(&ctx, &r.hot_in),
-        hot_out: sr(&ctx, &r.hot_out),
+        hot_in: sr(&ctx, "hot_in", &r.hot_in),
+        hot_out: sr(&ctx, "hot_out", &r.hot_out),
         hot_flow: o(&ctx, "hot_flow", Dim::MassFlow, r.hot_flow),
-        cold_in: sr(&ctx, &r.cold_in),
-        cold_out: sr(&ctx, &r.cold_out),
+        cold_in: sr(&ctx, "cold_in", &r.cold_in),
+        cold_out: sr(&ctx, "cold_out", &r.cold_out),
         cold_flow: o(&ctx, "cold_flow", Dim::MassFlow, r.cold_flow),
         duty: o(&ctx, "duty", Dim::HeatFlow, r.duty),
         lmtd: dt("lmtd", r.lmtd),
@@ -1064,9 +1094,11 @@ pub struct BoilerParams {
     pub blowdown_fraction: Option<Input>,
     /// Boiler efficiency: heat to water and steam over fuel heat input.
     pub efficiency: Input,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -1106,7 +1138,7 @@ pub struct BoilerResult {
 }
 
 fn boiler_fire(p: BoilerParams) -> Result<BoilerResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let fw = p.feedwater.state(&ctx, "feedwater")?;
     let st = p.steam.state(&ctx, "steam")?;
     let flow = match (&p.steam_flow, p.steam.flow(&ctx, "steam")?) {
@@ -1129,9 +1161,9 @@ fn boiler_fire(p: BoilerParams) -> Result<BoilerResult> {
     let q = |name: &str, x: f64| o(&ctx, name, Dim::HeatFlow, x);
     let m = |name: &str, x: f64| o(&ctx, name, Dim::MassFlow, x);
     Ok(BoilerResult {
-        feedwater: sr(&ctx, &r.feedwater),
-        steam: sr(&ctx, &r.steam),
-        blowdown: sr(&ctx, &r.blowdown),
+        feedwater: sr(&ctx, "feedwater", &r.feedwater),
+        steam: sr(&ctx, "steam", &r.steam),
+        blowdown: sr(&ctx, "blowdown", &r.blowdown),
         steam_flow: m("steam_flow", r.steam_flow),
         feedwater_flow: m("feedwater_flow", r.feedwater_flow),
         blowdown_flow: m("blowdown_flow", r.blowdown_flow),
@@ -1161,9 +1193,11 @@ pub struct DeaeratorParams {
     /// Fraction of the heating steam vented (default 0).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub vent_fraction: Option<Input>,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -1193,7 +1227,7 @@ pub struct DeaeratorResult {
 }
 
 fn deaerator_balance(p: DeaeratorParams) -> Result<DeaeratorResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let pd = pressure(&ctx, "p", &p.p)?;
     let steam = p.steam.state(&ctx, "steam")?;
     let waters = p
@@ -1214,8 +1248,8 @@ fn deaerator_balance(p: DeaeratorParams) -> Result<DeaeratorResult> {
     let r = c::deaerator_balance(pd, &steam, &waters, vf)?;
     let m = |name: &str, x: f64| o(&ctx, name, Dim::MassFlow, x);
     Ok(DeaeratorResult {
-        steam: sr(&ctx, &r.steam),
-        outlet: sr(&ctx, &r.outlet),
+        steam: sr(&ctx, "steam", &r.steam),
+        outlet: sr(&ctx, "outlet", &r.outlet),
         steam_flow: m("steam_flow", r.steam_flow),
         outlet_flow: m("outlet_flow", r.outlet_flow),
         vent_flow: m("vent_flow", r.vent_flow),
@@ -1281,9 +1315,11 @@ pub struct RankineParams {
     /// Net power wanted (gives the flow).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub net_power: Option<Input>,
-    /// Unit preset.
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -1357,7 +1393,7 @@ pub struct RankineResult {
 }
 
 fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let pb = pressure(&ctx, "boiler_p", &p.boiler_p)?;
     let tb = ctx.value("boiler_T", Dim::Temperature, &p.boiler_t)?;
     let reheat = match (&p.reheat_p, &p.reheat_t) {
@@ -1450,7 +1486,7 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
             .map(|pt| PointOut {
                 number: pt.number,
                 label: pt.label.clone(),
-                state: sr(&ctx, &pt.state),
+                state: sr(&ctx, "points.state", &pt.state),
             })
             .collect(),
         extractions: r
@@ -1462,7 +1498,7 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
                     cy::HeaterKind::Open => "open".into(),
                     cy::HeaterKind::Closed => "closed".into(),
                 },
-                fraction: x.fraction,
+                fraction: o(&ctx, "extractions.fraction", Dim::Dimensionless, x.fraction),
                 h: e("extractions.h", x.state.props.h),
             })
             .collect(),
@@ -1471,14 +1507,29 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
         net_work: e("net_work", r.net_work),
         heat_input: e("heat_input", r.heat_input),
         heat_rejected: e("heat_rejected", r.heat_rejected),
-        thermal_efficiency: r.thermal_efficiency,
+        thermal_efficiency: o(
+            &ctx,
+            "thermal_efficiency",
+            Dim::Dimensionless,
+            r.thermal_efficiency,
+        ),
         heat_rate_kj_per_kwh: r.heat_rate,
         heat_rate_btu_per_kwh: r.heat_rate_btu,
         steam_rate: o(&ctx, "steam_rate", Dim::SteamRate, r.steam_rate),
-        back_work_ratio: r.back_work_ratio,
+        back_work_ratio: o(
+            &ctx,
+            "back_work_ratio",
+            Dim::Dimensionless,
+            r.back_work_ratio,
+        ),
         flow: of(&ctx, "flow", Dim::MassFlow, r.flow),
         net_power: of(&ctx, "net_power", Dim::Power, r.net_power),
-        exhaust_moisture: r.exhaust_moisture,
+        exhaust_moisture: o(
+            &ctx,
+            "exhaust_moisture",
+            Dim::Dimensionless,
+            r.exhaust_moisture,
+        ),
         energy_residual: r.energy_residual,
         warnings: r.warnings,
         caution: CAUTION.into(),

@@ -1,13 +1,15 @@
 //! The bulk row pipeline shared by `water.batch` and `POST /columns`: two input columns in,
 //! one value per wanted property and row out, computed in one pass per row.
 //!
-//! Each row is read, solved and turned into its outputs (in the preset's units) by one closure,
+//! Each row is read, solved and turned into its outputs (in the request's units, per column) by one closure,
 //! writing straight into a row-major output buffer; rows are split into blocks that run on all
 //! cores above [`PARALLEL_THRESHOLD`] rows. Failed rows are kept sparse (row index and error), so
 //! a clean batch allocates nothing per row beyond its outputs.
 //!
 //! It also owns the bulk vocabulary shared by `water.batch` and `/columns`: the input column
-//! names ([`input_dim`]), the wanted outputs ([`check_want`]) and their units ([`column_unit`]).
+//! names ([`input_dim`]) and their units ([`input_unit`]: a unit per column, converted once and
+//! vectorised), the wanted outputs ([`check_want`]), their units ([`column_unit`]) and the
+//! legends of coded text columns ([`legend`]: "phase" travels as its index in [`PHASES`]).
 //!
 //! Invariants: every row is computed by the same code whether the batch runs on one core or
 //! many, so results are identical bit for bit; when every wanted property is first-order
@@ -16,7 +18,7 @@
 
 use super::vocab::Ctx;
 use crate::error::{Error, Result};
-use crate::units::{Dim, Unit, AMBIENT_DEFAULT_MPA};
+use crate::units::{Dim, Unit};
 use crate::water::pairs::{self, accepted_pairs, INPUTS};
 use crate::water::state::{Given, Options, Phase, State};
 use crate::water::{self as physics, Field, Formulation};
@@ -29,7 +31,8 @@ pub const PARALLEL_THRESHOLD: usize = 2048;
 /// Rows per block of parallel work.
 const BLOCK: usize = 1024;
 
-/// The phases in the order of their code in a "phase" output (see [`Rows::phase`]).
+/// The phases in the order of their code in a "phase" output (see [`Rows::phase`]): the legend
+/// of a packed "phase" column.
 pub const PHASES: [Phase; 4] = [
     Phase::Liquid,
     Phase::Vapour,
@@ -49,31 +52,39 @@ pub struct InputColumn {
 }
 
 impl InputColumn {
-    /// A column of raw numbers in the preset's unit for `name` (NaN or infinity: that row fails).
-    pub fn from_numbers(name: &'static str, unit: Unit, raw: &[f64]) -> InputColumn {
-        InputColumn::from_source(name, unit, raw.len(), |i| raw[i])
+    /// A column of raw numbers in `unit` (the column's own unit, else the request's unit for
+    /// `name`), converted once, vectorised; `ambient` (MPa) for gauge units. NaN or infinity:
+    /// that row fails.
+    pub fn from_numbers(name: &'static str, unit: Unit, ambient: f64, raw: &[f64]) -> InputColumn {
+        InputColumn::from_source(name, unit, ambient, raw.len(), |i| raw[i])
     }
 
-    /// A column of little-endian doubles (8 bytes a row) in the preset's unit for `name`.
-    pub fn from_le_bytes(name: &'static str, unit: Unit, bytes: &[u8]) -> InputColumn {
+    /// A column of little-endian doubles (8 bytes a row) in `unit`, as [`InputColumn::from_numbers`].
+    pub fn from_le_bytes(
+        name: &'static str,
+        unit: Unit,
+        ambient: f64,
+        bytes: &[u8],
+    ) -> InputColumn {
         let raw = |i: usize| {
             let mut b = [0u8; 8];
             b.copy_from_slice(&bytes[i * 8..i * 8 + 8]);
             f64::from_le_bytes(b)
         };
-        InputColumn::from_source(name, unit, bytes.len() / 8, raw)
+        InputColumn::from_source(name, unit, ambient, bytes.len() / 8, raw)
     }
 
     fn from_source(
         name: &'static str,
         unit: Unit,
+        ambient: f64,
         n: usize,
         raw: impl Fn(usize) -> f64 + Sync,
     ) -> InputColumn {
         let conv = |i: usize| {
             let x = raw(i);
             if x.is_finite() {
-                unit.to_internal(x, AMBIENT_DEFAULT_MPA)
+                unit.to_internal(x, ambient)
             } else {
                 f64::NAN
             }
@@ -190,7 +201,7 @@ impl PairKind {
     }
 }
 
-/// The outputs of a batch: `k` values per row, row-major, in the preset's units.
+/// The outputs of a batch: `k` values per row, row-major, each in its column's unit.
 #[derive(Debug, Clone)]
 pub struct Rows {
     /// Number of rows.
@@ -277,6 +288,23 @@ pub fn input_dim(name: &str) -> Result<(&'static str, Dim)> {
 /// The unit of a result column, if it has one (a numeric field of `water.state`).
 pub fn column_unit(ctx: &Ctx, name: &str) -> Option<&'static str> {
     Field::parse(name).map(|f| ctx.unit(f.name(), f.dim()))
+}
+
+/// The names behind the codes of a coded text column ("phase": [`PHASES`] by index), or None
+/// for a column of numbers ("region" holds the IF97 region number itself).
+pub fn legend(name: &str) -> Option<Vec<&'static str>> {
+    (name == "phase").then(|| PHASES.iter().map(|p| p.name()).collect())
+}
+
+/// The unit of one input column: its own unit text if it has one (checked against the
+/// column's dimension), else the request's unit for `name`.
+pub fn input_unit(ctx: &Ctx, name: &str, dim: Dim, own: Option<&str>) -> Result<Unit> {
+    let unit = match own {
+        Some(text) => crate::units::parse_unit(&format!("given.{name}.unit"), dim, text)?,
+        None => ctx.in_unit(name, dim),
+    };
+    ctx.note_input(name, dim, unit);
+    Ok(unit)
 }
 
 /// Checks a `want` list: numeric fields of `water.state`, "region", and "phase" when texts are

@@ -7,7 +7,8 @@
 //! solves the registered network after applying its query pairs: `units` and `ambient` are the
 //! method's own params; every other name is a dotted path into the network, as the `path` of
 //! `balance.sweep` (`units.LP_users.demand=40 t/h`, `streams.hp_to_bpt.flow=30`); the value is a
-//! number in the request's preset or a text with its unit. The answer is the number at
+//! number in the request's units or a text with its unit; `unit` sets the unit of the answered
+//! quantity (as a `units` key of its field name). The answer is the number at
 //! `quantity` in the result: a bare name is a site total (`net_power`, `fuel_heat_input`, ...),
 //! a dotted path reaches anything else (`units.BPT.power`, `streams.ds1_out.state.T`).
 //!
@@ -20,7 +21,7 @@
 
 use super::balance::set_path;
 use super::cell::{pairs_from_args, wire_value, CellError};
-use super::ApiError;
+use super::{vocab, ApiError};
 use serde_json::{Map, Value};
 use std::collections::BTreeMap;
 use std::collections::HashMap;
@@ -31,8 +32,10 @@ use std::sync::{Arc, Mutex};
 /// The method a site request calls.
 pub const SOLVE_METHOD: &str = "balance.solve";
 
-/// Query names that are params of `balance.solve` rather than paths into the network.
-pub const RESERVED: &[&str] = &["units", "ambient"];
+/// Query names that are params of `balance.solve` rather than paths into the network: `units`
+/// (a preset, a JSON object or `key=unit` items, see [`vocab::units_from_text`]), `ambient`, and
+/// `unit`, the unit of the answered quantity (a `units` key of the quantity's field name).
+pub const RESERVED: &[&str] = &["units", "ambient", "unit"];
 
 /// Solved site results kept for the GET route (see the module invariants).
 pub const CACHE_ENTRIES: usize = 256;
@@ -108,16 +111,30 @@ impl Sites {
     /// The solved result of site `name` with `pairs` applied, from the cache when the same site
     /// was asked with the same pairs before.
     pub fn solved(&self, name: &str, pairs: &[(String, String)]) -> Result<Arc<Value>, ApiError> {
+        self.solved_for(name, "", pairs)
+    }
+
+    /// As [`Sites::solved`], for the answer `quantity` (which a `unit` pair refers to).
+    pub fn solved_for(
+        &self,
+        name: &str,
+        quantity: &str,
+        pairs: &[(String, String)],
+    ) -> Result<Arc<Value>, ApiError> {
         let network = self
             .networks
             .get(name)
             .ok_or_else(|| ApiError::invalid_params(".", format!("no site '{name}'")))?;
-        let key = (name.to_string(), pairs.to_vec());
+        let mut key_pairs = pairs.to_vec();
+        if pairs.iter().any(|(k, _)| k == "unit") {
+            key_pairs.push((" quantity".into(), quantity.into()));
+        }
+        let key = (name.to_string(), key_pairs);
         if let Some(hit) = self.solved.lock().ok().and_then(|c| c.get(&key).cloned()) {
             return Ok(hit);
         }
         self.solves.fetch_add(1, Ordering::Relaxed);
-        let result = Arc::new(solve(network, pairs)?);
+        let result = Arc::new(solve(network, pairs, quantity)?);
         if let Ok(mut c) = self.solved.lock() {
             if c.len() >= CACHE_ENTRIES {
                 c.clear();
@@ -151,24 +168,31 @@ pub fn read(path: &Path) -> Result<Value, String> {
 /// Reads a network file and checks that it solves as it stands.
 pub fn load(path: &Path) -> Result<Value, String> {
     let net = read(path)?;
-    solve(&net, &[]).map_err(|e| format!("site file {}: {}", path.display(), e.message))?;
+    solve(&net, &[], "").map_err(|e| format!("site file {}: {}", path.display(), e.message))?;
     Ok(net)
 }
 
-/// Solves `network` after applying the query pairs; returns the `balance.solve` result.
-fn solve(network: &Value, pairs: &[(String, String)]) -> Result<Value, ApiError> {
+/// Solves `network` after applying the query pairs; returns the `balance.solve` result. A
+/// `unit` pair sets the unit of the field `quantity` names (by its last part, as a `units` key).
+fn solve(network: &Value, pairs: &[(String, String)], quantity: &str) -> Result<Value, ApiError> {
     let mut net = network.clone();
     let mut top = Map::new();
     let mut seen = std::collections::BTreeSet::new();
+    let mut unit: Option<&str> = None;
     for (k, v) in pairs {
         if !seen.insert(k.as_str()) {
             return Err(ApiError::invalid_params(k, format!("'{k}' is given twice")));
         }
         if RESERVED.contains(&k.as_str()) {
-            let value = if k == "ambient" {
-                wire_value(v)
-            } else {
-                Value::String(v.clone())
+            let value = match k.as_str() {
+                "ambient" => wire_value(v),
+                "units" => serde_json::to_value(vocab::units_from_text(v)?)
+                    .map_err(|e| ApiError::internal(e.to_string()))?,
+                "unit" => {
+                    unit = Some(v);
+                    continue;
+                }
+                _ => Value::String(v.clone()),
             };
             top.insert(k.clone(), value);
         } else if k.starts_with("units.") || k.starts_with("streams.") {
@@ -183,6 +207,23 @@ fn solve(network: &Value, pairs: &[(String, String)]) -> Result<Value, ApiError>
                 ),
             ));
         }
+    }
+    if let Some(u) = unit {
+        let leaf = quantity.rsplit('.').next().unwrap_or(quantity);
+        if vocab::field_dims(leaf).is_empty() {
+            return Err(ApiError::invalid_params(
+                "unit",
+                format!("unit = '{u}': '{quantity}' is not a quantity with a unit"),
+            ));
+        }
+        let units = top
+            .remove("units")
+            .map(|x| serde_json::from_value(x).unwrap_or(vocab::Units::Preset(String::new())));
+        let units = vocab::units_with(units, leaf, u)?;
+        top.insert(
+            "units".into(),
+            serde_json::to_value(units).map_err(|e| ApiError::internal(e.to_string()))?,
+        );
     }
     top.insert("network".into(), net);
     super::call(SOLVE_METHOD, Value::Object(top))
@@ -259,7 +300,7 @@ pub fn answer(
     pairs: &[(String, String)],
 ) -> Result<String, CellError> {
     check_quantity(quantity)?;
-    pick(&solve(network, pairs)?, quantity)
+    pick(&solve(network, pairs, quantity)?, quantity)
 }
 
 /// `steamcell site FILE QUANTITY [path=value...]`: the same answer from a network file.

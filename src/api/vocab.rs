@@ -4,81 +4,593 @@
 //! ([`GivenPair`], [`state_key_values`]), the solver switches ([`SolveFlags`]), the formulation
 //! param ([`parse_formulation`]) and the full state object ([`StateResult`], [`state_result`]).
 //!
-//! Units: inputs are numbers in the request's preset or strings with a unit; [`Ctx::value`]
-//! converts them to internal units, [`Ctx::out`] converts each output field back to the unit
-//! the caller gets for it (today the preset's unit of its dimension).
+//! Units: the `units` param ([`Units`]) is a preset or an object choosing units per dimension,
+//! per field name and per dotted path ([`unit_system`] checks it against [`FIELD_DIMS`]);
+//! inputs are numbers in the request's units or strings with a unit; [`Ctx::value`] converts
+//! them to internal units and records the unit each came in, [`Ctx::out`] converts each output
+//! field back to the unit the caller gets for it, by the field's name, and [`Ctx::restate`]
+//! re-states a range error in the caller's units (applied to every method by [`restating`]).
 //!
 //! Invariant: conversion and shaping only; every physics decision (formulation, ranges, ice,
 //! which pair, which field means what) is `crate::water`'s (`water::solve`, `water::PAIRS`,
 //! `water::Field`).
 
 use crate::error::{Error, Result};
-use crate::units::{self, Dim, Preset, Unit, AMBIENT_DEFAULT_MPA};
+use crate::units::{self, Dim, Preset, Unit, UnitSystem, AMBIENT_DEFAULT_MPA};
 use crate::water::pairs::{self, INPUTS};
 use crate::water::state::{Given, Options, Phase, State};
 use crate::water::transport;
 use crate::water::{Field, Formulation};
 use schemars::JsonSchema;
 use serde::{Deserialize, Serialize};
+use std::cell::RefCell;
 use std::collections::BTreeMap;
+use std::sync::{Arc, Mutex};
 
-/// A numeric input: a number in the request's unit preset, or a string with its unit.
+/// A numeric input: a number in the request's units, or a string with its unit.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
 #[serde(untagged)]
 pub enum Input {
-    /// A number in the request's unit preset.
+    /// A number in the request's units (the unit `units` gives this quantity, else the
+    /// preset's).
     Number(f64),
     /// A number with a unit, e.g. "42 barg", "410 degC", "1200 Btu/lb", "90 t/h".
     Text(String),
 }
 
-/// Context shared by every conversion of one request: preset and ambient pressure.
-#[derive(Debug, Clone, Copy)]
+/// The `units` param: a preset name, or an object with a preset and units per quantity.
+///
+/// Object keys: `preset` (the base preset, default "engineering"); a dimension, which sets every
+/// quantity of that dimension (`pressure`, `pressure_difference`, `temperature`,
+/// `temperature_difference`, `specific_energy`, `specific_entropy`, `specific_volume`,
+/// `density`, `speed`, `mass_flow` or `flow`, `power`, `heat_flow`, `length`, `energy`, `mass`,
+/// ...); a field name, which sets every field of that name in the params and the answer (`p`,
+/// `T`, `h`, `flow`, `net_power`, `pressure_drop`, ...); or a dotted path, which sets the fields
+/// it ends (`outlet.p`, `totals.net_power`, `stages.power`). Precedence: the longest matching
+/// path, then the field name, then the dimension, then the preset. Values are unit spellings as
+/// inputs accept them, gauge pressures included ("barg", "psig": answered relative to
+/// `ambient`, which every answer then echoes). Bare numbers in the params are read in the same
+/// units as the answer gives them.
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(untagged)]
+pub enum Units {
+    /// A preset: "engineering" (default: MPa, degC, kJ/kg, kJ/(kg K), kg/s, kW), "si" (Pa,
+    /// K, J/kg, J/(kg K), kg/s, W), "us" (psia, degF, Btu/lb, Btu/(lb F), lb/h, kW), "bar"
+    /// (engineering in bar) or "bar_th" (bar with t/h).
+    Preset(String),
+    /// A preset with units per quantity, e.g. {"preset": "engineering", "p": "barg", "flow":
+    /// "t/h", "power": "MW", "outlet.T": "degF"}.
+    Choice(BTreeMap<String, String>),
+}
+
+impl From<&str> for Units {
+    fn from(s: &str) -> Units {
+        Units::Preset(s.to_string())
+    }
+}
+
+/// Field names that a `units` object may name, with their dimension: every numeric field of
+/// the answers and every numeric input of the params that has a unit (the state fields of
+/// [`Field::ALL`] besides). A name with two dimensions ("heat": a heat flow, and a yearly
+/// energy) takes a unit of either. `tests/it/units_choice.rs` walks the schema so that a new
+/// numeric field fails until it is listed here or among the fixed-unit names.
+pub const FIELD_DIMS: &[(&str, Dim)] = {
+    use Dim::*;
+    &[
+        ("air_T", Temperature),
+        ("ambient", Pressure),
+        ("approach_velocity", Speed),
+        ("back_work_ratio", Dimensionless),
+        ("bare_emissivity", Dimensionless),
+        ("blowdown_energy", HeatFlow),
+        ("blowdown_flow", MassFlow),
+        ("blowdown_fraction", Dimensionless),
+        ("blowdown_lost", MassFlow),
+        ("boiler_T", Temperature),
+        ("boiler_efficiency", Dimensionless),
+        ("boiler_losses", HeatFlow),
+        ("boiler_p", Pressure),
+        ("cold_end_difference", TemperatureDifference),
+        ("cold_flow", MassFlow),
+        ("condensate", MassFlow),
+        ("condensate_lost", MassFlow),
+        ("condenser_T", Temperature),
+        ("condenser_duty", HeatFlow),
+        ("condenser_p", Pressure),
+        ("conductivity", Conductivity),
+        ("critical_p", Pressure),
+        ("demand", MassFlow),
+        ("diameter", Length),
+        ("discharge_coefficient", Dimensionless),
+        ("distance", Length),
+        ("downstream_p", Pressure),
+        ("dp_acceleration", PressureDifference),
+        ("dp_elevation", PressureDifference),
+        ("dp_fittings", PressureDifference),
+        ("dp_friction", PressureDifference),
+        ("drain_cooler_approach", TemperatureDifference),
+        ("duty", HeatFlow),
+        ("efficiency", Dimensionless),
+        ("elevation_change", Length),
+        ("emissivity", Dimensionless),
+        ("energy", HeatFlow),
+        ("energy_flow", HeatFlow),
+        ("energy_in", HeatFlow),
+        ("energy_lost", HeatFlow),
+        ("energy_out", HeatFlow),
+        ("equivalent_length", Length),
+        ("exhaust_flow", MassFlow),
+        ("exhaust_moisture", Dimensionless),
+        ("extraction", MassFlow),
+        ("feedwater_flow", MassFlow),
+        ("flash_fraction", Dimensionless),
+        ("flow", MassFlow),
+        ("fraction", Dimensionless),
+        ("friction_factor", Dimensionless),
+        ("fuel", Energy),
+        ("fuel_cost", PricePerEnergy),
+        ("fuel_heat_input", HeatFlow),
+        ("h_fg", SpecificEnergy),
+        ("head", Length),
+        ("heat", HeatFlow),
+        ("heat", Energy),
+        ("heat_input", SpecificEnergy),
+        ("heat_loss", HeatFlow),
+        ("heat_loss_per_length", HeatFlowPerLength),
+        ("heat_rejected", SpecificEnergy),
+        ("heat_to_steam", HeatFlow),
+        ("hot_end_difference", TemperatureDifference),
+        ("hot_flow", MassFlow),
+        ("inlet_velocity", Speed),
+        ("inner_diameter", Length),
+        ("insulation_emissivity", Dimensionless),
+        ("isentropic_work", SpecificEnergy),
+        ("length", Length),
+        ("liquid_flow", MassFlow),
+        ("lmtd", TemperatureDifference),
+        ("losses", HeatFlow),
+        ("makeup_T", Temperature),
+        ("makeup_water", MassFlow),
+        ("mass", MassFlow),
+        ("mass_flow", MassFlow),
+        ("mass_in", MassFlow),
+        ("mass_lost", MassFlow),
+        ("mass_out", MassFlow),
+        ("moisture", Dimensionless),
+        ("net_power", Power),
+        ("net_work", SpecificEnergy),
+        ("npsh_available", Length),
+        ("outlet_T", Temperature),
+        ("outlet_flow", MassFlow),
+        ("outlet_p", Pressure),
+        ("outlet_velocity", Speed),
+        ("overall_efficiency", Dimensionless),
+        ("pinch", TemperatureDifference),
+        ("pipe_diameter", Length),
+        ("power", Power),
+        ("pressure_drop", PressureDifference),
+        ("process_heat", HeatFlow),
+        ("process_steam", MassFlow),
+        ("pump_efficiency", Dimensionless),
+        ("pump_power", Power),
+        ("pump_work", SpecificEnergy),
+        ("reheat_T", Temperature),
+        ("reheat_p", Pressure),
+        ("return_T", Temperature),
+        ("return_fraction", Dimensionless),
+        ("roughness", Length),
+        ("s_fg", SpecificEntropy),
+        ("saving", HeatFlow),
+        ("saving_fraction", Dimensionless),
+        ("specific_work", SpecificEnergy),
+        ("spray_flow", MassFlow),
+        ("spray_ratio", Dimensionless),
+        ("steam", Mass),
+        ("steam_cost", PricePerMass),
+        ("steam_flow", MassFlow),
+        ("steam_rate", SteamRate),
+        ("surface_T", Temperature),
+        ("surface_tension", SurfaceTension),
+        ("surroundings_T", Temperature),
+        ("target_T", Temperature),
+        ("target_superheat", TemperatureDifference),
+        ("temperature_drop", TemperatureDifference),
+        ("terminal_temperature_difference", TemperatureDifference),
+        ("thermal_efficiency", Dimensionless),
+        ("thickness", Length),
+        ("throat_p", Pressure),
+        ("touch_limit_T", Temperature),
+        ("ttd", TemperatureDifference),
+        ("turbine_efficiency", Dimensionless),
+        ("turbine_power", Power),
+        ("turbine_work", SpecificEnergy),
+        ("v_fg", SpecificVolume),
+        ("vapour_flow", MassFlow),
+        ("velocity", Speed),
+        ("vent_flow", MassFlow),
+        ("vent_fraction", Dimensionless),
+        ("vented_steam", MassFlow),
+        ("wall_conductivity", Conductivity),
+        ("wall_thickness", Length),
+        ("wind_speed", Speed),
+        ("yearly_fuel_saving", Energy),
+        ("yearly_heat_saving", Energy),
+    ]
+};
+
+/// The dimensions of the field named `leaf` (a state field or one of [`FIELD_DIMS`]).
+pub fn field_dims(leaf: &str) -> Vec<Dim> {
+    let mut dims: Vec<Dim> = Field::parse(leaf).map(|f| f.dim()).into_iter().collect();
+    dims.extend(
+        FIELD_DIMS
+            .iter()
+            .filter(|(n, _)| *n == leaf)
+            .map(|(_, d)| *d),
+    );
+    dims
+}
+
+/// Every key a `units` object accepts besides `preset`, for messages: the dimensions, then the
+/// field names.
+pub fn units_keys() -> Vec<&'static str> {
+    let mut keys: Vec<&'static str> = Dim::ALL.iter().map(|d| d.key()).collect();
+    keys.push("flow");
+    keys.extend(Field::ALL.iter().map(|f| f.name()));
+    for (n, _) in FIELD_DIMS {
+        if !keys.contains(n) {
+            keys.push(n);
+        }
+    }
+    keys
+}
+
+fn dims_text(dims: &[Dim]) -> String {
+    dims.iter()
+        .map(|d| d.name())
+        .collect::<Vec<_>>()
+        .join(" or ")
+}
+
+/// The unit `text` for the `units` key `key`, whose quantities are of dimensions `dims`: one
+/// unit per dimension it fits (at least one), or the error naming what is accepted.
+fn key_units(key: &str, dims: &[Dim], text: &str) -> Result<Vec<Unit>> {
+    let quantity = format!("units.{key}");
+    let fits: Vec<Unit> = dims
+        .iter()
+        .filter_map(|d| units::parse_unit(&quantity, *d, text).ok())
+        .collect();
+    let leaf = key.rsplit('.').next().unwrap_or(key);
+    let gauge_pressure = units::dims_of(text.trim()).iter().any(|u| u.gauge);
+    let fits: Vec<Unit> = fits
+        .into_iter()
+        .filter(|u| !(u.gauge && leaf == "ambient"))
+        .collect();
+    if !fits.is_empty() {
+        return Ok(fits);
+    }
+    if gauge_pressure {
+        if leaf == "ambient" {
+            return Err(Error::invalid(format!(
+                "units.{key}: '{}' is a gauge unit, but the ambient pressure is absolute; write its absolute unit (e.g. kPa, bar, psia)",
+                text.trim()
+            )));
+        }
+        if dims.contains(&Dim::PressureDifference) {
+            return Err(Error::invalid(format!(
+                "units.{key}: '{}' is a gauge unit, but {key} is a pressure difference, which has no gauge; write its plain unit (e.g. bar, kPa, psi)",
+                text.trim()
+            )));
+        }
+        if !dims.contains(&Dim::Pressure) {
+            return Err(Error::invalid(format!(
+                "units.{key}: '{}' is a gauge pressure unit; gauge units are for pressures only, and {key} is a {}",
+                text.trim(),
+                dims_text(dims)
+            )));
+        }
+    }
+    // The first dimension's error names the problem (an unknown unit lists that dimension's
+    // spellings, a unit of another dimension says which).
+    let mut err = units::parse_unit(&quantity, dims[0], text).unwrap_err();
+    if let Error::UnknownUnit { accepted, .. } = &mut err {
+        for d in &dims[1..] {
+            for a in units::accepted(*d) {
+                if !accepted.contains(&a) {
+                    accepted.push(a);
+                }
+            }
+        }
+    }
+    if let Error::WrongDimension { expected, .. } = &mut err {
+        *expected = dims_text(dims);
+    }
+    Err(err)
+}
+
+/// The units of a request from its `units` param (the `engineering` preset when absent).
+pub fn unit_system(units: Option<&Units>) -> Result<UnitSystem> {
+    let map = match units {
+        None => return Ok(UnitSystem::new(Preset::Engineering)),
+        Some(Units::Preset(name)) => return Ok(UnitSystem::new(Preset::parse(name)?)),
+        Some(Units::Choice(map)) => map,
+    };
+    let preset = match map.get("preset") {
+        Some(name) => Preset::parse(name)?,
+        None => Preset::Engineering,
+    };
+    let mut system = UnitSystem::new(preset);
+    for (key, text) in map {
+        if key == "preset" {
+            continue;
+        }
+        let by_dim = Dim::from_key(key);
+        let leaf = key.rsplit('.').next().unwrap_or(key);
+        let leaf = leaf.split('[').next().unwrap_or(leaf);
+        let mut dims: Vec<Dim> = by_dim.into_iter().collect();
+        // A dotted key names a field; a plain key may be a dimension and a field at once
+        // ("power", "flow", "energy").
+        if key.contains('.') {
+            dims.clear();
+        }
+        let field = field_dims(leaf);
+        for d in &field {
+            if !dims.contains(d) {
+                dims.push(*d);
+            }
+        }
+        if dims.is_empty() || key.is_empty() || key.split('.').any(str::is_empty) {
+            return Err(Error::invalid(format!(
+                "units: '{key}' is not a dimension or a field name; accepted keys: preset, {}, or a dotted path ending in a field name (e.g. outlet.p, totals.net_power)",
+                units_keys().join(", ")
+            )));
+        }
+        for unit in key_units(key, &dims, text)? {
+            if by_dim == Some(unit.dim) && !key.contains('.') {
+                system.set_dim(unit);
+            }
+            if field.contains(&unit.dim) {
+                system.set_name(key, unit);
+            }
+        }
+    }
+    Ok(system)
+}
+
+/// The `units` param from a text (a query value, a command-line flag): a preset name ("bar"),
+/// a JSON object (`{"preset": "bar", "p": "barg"}`), or `key=unit` items separated by commas or
+/// semicolons (`preset=bar, p=barg, flow=t/h`). Checked as the param is ([`unit_system`]).
+pub fn units_from_text(text: &str) -> Result<Units> {
+    let t = text.trim();
+    let units = if t.starts_with('{') {
+        let map: BTreeMap<String, String> = serde_json::from_str(t).map_err(|e| {
+            Error::invalid(format!(
+                "units: '{t}' is not a JSON object of unit texts ({e})"
+            ))
+        })?;
+        Units::Choice(map)
+    } else if t.contains('=') {
+        let mut map = BTreeMap::new();
+        for item in t.split([',', ';']).map(str::trim).filter(|i| !i.is_empty()) {
+            let Some((k, v)) = item.split_once('=') else {
+                return Err(Error::invalid(format!(
+                    "units: '{item}' is not key=unit (e.g. preset=bar, p=barg, flow=t/h)"
+                )));
+            };
+            if map
+                .insert(k.trim().to_string(), v.trim().to_string())
+                .is_some()
+            {
+                return Err(Error::invalid(format!(
+                    "units: '{}' is given twice",
+                    k.trim()
+                )));
+            }
+        }
+        Units::Choice(map)
+    } else {
+        Units::Preset(t.to_string())
+    };
+    unit_system(Some(&units))?;
+    Ok(units)
+}
+
+/// `units` with one more key (`key` = `unit`): a preset becomes an object with it as its
+/// `preset`; a key given twice is refused.
+pub fn units_with(units: Option<Units>, key: &str, unit: &str) -> Result<Units> {
+    let mut map = match units {
+        None => BTreeMap::new(),
+        Some(Units::Preset(p)) => BTreeMap::from([("preset".to_string(), p)]),
+        Some(Units::Choice(m)) => m,
+    };
+    if map.insert(key.to_string(), unit.to_string()).is_some() {
+        return Err(Error::invalid(format!("units: '{key}' is given twice")));
+    }
+    let units = Units::Choice(map);
+    unit_system(Some(&units))?;
+    Ok(units)
+}
+
+/// What a request's conversions recorded: the units its inputs came in (for messages in the
+/// caller's units), the fields whose unit a name or path key chose, and whether an answer holds
+/// a gauge pressure.
+#[derive(Debug, Default)]
+struct Log {
+    inputs: Vec<(String, Dim, Unit)>,
+    refined: BTreeMap<String, &'static str>,
+    gauge_out: bool,
+    /// The first gauge unit of the request (in or out): the ambient is echoed in its absolute
+    /// unit unless the request names a unit for `ambient`.
+    gauge: Option<Unit>,
+}
+
+/// Context shared by every conversion of one request: its units and ambient pressure, and a log
+/// of the units its inputs came in and its answer goes out in.
+#[derive(Debug, Clone)]
 pub struct Ctx {
-    /// Output and bare-number preset.
+    /// The base preset of the request's units.
     pub preset: Preset,
     /// Ambient pressure for gauge units, MPa.
     pub ambient: f64,
+    /// The request's units.
+    pub system: Arc<UnitSystem>,
+    log: Arc<Mutex<Log>>,
+}
+
+thread_local! {
+    /// The first context built by each method call in progress on this thread (see
+    /// [`restating`]).
+    static SCOPE: RefCell<Vec<Option<Ctx>>> = const { RefCell::new(Vec::new()) };
+}
+
+/// Runs one method body and re-states its range error in the caller's units ([`Ctx::restate`]),
+/// with the first [`Ctx`] the body built. Method bodies are synchronous, so the context lives in
+/// a thread-local stack for the duration of the call.
+pub fn restating<T>(f: impl FnOnce() -> Result<T>) -> Result<T> {
+    struct Pop;
+    impl Drop for Pop {
+        fn drop(&mut self) {
+            SCOPE.with(|s| {
+                s.borrow_mut().pop();
+            });
+        }
+    }
+    SCOPE.with(|s| s.borrow_mut().push(None));
+    let pop = Pop;
+    let r = f();
+    let ctx = SCOPE.with(|s| s.borrow().last().cloned().flatten());
+    drop(pop);
+    match (r, ctx) {
+        (Err(e), Some(c)) => Err(c.restate(e)),
+        (r, _) => r,
+    }
 }
 
 impl Ctx {
     /// Builds the context from the request's `units` and `ambient`.
-    pub fn new(units: Option<&str>, ambient: Option<&Input>) -> Result<Ctx> {
-        let preset = match units {
-            Some(u) => Preset::parse(u)?,
-            None => Preset::Engineering,
-        };
+    pub fn new(units: Option<&Units>, ambient: Option<&Input>) -> Result<Ctx> {
+        let system = unit_system(units)?;
         let mut ctx = Ctx {
-            preset,
+            preset: system.preset(),
             ambient: AMBIENT_DEFAULT_MPA,
+            system: Arc::new(system),
+            log: Arc::new(Mutex::new(Log::default())),
         };
         if let Some(a) = ambient {
             let amb = ctx.value("ambient", Dim::Pressure, a)?;
             if !(amb > 0.0 && amb <= 0.2) {
+                let unit = ctx.in_unit("ambient", Dim::Pressure);
+                let (v, _) = crate::error::fmt_value_and_limit(
+                    unit.from_internal(amb, AMBIENT_DEFAULT_MPA),
+                    0.0,
+                );
+                let hi = unit.from_internal(0.2, AMBIENT_DEFAULT_MPA);
                 return Err(Error::invalid(format!(
-                    "ambient = {amb} MPa is not a plausible ambient pressure (0 to 0.2 MPa absolute)"
+                    "ambient = {v} {} is not a plausible ambient pressure (0 to {} {} absolute)",
+                    unit.symbol,
+                    crate::error::fmt_sig(hi, 6),
+                    unit.symbol
                 )));
             }
             ctx.ambient = amb;
         }
+        SCOPE.with(|s| {
+            if let Some(top) = s.borrow_mut().last_mut() {
+                if top.is_none() {
+                    *top = Some(ctx.clone());
+                }
+            }
+        });
         Ok(ctx)
     }
 
-    /// Converts an input to internal units.
+    /// A context with the preset alone and the standard ambient.
+    pub fn preset(preset: Preset) -> Ctx {
+        Ctx {
+            preset,
+            ambient: AMBIENT_DEFAULT_MPA,
+            system: Arc::new(UnitSystem::new(preset)),
+            log: Arc::new(Mutex::new(Log::default())),
+        }
+    }
+
+    fn log(&self) -> std::sync::MutexGuard<'_, Log> {
+        self.log.lock().unwrap_or_else(|e| e.into_inner())
+    }
+
+    /// The unit a bare number of the input `quantity` (of dimension `dim`) is read in: the
+    /// unit the request's units give that name, else the preset's (the ambient pressure:
+    /// absolute).
+    pub fn in_unit(&self, quantity: &str, dim: Dim) -> Unit {
+        let u = self.system.unit(quantity, dim);
+        if is_ambient(quantity) {
+            u.absolute()
+        } else {
+            u
+        }
+    }
+
+    /// Converts an input to internal units, recording the unit it came in.
     pub fn value(&self, quantity: &str, dim: Dim, input: &Input) -> Result<f64> {
-        let parsed = match input {
-            Input::Number(x) => units::parse_number(quantity, dim, *x, self.preset, self.ambient)?,
-            Input::Text(t) => units::parse_text(quantity, dim, t, self.preset, self.ambient)?,
-        };
+        let parsed = self.parse(quantity, dim, input)?;
+        self.note_input(quantity, dim, parsed.unit);
         Ok(parsed.internal)
     }
 
-    /// The unit of the output field `name` (of dimension `dim`): the preset's unit for `dim`.
-    /// Every output conversion goes through here, by field name, so that a unit chosen per
-    /// quantity can act on one field.
+    /// Converts an input to internal units without recording it (bulk columns).
+    pub fn value_quiet(&self, quantity: &str, dim: Dim, input: &Input) -> Result<f64> {
+        Ok(self.parse(quantity, dim, input)?.internal)
+    }
+
+    fn parse(&self, quantity: &str, dim: Dim, input: &Input) -> Result<units::Parsed> {
+        let default = self.in_unit(quantity, dim);
+        match input {
+            Input::Number(x) => units::parse_number_in(quantity, *x, default, self.ambient),
+            Input::Text(t) => units::parse_text_in(quantity, dim, t, default, self.ambient),
+        }
+    }
+
+    /// Records that the input `quantity` came in `unit` (bulk columns, once per column).
+    pub fn note_input(&self, quantity: &str, dim: Dim, unit: Unit) {
+        let mut log = self.log();
+        if unit.gauge && log.gauge.is_none() {
+            log.gauge = Some(unit);
+        }
+        log.inputs.push((quantity.to_string(), dim, unit));
+    }
+
+    /// The unit of the output field `name` (a dotted path for nested fields, e.g.
+    /// "balance.mass_in") of dimension `dim` (see [`UnitSystem`]). Every output conversion goes
+    /// through here, by field name, so that a unit chosen per quantity acts on its fields; the
+    /// fields a name key chose are recorded for the answer's `units` map.
     pub fn out_unit(&self, name: &str, dim: Dim) -> Unit {
-        let _ = name;
-        self.preset.unit(dim)
+        let u = self.system.unit(name, dim);
+        if is_ambient(name) {
+            return u.absolute();
+        }
+        if u.gauge || self.system.has_names() {
+            let mut log = self.log();
+            log.gauge_out |= u.gauge;
+            if u.gauge && log.gauge.is_none() {
+                log.gauge = Some(u);
+            }
+            if self.system.named(name, dim).is_some() && u != self.system.for_dim(dim) {
+                log.refined.insert(name.to_string(), u.symbol);
+            }
+        }
+        u
+    }
+
+    /// The unit of the field `name` of a nested state object whose fields sit under `prefix`
+    /// (not recorded: a state object carries its own `units` map).
+    pub fn state_unit(&self, prefix: &str, name: &str, dim: Dim) -> Unit {
+        if is_ambient(name) {
+            return self.system.unit(name, dim).absolute();
+        }
+        if prefix.is_empty() || !self.system.has_names() {
+            self.system.unit(name, dim)
+        } else {
+            self.system.unit(&format!("{prefix}.{name}"), dim)
+        }
     }
 
     /// Converts the internal value of the output field `name` to its unit ([`Ctx::out_unit`]).
@@ -100,6 +612,123 @@ impl Ctx {
     pub fn unit(&self, name: &str, dim: Dim) -> &'static str {
         self.out_unit(name, dim).symbol
     }
+
+    /// The unit the ambient pressure is echoed in: the one the request names for `ambient`,
+    /// else the absolute unit of the first gauge unit the request used (barg: bar), else the
+    /// request's pressure unit (absolute).
+    pub fn ambient_unit(&self) -> Unit {
+        if let Some(u) = self.system.named("ambient", Dim::Pressure) {
+            return u.absolute();
+        }
+        let first_gauge = self.log().gauge;
+        match first_gauge {
+            Some(g) => g.absolute(),
+            None => self.system.for_dim(Dim::Pressure).absolute(),
+        }
+    }
+
+    /// The ambient pressure for a `units` map, as "<value> <unit>" in [`Ctx::ambient_unit`]
+    /// (the shortest text that reads back as the ambient used, e.g. "0.98 bar").
+    pub fn ambient_text(&self) -> String {
+        let u = self.ambient_unit();
+        format!("{} {}", u.shortest(self.ambient, self.ambient), u.symbol)
+    }
+
+    /// Completes a result's `units` map: the preset's name, every field whose unit a name or
+    /// path key chose (by its dotted name), and, when a field is in a gauge unit, the ambient
+    /// pressure it is relative to ("ambient": "1.01325 bar") unless the map names its own.
+    pub fn finish_units(&self, map: &mut BTreeMap<String, String>) {
+        map.insert("preset".into(), self.preset.name().into());
+        let (refined, gauge) = {
+            let log = self.log();
+            (log.refined.clone(), log.gauge_out)
+        };
+        for (name, symbol) in refined {
+            map.entry(name).or_insert_with(|| symbol.to_string());
+        }
+        if gauge && !map.contains_key("ambient") {
+            map.insert("ambient".into(), self.ambient_text());
+        }
+    }
+
+    /// The unit the input `quantity` came in: recorded under that name, or under one leaf of
+    /// that name when every such input came in the same unit.
+    fn input_unit(&self, quantity: &str, dim: Dim) -> Option<Unit> {
+        let log = self.log();
+        let same = |(n, d, _): &&(String, Dim, Unit)| *d == dim && n == quantity;
+        if let Some((_, _, u)) = log.inputs.iter().rev().find(same) {
+            return Some(*u);
+        }
+        let leaf = |n: &str| -> String {
+            let l = n.rsplit('.').next().unwrap_or(n);
+            l.split('[').next().unwrap_or(l).to_string()
+        };
+        let want = leaf(quantity);
+        let mut found: Option<Unit> = None;
+        for (n, d, u) in &log.inputs {
+            if *d == dim && leaf(n) == want {
+                match found {
+                    Some(f) if f != *u => return None,
+                    _ => found = Some(*u),
+                }
+            }
+        }
+        found
+    }
+
+    /// Re-states a range error in the caller's units: a quantity given with a unit is answered
+    /// in that unit, a bare number or a computed quantity in the request's unit for it; other
+    /// errors, and quantities whose dimension is not known, pass unchanged.
+    pub fn restate(&self, e: Error) -> Error {
+        let Error::OutOfRange {
+            quantity,
+            value,
+            limit,
+            unit,
+            bound,
+            formulation,
+        } = e
+        else {
+            return e;
+        };
+        let leaf = quantity.rsplit('.').next().unwrap_or(&quantity);
+        let leaf = leaf.split('[').next().unwrap_or(leaf);
+        let logged: Vec<Dim> = {
+            let log = self.log();
+            log.inputs
+                .iter()
+                .filter(|(n, _, _)| n == &quantity)
+                .map(|(_, d, _)| *d)
+                .collect()
+        };
+        let candidates: Vec<Dim> = logged.into_iter().chain(field_dims(leaf)).collect();
+        let dim = candidates.into_iter().find(|d| d.internal_symbol() == unit);
+        let Some(dim) = dim else {
+            return Error::OutOfRange {
+                quantity,
+                value,
+                limit,
+                unit,
+                bound,
+                formulation,
+            };
+        };
+        let target = self
+            .input_unit(&quantity, dim)
+            .unwrap_or_else(|| self.system.unit(&quantity, dim));
+        Error::OutOfRange {
+            value: target.from_internal(value, self.ambient),
+            limit: target.from_internal(limit, self.ambient),
+            unit: target.symbol.to_string(),
+            quantity,
+            bound,
+            formulation,
+        }
+    }
+}
+
+fn is_ambient(name: &str) -> bool {
+    name == "ambient" || name.ends_with(".ambient")
 }
 
 /// Two properties that fix a state. Exactly two fields must be given.
@@ -275,9 +904,10 @@ pub struct StateResult {
     pub metastable: bool,
     /// Why a null property is not given, by field name.
     pub undefined: BTreeMap<String, String>,
-    /// The unit of every numeric field, and the preset's name under "preset".
+    /// The unit of every numeric field (gauge units such as "barg" are relative to `ambient`),
+    /// and the preset's name under "preset".
     pub units: BTreeMap<String, String>,
-    /// Ambient pressure used for gauge units, in the preset's pressure unit.
+    /// Ambient pressure used for gauge units, in its unit under `units.ambient` (absolute).
     pub ambient: f64,
     /// The formulation that produced the numbers: "IAPWS-IF97" or "IAPWS-95".
     pub formulation: String,
@@ -288,26 +918,46 @@ pub fn state_result(st: &State, ctx: &Ctx) -> StateResult {
     state_result_with(st, ctx, Formulation::If97)
 }
 
+/// Shapes a solved IAPWS-IF97 state that sits at `prefix` in its answer (e.g. "outlet"), so
+/// that a `units` key such as "outlet.p" reaches it.
+pub fn state_result_at(st: &State, ctx: &Ctx, prefix: &str) -> StateResult {
+    state_result_in(st, ctx, Formulation::If97, prefix)
+}
+
 /// Shapes a state solved with formulation `f` for the wire (transport properties included).
 pub fn state_result_with(st: &State, ctx: &Ctx, f: Formulation) -> StateResult {
+    state_result_in(st, ctx, f, "")
+}
+
+fn state_result_in(st: &State, ctx: &Ctx, f: Formulation, prefix: &str) -> StateResult {
     let tr = transport::for_state(st, f);
     let value = |fd: Field| fd.value(st, f, Some(&tr));
-    let o = |fd: Field| ctx.out_defined(fd.name(), fd.dim(), value(fd));
+    let unit = |fd: Field| ctx.state_unit(prefix, fd.name(), fd.dim());
+    let o = |fd: Field| {
+        let x = value(fd);
+        if x.is_finite() {
+            Some(unit(fd).from_internal(x, ctx.ambient))
+        } else {
+            None
+        }
+    };
     let mut undefined = BTreeMap::new();
     let mut units_map = BTreeMap::new();
     for fd in Field::ALL {
         if let Some(why) = fd.undefined_reason(st, value(fd)) {
             undefined.insert(fd.name().to_string(), why.to_string());
         }
-        units_map.insert(
-            fd.name().to_string(),
-            ctx.unit(fd.name(), fd.dim()).to_string(),
-        );
+        units_map.insert(fd.name().to_string(), unit(fd).symbol.to_string());
     }
-    units_map.insert(
-        "ambient".into(),
-        ctx.unit("ambient", Dim::Pressure).to_string(),
-    );
+    // The ambient is echoed in the unit named for it, else in the absolute unit of a gauge
+    // pressure of the state (barg: bar), else in the state's unit for `ambient`.
+    let p_unit = unit(Field::P);
+    let ambient_unit = match ctx.system.named("ambient", Dim::Pressure) {
+        Some(u) => u.absolute(),
+        None if p_unit.gauge => p_unit.absolute(),
+        None => ctx.state_unit(prefix, "ambient", Dim::Pressure),
+    };
+    units_map.insert("ambient".into(), ambient_unit.symbol.to_string());
     units_map.insert("preset".into(), ctx.preset.name().to_string());
     StateResult {
         p: o(Field::P),
@@ -337,7 +987,10 @@ pub fn state_result_with(st: &State, ctx: &Ctx, f: Formulation) -> StateResult {
         metastable: st.metastable,
         undefined,
         units: units_map,
-        ambient: ctx.out("ambient", Dim::Pressure, ctx.ambient),
+        ambient: ambient_unit
+            .shortest(ctx.ambient, ctx.ambient)
+            .parse()
+            .unwrap_or_else(|_| ambient_unit.from_internal(ctx.ambient, ctx.ambient)),
         formulation: f.name().to_string(),
     }
 }

@@ -8,13 +8,13 @@
 //! calls the physics once (`crate::water::solve`, `crate::water::saturation`, the bulk rows of
 //! `super::rows`).
 
-use super::rows::{check_want, column_unit, input_dim};
+use super::rows::{check_want, column_unit, input_dim, input_unit, legend};
 use super::vocab::{
-    parse_formulation, state_result_with, Ctx, GivenPair, Input, SolveFlags, StateResult,
+    parse_formulation, state_result_with, Ctx, GivenPair, Input, SolveFlags, StateResult, Units,
 };
 use super::MethodSpec;
 use crate::error::{Error, Result};
-use crate::units::Dim;
+use crate::units::{self, Dim};
 use crate::water::pairs::accepted_pairs;
 use crate::water::state::{self, Given, Options};
 use crate::water::{self as physics, Formulation, SaturationAt};
@@ -60,10 +60,11 @@ pub fn methods() -> Vec<MethodSpec> {
 pub struct StateParams {
     /// Exactly two properties that fix the state.
     pub given: GivenPair,
-    /// Unit preset of bare numbers and of the answer: "engineering" (default: MPa, degC,
-    /// kJ/kg, kJ/(kg K)), "si" (Pa, K, J/kg, J/(kg K)) or "us" (psia, degF, Btu/lb, Btu/(lb F)).
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units (barg, psig, kPag); default 101.325 kPa.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -79,30 +80,52 @@ pub struct StateParams {
 
 fn water_state(p: StateParams) -> Result<StateResult> {
     let f = parse_formulation(p.formulation.as_deref())?;
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let given = p.given.to_given(&ctx)?;
     let st = physics::solve(given, &p.flags.options()?, f)?;
     Ok(state_result_with(&st, &ctx, f))
 }
 
-/// A column of inputs: a JSON array, or a packed column of little-endian doubles.
+/// A column of inputs: a JSON array, a JSON array with the column's unit, or a packed column of
+/// little-endian doubles (with or without its unit).
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
 #[serde(untagged)]
 pub enum Column {
-    /// One value per row: numbers in the preset's units or strings with units.
+    /// One value per row: numbers in the request's unit for the column's property, or strings
+    /// with units.
     Values(Vec<Input>),
-    /// Packed numbers in the preset's units.
+    /// Packed numbers, in the column's `unit` or the request's unit for its property.
     Packed(PackedColumn),
+    /// Numbers (or strings with units) with one unit for the column: `{"values": [...],
+    /// "unit": "barg"}`.
+    Tagged(TaggedColumn),
 }
 
-/// A packed column: `{"f64le": "<base64>"}`, the base64 text (standard alphabet, with padding)
-/// of the column's IEEE-754 doubles in little-endian byte order, 8 bytes per row. NaN marks a
-/// missing value (in results: a row whose value is undefined or failed).
+/// A JSON column with its unit: `{"values": [42.0, 41.5], "unit": "barg"}`. Bare numbers are in
+/// `unit`, converted once for the whole column (the same numbers bit for bit as a packed column
+/// with that unit).
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct TaggedColumn {
+    /// One value per row: numbers in `unit`, or strings with their own unit.
+    pub values: Vec<Input>,
+    /// The unit of the column's bare numbers, e.g. "barg", "degC", "t/h".
+    pub unit: String,
+}
+
+/// A packed column: `{"f64le": "<base64>", "unit"?: "barg"}`, the base64 text (standard
+/// alphabet, with padding) of the column's IEEE-754 doubles in little-endian byte order, 8 bytes
+/// per row, optionally with the unit of its numbers. NaN marks a missing value (in results: a
+/// row whose value is undefined or failed).
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct PackedColumn {
     /// Base64 of little-endian f64 values.
     pub f64le: String,
+    /// The unit of the numbers (inputs only; default: the request's unit for the column's
+    /// property).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub unit: Option<String>,
 }
 
 impl PackedColumn {
@@ -115,6 +138,7 @@ impl PackedColumn {
         }
         PackedColumn {
             f64le: base64::engine::general_purpose::STANDARD.encode(bytes),
+            unit: None,
         }
     }
 
@@ -146,19 +170,23 @@ impl PackedColumn {
 #[serde(deny_unknown_fields)]
 pub struct BatchParams {
     /// Exactly two columns of equal length, keyed by property name (p, T, h, s, u, v, rho, x):
-    /// JSON arrays, or packed columns `{"f64le": "<base64>"}`.
+    /// JSON arrays, JSON arrays with their unit `{"values": [...], "unit": "barg"}`, or packed
+    /// columns `{"f64le": "<base64>", "unit"?: "barg"}`.
     pub given: BTreeMap<String, Column>,
     /// Properties wanted, e.g. ["h", "s"]. Any numeric field of `water.state` plus "phase"
     /// and "region". Default: ["T", "p", "h", "s", "v", "x"].
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub want: Option<Vec<String>>,
     /// Encoding of the result columns: "json" (default: arrays with null where undefined) or
-    /// "f64le" (packed columns, NaN where undefined; "phase" then comes as a JSON array).
+    /// "f64le" (packed columns, NaN where undefined; "phase" then comes packed as the index of
+    /// its text in `legends.phase`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub encoding: Option<String>,
-    /// Unit preset (see `water.state`).
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units (default 101.325 kPa).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -238,10 +266,16 @@ pub struct BatchResult {
     pub rows: usize,
     /// Number of failed rows.
     pub failed: usize,
-    /// The unit of every result column.
+    /// The unit of every numeric result column, the preset's name under "preset", and, when
+    /// an input or a result column is in a gauge unit, the ambient pressure it is relative to
+    /// under "ambient" (e.g. "1.01325 bar").
     pub units: BTreeMap<String, String>,
     /// The encoding of the numeric result columns: "json" or "f64le".
     pub encoding: String,
+    /// With encoding "f64le", the texts behind the codes of each coded text column ("phase":
+    /// code 0 is "liquid", ...); absent otherwise.
+    #[serde(default, skip_serializing_if = "BTreeMap::is_empty")]
+    pub legends: BTreeMap<String, Vec<String>>,
 }
 
 /// Most rows in one `water.batch` call by default (`serve --max-batch-rows` changes the limit in
@@ -253,7 +287,7 @@ pub use super::rows::PARALLEL_THRESHOLD;
 fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult> {
     use super::rows::InputColumn;
     let f = parse_formulation(p.formulation.as_deref())?;
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let opts = p.flags.options()?;
     let packed_out = packed_encoding(p.encoding.as_deref())?;
     if p.given.len() != 2 {
@@ -271,10 +305,12 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
     });
     check_want(&want, true)?;
     let mut cols = Vec::with_capacity(2);
+    let mut gauge_in = false;
     for (k, col) in &p.given {
         let (name, dim) = input_dim(k)?;
         let n = match col {
             Column::Values(v) => v.len(),
+            Column::Tagged(t) => t.values.len(),
             Column::Packed(pc) => pc.f64le.len() / 4 * 3 / 8,
         };
         let max_rows = server.limits.max_batch_rows();
@@ -285,26 +321,76 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
                 value: n as f64,
             });
         }
+        let own = match col {
+            Column::Values(_) => None,
+            Column::Tagged(t) => Some(t.unit.as_str()),
+            Column::Packed(pc) => pc.unit.as_deref(),
+        };
+        let unit = input_unit(&ctx, name, dim, own)?;
+        gauge_in |= unit.gauge;
+        let numbers = |values: &[Input]| -> Option<Vec<f64>> {
+            values
+                .iter()
+                .map(|x| match x {
+                    Input::Number(v) => Some(*v),
+                    Input::Text(_) => None,
+                })
+                .collect()
+        };
         cols.push(match col {
-            Column::Values(v) => {
-                InputColumn::from_results(name, v.iter().map(|x| ctx.value(name, dim, x)))
+            Column::Values(v) | Column::Tagged(TaggedColumn { values: v, .. }) => {
+                match numbers(v) {
+                    // Plain numbers: one conversion for the column, as a packed column.
+                    Some(raw) => InputColumn::from_numbers(name, unit, ctx.ambient, &raw),
+                    None => {
+                        let mut first_gauge = None;
+                        let col = InputColumn::from_results(
+                            name,
+                            v.iter().map(|x| {
+                                let parsed = match x {
+                                    Input::Number(v) => {
+                                        units::parse_number_in(name, *v, unit, ctx.ambient)
+                                    }
+                                    Input::Text(t) => {
+                                        units::parse_text_in(name, dim, t, unit, ctx.ambient)
+                                    }
+                                };
+                                parsed.map(|p| {
+                                    if p.unit.gauge && first_gauge.is_none() {
+                                        first_gauge = Some(p.unit);
+                                    }
+                                    p.internal
+                                })
+                            }),
+                        );
+                        if let Some(g) = first_gauge {
+                            gauge_in = true;
+                            ctx.note_input(name, dim, g);
+                        }
+                        col
+                    }
+                }
             }
             Column::Packed(pc) => {
-                InputColumn::from_numbers(name, ctx.preset.unit(dim), &pc.unpack(name)?)
+                InputColumn::from_numbers(name, unit, ctx.ambient, &pc.unpack(name)?)
             }
         });
     }
     let rows = super::rows::compute(&ctx, &opts, f, &cols[0], &cols[1], &want)?;
     let n = rows.n;
     let mut columns = BTreeMap::new();
+    let mut legends = BTreeMap::new();
     for (j, w) in want.iter().enumerate() {
-        let col = if w == "phase" {
+        let col = if w == "phase" && !packed_out {
             ColumnOut::Texts(
                 (0..n)
                     .map(|i| rows.phase(i, j).map(|ph| ph.name().to_string()))
                     .collect(),
             )
         } else {
+            if let Some(l) = legend(w) {
+                legends.insert(w.clone(), l.into_iter().map(String::from).collect());
+            }
             let values = rows.column(j);
             if packed_out {
                 ColumnOut::Packed(PackedColumn::pack(&values))
@@ -326,7 +412,7 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
         vec![None; n]
     };
     for (i, e) in rows.failed {
-        let api: super::ApiError = e.into();
+        let api: super::ApiError = ctx.restate(e).into();
         let message = format!("row {i}: {}", api.message);
         if !packed_out {
             dense[i] = Some(RowError {
@@ -351,7 +437,10 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
             units_map.insert(w.clone(), u.to_string());
         }
     }
-    units_map.insert("preset".into(), ctx.preset.name().to_string());
+    ctx.finish_units(&mut units_map);
+    if gauge_in {
+        units_map.insert("ambient".into(), ctx.ambient_text());
+    }
     Ok(BatchResult {
         columns,
         errors,
@@ -360,6 +449,7 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
         rows: n,
         units: units_map,
         encoding: if packed_out { "f64le" } else { "json" }.to_string(),
+        legends,
     })
 }
 
@@ -373,9 +463,11 @@ pub struct SaturationParams {
     /// Saturation pressure (611.213 Pa to 22.064 MPa).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub p: Option<Input>,
-    /// Unit preset (see `water.state`).
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// Ambient pressure for gauge units (default 101.325 kPa).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ambient: Option<Input>,
@@ -413,7 +505,7 @@ pub struct SaturationResult {
 
 fn water_saturation(p: SaturationParams) -> Result<SaturationResult> {
     let f = parse_formulation(p.formulation.as_deref())?;
-    let ctx = Ctx::new(p.units.as_deref(), p.ambient.as_ref())?;
+    let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let at = match (&p.t, &p.p) {
         (Some(t), None) => SaturationAt::T(ctx.value("T", Dim::Temperature, t)?),
         (None, Some(pp)) => SaturationAt::P(ctx.value("p", Dim::Pressure, pp)?),
@@ -436,7 +528,7 @@ fn water_saturation(p: SaturationParams) -> Result<SaturationResult> {
     ] {
         units_map.insert(name.into(), ctx.unit(name, dim).into());
     }
-    units_map.insert("preset".into(), ctx.preset.name().into());
+    ctx.finish_units(&mut units_map);
     Ok(SaturationResult {
         p: ctx.out("p", Dim::Pressure, sat.p),
         t: ctx.out("T", Dim::Temperature, sat.t),
@@ -476,9 +568,11 @@ pub struct CurveParams {
     /// Number of points per series (2 to 2000, default 60).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub points: Option<usize>,
-    /// Unit preset (see `water.state`).
+    /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
+    /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
+    /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub units: Option<String>,
+    pub units: Option<Units>,
     /// "json" (default) or "f64le": each series' T, s, h, p, v as packed columns (base64 of
     /// little-endian doubles), the same numbers bit for bit.
     #[serde(default, skip_serializing_if = "Option::is_none")]
@@ -583,7 +677,7 @@ impl<'a> SeriesBuilder<'a> {
 }
 
 fn water_curve(c: CurveParams) -> Result<CurveResult> {
-    let ctx = Ctx::new(c.units.as_deref(), None)?;
+    let ctx = Ctx::new(c.units.as_ref(), None)?;
     let packed = packed_encoding(c.encoding.as_deref())?;
     let n = c.points.unwrap_or(60);
     if !(2..=2000).contains(&n) {
@@ -745,7 +839,7 @@ fn water_curve(c: CurveParams) -> Result<CurveResult> {
     ] {
         units_map.insert(name.into(), ctx.unit(name, dim).into());
     }
-    units_map.insert("preset".into(), ctx.preset.name().into());
+    ctx.finish_units(&mut units_map);
     let series = series
         .into_iter()
         .map(|s| {

@@ -736,9 +736,10 @@ async fn get_answer(
             );
             let method = format!("GET /site/{name}");
             let c = Arc::clone(&ctx);
+            let asked = quantity.clone();
             let result = compute(&ctx, false, started, move || {
                 run_call(&c, &method, CallParams::Json(&logged), Some(id), || {
-                    c.sites().solved(&name, &pairs)
+                    c.sites().solved_for(&name, &asked, &pairs)
                 })
             })
             .await;

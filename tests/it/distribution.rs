@@ -460,15 +460,16 @@ fn orifice_bad_input() {
         (e.data["limit"].as_f64().unwrap() - 100.0).abs() < 1e-9,
         "{e}"
     );
-    // zero and negative diameters
-    for d in [json!(0), json!("-2 mm")] {
+    // zero and negative diameters, each in the unit it was given in (a bare number: the
+    // request's, m)
+    for (d, unit) in [(json!(0), "m"), (json!("-2 mm"), "mm")] {
         let e = fails(
             "orifice.flow",
             json!({"inlet": {"p": "10 barg", "x": 1}, "diameter": d}),
         );
         assert_eq!(e.code, 1001, "{e}");
         assert_eq!(e.data["quantity"], "diameter");
-        assert_eq!(e.data["unit"], "m");
+        assert_eq!(e.data["unit"], unit);
     }
     // not water or steam: ice (the melting-curve message of water.state, IAPWS R14-08), in the
     // caller's unit, degC here
@@ -740,11 +741,22 @@ fn pipe_bad_input() {
         assert_eq!(e.code, 1001, "{e}");
         assert_eq!(e.data["quantity"], "inner_diameter");
     }
-    // roughness larger than the radius, in the caller's unit (ft in us)
+    // roughness larger than the radius, in the caller's unit: the unit it was given in (mm),
+    // whatever the preset
     let mut p = with("roughness", json!("60 mm"));
     p["units"] = json!("us");
     let e = fails("pipe.flow", p);
     assert_eq!(e.data["quantity"], "roughness");
+    assert_eq!(e.data["unit"], "mm");
+    assert!(
+        (e.data["limit"].as_f64().unwrap() - 51.15).abs() < 1e-9,
+        "{e}"
+    );
+    assert!(e.message.contains("roughness = 60 mm"), "{e}");
+    // a bare number is answered in the request's unit for it (ft in us)
+    let mut p = with("roughness", json!(0.2));
+    p["units"] = json!("us");
+    let e = fails("pipe.flow", p);
     assert_eq!(e.data["unit"], "ft");
     assert!(
         (e.data["limit"].as_f64().unwrap() - 0.05115 / 0.3048).abs() < 1e-9,

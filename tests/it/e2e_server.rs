@@ -259,7 +259,7 @@ async fn websocket_calls() {
             assert_eq!(
                 e.data().map(|d| d.get()),
                 Some(
-                    r#"{"kind":"invalid_input","message":"unknown unit preset 'furlongs'; accepted: si, engineering, us"}"#
+                    r#"{"kind":"invalid_input","message":"unknown unit preset 'furlongs'; accepted: si, engineering, us, bar, bar_th"}"#
                 )
             );
         }

@@ -44,3 +44,4 @@ mod textbook_cogeneration;
 mod textbook_rankine;
 mod tidy;
 mod transports;
+mod units_choice;

@@ -118,13 +118,19 @@ const pick = (result, path) => path.split(".").reduce((at, p) => (Array.isArray(
 
 async function siteValue(server, changes, quantity) {
   const net = JSON.parse(readFileSync(SITE, "utf8"));
+  const params = { network: net };
   for (const [path, value] of Object.entries(changes)) {
+    if (path === "unit") {
+      // the unit of the answer: a units key of its field name
+      params.units = { [quantity.split(".").pop()]: value };
+      continue;
+    }
     const parts = path.split(".");
     let at = net;
     parts.slice(0, -1).forEach((p) => (at = at[p]));
     at[parts[parts.length - 1]] = value;
   }
-  const res = await rpc(server, "balance.solve", { network: net });
+  const res = await rpc(server, "balance.solve", params);
   return pick(res, quantity.includes(".") ? quantity : "totals." + quantity);
 }
 

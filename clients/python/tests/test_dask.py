@@ -68,8 +68,19 @@ def test_bad_input_is_refused_before_anything_runs(cluster):
         sd.batch(ddf, given={"p": "p_bar", "T": "T"})
     with pytest.raises(steamcell.InvalidInput, match="column 'tag' \\(for T\\) holds .* not numbers"):
         sd.batch(ddf, given={"p": "p", "T": "tag"})
-    with pytest.raises(steamcell.InvalidInput, match="phase"):
-        sd.batch(ddf, given={"p": "p", "T": "T"}, want=["h", "phase"])
+
+
+def test_tagged_columns_and_phase_on_dask(cluster):
+    """Columns in their own units and "phase" travel packed on Dask too (issue 16), with the
+    numbers and texts of the pandas path."""
+    df = pd.DataFrame({"p_barg": [41.0, 3.0, 0.0], "T_C": [410.0, 120.0, 100.0]})
+    ddf = dd.from_pandas(df, npartitions=2)
+    given = {"p": ("p_barg", "barg"), "T": ("T_C", "degC")}
+    out = sd.batch(ddf, given=given, want=["h", "phase"]).compute()
+    with steamcell.connect() as c:
+        ref = c.batch(df, given=given, want=["h", "phase"], progress=False)
+    assert np.array_equal(out["h"].to_numpy(), ref["h"].to_numpy())
+    assert list(out["phase"]) == list(ref["phase"]) == ["vapour", "liquid", "vapour"]
 
 
 def test_a_lost_engine_is_named_and_nothing_is_dropped(cluster, binary):

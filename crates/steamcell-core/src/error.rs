@@ -4,9 +4,11 @@
 //! `ERROR_CODES` table). This crate knows no codes.
 //!
 //! Invariant: messages are one line, name the quantity, the value and the limit, and end without
-//! a period. Physical values inside errors are in internal units (p MPa, T K, h kJ/kg, ...);
-//! [`Error::OutOfRange`] names the unit of its value and limit. They reach the caller in these
-//! units: errors are not re-stated in the caller's units.
+//! a period; numbers in messages have at most 6 significant digits unless more are needed to
+//! tell a value from its limit ([`fmt_value_and_limit`]), and a pure number carries no unit.
+//! Physical values inside errors are in internal units (p MPa, T K, h kJ/kg, ...);
+//! [`Error::OutOfRange`] names the unit of its value and limit, so that the API can re-state it
+//! in the caller's units.
 
 use crate::plant::balance::Diagnosis;
 use std::fmt;
@@ -163,9 +165,67 @@ impl Error {
     }
 }
 
-fn fmt_num(x: f64) -> String {
-    // Shortest text that parses back to the same f64.
-    format!("{x}")
+/// A number for a message: at most 6 significant digits (trailing zeros dropped), plain
+/// notation from 1e-7 to 1e15, else scientific ("1.5e-8").
+pub fn fmt_sig(x: f64, digits: usize) -> String {
+    if !x.is_finite() {
+        return format!("{x}");
+    }
+    if x == 0.0 {
+        return "0".to_string();
+    }
+    let digits = digits.clamp(1, 17);
+    let exp = x.abs().log10().floor() as i32;
+    if (-7..15).contains(&exp) {
+        let decimals = (digits as i32 - 1 - exp).max(0) as usize;
+        let scale = 10f64.powi((exp + 1 - digits as i32).max(0));
+        let x = if scale > 1.0 {
+            (x / scale).round() * scale
+        } else {
+            x
+        };
+        let s = format!("{x:.decimals$}");
+        let s = if s.contains('.') {
+            s.trim_end_matches('0').trim_end_matches('.').to_string()
+        } else {
+            s
+        };
+        if s == "-0" {
+            "0".to_string()
+        } else {
+            s
+        }
+    } else {
+        let s = format!("{x:.prec$e}", prec = digits - 1);
+        match s.split_once('e') {
+            Some((m, e)) if m.contains('.') => {
+                format!("{}e{e}", m.trim_end_matches('0').trim_end_matches('.'))
+            }
+            _ => s,
+        }
+    }
+}
+
+/// A value and the limit it crossed, for a message: 6 significant digits, or as many more as
+/// it takes for the two texts to differ when the numbers do (up to the shortest text that
+/// reads back as the same number).
+pub fn fmt_value_and_limit(value: f64, limit: f64) -> (String, String) {
+    for digits in 6..=17 {
+        let (a, b) = (fmt_sig(value, digits), fmt_sig(limit, digits));
+        if a != b || value == limit {
+            return (a, b);
+        }
+    }
+    (format!("{value}"), format!("{limit}"))
+}
+
+/// " unit" for a message, or nothing for a pure number (unit "1" or "").
+fn with_unit(unit: &str) -> String {
+    if unit.is_empty() || unit == "1" {
+        String::new()
+    } else {
+        format!(" {unit}")
+    }
 }
 
 impl fmt::Display for Error {
@@ -183,11 +243,11 @@ impl fmt::Display for Error {
                     Bound::Below => ("below", "lowest"),
                     Bound::Above => ("above", "highest"),
                 };
+                let (v, l) = fmt_value_and_limit(*value, *limit);
+                let unit = with_unit(unit);
                 write!(
                     f,
-                    "{quantity} = {} {unit} is {word} the {sign} value {} {unit} of {formulation}",
-                    fmt_num(*value),
-                    fmt_num(*limit)
+                    "{quantity} = {v}{unit} is {word} the {sign} value {l}{unit} of {formulation}"
                 )
             }
             Error::NotFinite { quantity } => {
@@ -214,12 +274,10 @@ impl fmt::Display for Error {
             Error::NotConverged { what, iterations } => {
                 write!(f, "{what} did not converge in {iterations} iterations")
             }
-            Error::LimitExceeded { what, limit, value } => write!(
-                f,
-                "{what}: {} exceeds the limit {}",
-                fmt_num(*value),
-                fmt_num(*limit)
-            ),
+            Error::LimitExceeded { what, limit, value } => {
+                let (v, l) = fmt_value_and_limit(*value, *limit);
+                write!(f, "{what}: {v} exceeds the limit {l}")
+            }
             Error::Infeasible { message } => write!(f, "{message}"),
             Error::Specification { diagnosis } => write!(f, "{diagnosis}"),
         }
@@ -227,3 +285,42 @@ impl fmt::Display for Error {
 }
 
 impl std::error::Error for Error {}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn numbers_in_messages() {
+        assert_eq!(fmt_sig(-0.30000000000000004, 6), "-0.3");
+        assert_eq!(fmt_sig(1.05, 6), "1.05");
+        assert_eq!(fmt_sig(1073.15, 6), "1073.15");
+        assert_eq!(fmt_sig(0.000611212677, 6), "0.000611213");
+        assert_eq!(fmt_sig(2.5e-7, 6), "0.00000025");
+        assert_eq!(fmt_sig(2.5e-9, 6), "2.5e-9");
+        assert_eq!(fmt_sig(123456789.0, 6), "123457000");
+        assert_eq!(fmt_sig(0.0, 6), "0");
+        assert_eq!(
+            fmt_value_and_limit(1.0000001, 1.0),
+            ("1.0000001".into(), "1".into())
+        );
+        assert_eq!(fmt_value_and_limit(1.05, 1.0), ("1.05".into(), "1".into()));
+        let e = Error::out_of_range("efficiency", 1.05, 1.0, "1", Bound::Above, "an efficiency");
+        assert_eq!(
+            e.to_string(),
+            "efficiency = 1.05 is above the highest value 1 of an efficiency"
+        );
+        let e = Error::out_of_range(
+            "p",
+            -0.30000000000000004,
+            0.0,
+            "MPa",
+            Bound::Below,
+            "IAPWS-IF97",
+        );
+        assert_eq!(
+            e.to_string(),
+            "p = -0.3 MPa is below the lowest value 0 MPa of IAPWS-IF97"
+        );
+    }
+}

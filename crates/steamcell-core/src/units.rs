@@ -1,11 +1,15 @@
-//! Engineering units: parsing of values with units ("42 barg", "410 degC", "1200 Btu/lb"), the three
-//! output presets (`si`, `engineering`, `us`) and conversion to and from the internal units of the
-//! physics layer (p MPa, T K, h u kJ/kg, s cp cv kJ/(kg K), v m3/kg, rho kg/m3, w m/s, flow kg/s,
-//! power and heat flow kW, viscosity Pa s, conductivity W/(m K), surface tension N/m).
+//! Engineering units: parsing of values with units ("42 barg", "410 degC", "1200 Btu/lb"), the
+//! output presets (`si`, `engineering`, `us`, `bar`, `bar_th`), the units of one request chosen per
+//! dimension and per field name ([`UnitSystem`]), and conversion to and from the internal units of
+//! the physics layer (p MPa, T K, h u kJ/kg, s cp cv kJ/(kg K), v m3/kg, rho kg/m3, w m/s, flow
+//! kg/s, power and heat flow kW, viscosity Pa s, conductivity W/(m K), surface tension N/m).
 //!
 //! Invariant: this is the only module that knows unit spellings; every conversion factor is an
 //! exact definition (international foot and pound, thermochemical-free IT Btu) cited where declared.
-//! Gauge pressures add an ambient pressure (101.325 kPa unless the caller gives one).
+//! A unit whose factor is a decimal fraction (bar = 0.1 MPa, kPa, degF = 1/1.8 K) is converted by
+//! dividing by the exact reciprocal (10, 1000, 1.8) instead of multiplying by the inexact binary
+//! fraction, so "3 bar" is 0.3 MPa and 0.3 MPa is 3 bar, to the last bit. Gauge pressures add an
+//! ambient pressure (101.325 kPa unless the caller gives one).
 
 use crate::error::{Error, Result};
 
@@ -14,6 +18,8 @@ use crate::error::{Error, Result};
 pub enum Dim {
     /// Absolute pressure (internal MPa).
     Pressure,
+    /// A pressure difference such as a pressure drop (internal MPa; no gauge units).
+    PressureDifference,
     /// Thermodynamic temperature (internal K).
     Temperature,
     /// A temperature difference such as superheat or approach (internal K).
@@ -75,6 +81,7 @@ impl Dim {
     pub fn name(self) -> &'static str {
         match self {
             Dim::Pressure => "pressure",
+            Dim::PressureDifference => "pressure difference",
             Dim::Temperature => "temperature",
             Dim::TemperatureDifference => "temperature difference",
             Dim::SpecificEnergy => "specific energy",
@@ -105,9 +112,54 @@ impl Dim {
         }
     }
 
+    /// The key that chooses a unit for every quantity of this dimension in a `units` object
+    /// (`{"pressure": "barg", "mass_flow": "t/h"}`); `flow` is also read as `mass_flow`.
+    pub fn key(self) -> &'static str {
+        match self {
+            Dim::Pressure => "pressure",
+            Dim::PressureDifference => "pressure_difference",
+            Dim::Temperature => "temperature",
+            Dim::TemperatureDifference => "temperature_difference",
+            Dim::SpecificEnergy => "specific_energy",
+            Dim::SpecificEntropy => "specific_entropy",
+            Dim::SpecificVolume => "specific_volume",
+            Dim::Density => "density",
+            Dim::Speed => "speed",
+            Dim::Dimensionless => "dimensionless",
+            Dim::MassFlow => "mass_flow",
+            Dim::Power => "power",
+            Dim::HeatFlow => "heat_flow",
+            Dim::Viscosity => "viscosity",
+            Dim::Conductivity => "thermal_conductivity",
+            Dim::SurfaceTension => "surface_tension",
+            Dim::Diffusivity => "diffusivity",
+            Dim::InverseTemperature => "inverse_temperature",
+            Dim::InversePressure => "inverse_pressure",
+            Dim::TemperaturePerPressure => "temperature_per_pressure",
+            Dim::HeatRate => "heat_rate",
+            Dim::SteamRate => "steam_rate",
+            Dim::Length => "length",
+            Dim::Energy => "energy",
+            Dim::Mass => "mass",
+            Dim::PricePerEnergy => "price_per_energy",
+            Dim::PricePerMass => "price_per_mass",
+            Dim::HeatFlowPerLength => "heat_flow_per_length",
+            Dim::HeatTransferCoefficient => "heat_transfer_coefficient",
+        }
+    }
+
+    /// The dimension chosen by a `units` object key ([`Dim::key`], or `flow` for mass flow).
+    pub fn from_key(key: &str) -> Option<Dim> {
+        if key == "flow" {
+            return Some(Dim::MassFlow);
+        }
+        Dim::ALL.into_iter().find(|d| d.key() == key)
+    }
+
     /// Every dimension, for listing and tests.
-    pub const ALL: [Dim; 28] = [
+    pub const ALL: [Dim; 29] = [
         Dim::Pressure,
+        Dim::PressureDifference,
         Dim::Temperature,
         Dim::TemperatureDifference,
         Dim::SpecificEnergy,
@@ -136,116 +188,204 @@ impl Dim {
         Dim::HeatFlowPerLength,
         Dim::HeatTransferCoefficient,
     ];
+
+    /// The internal unit's symbol, as errors of the physics layer name it.
+    pub fn internal_symbol(self) -> &'static str {
+        match self {
+            Dim::Pressure | Dim::PressureDifference => "MPa",
+            Dim::Temperature | Dim::TemperatureDifference => "K",
+            Dim::SpecificEnergy => "kJ/kg",
+            Dim::SpecificEntropy => "kJ/(kg K)",
+            Dim::SpecificVolume => "m3/kg",
+            Dim::Density => "kg/m3",
+            Dim::Speed => "m/s",
+            Dim::Dimensionless => "1",
+            Dim::MassFlow => "kg/s",
+            Dim::Power | Dim::HeatFlow => "kW",
+            Dim::Viscosity => "Pa s",
+            Dim::Conductivity => "W/(m K)",
+            Dim::SurfaceTension => "N/m",
+            Dim::Diffusivity => "m2/s",
+            Dim::InverseTemperature => "1/K",
+            Dim::InversePressure => "1/MPa",
+            Dim::TemperaturePerPressure => "K/MPa",
+            Dim::HeatRate => "kJ/kWh",
+            Dim::SteamRate => "kg/kWh",
+            Dim::Length => "m",
+            Dim::Energy => "kJ",
+            Dim::Mass => "kg",
+            Dim::PricePerEnergy => "/kJ",
+            Dim::PricePerMass => "/kg",
+            Dim::HeatFlowPerLength => "kW/m",
+            Dim::HeatTransferCoefficient => "W/(m2 K)",
+        }
+    }
 }
 
-/// One unit: internal = value * scale + offset (+ ambient pressure when `gauge`).
+/// One unit: internal = (value + offset) * factor, or (value + offset) / factor when `divide`
+/// (plus the ambient pressure when `gauge`).
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Unit {
     /// Canonical spelling used in answers.
     pub symbol: &'static str,
     /// Dimension.
     pub dim: Dim,
-    /// Multiplier to the internal unit.
-    pub scale: f64,
-    /// Offset added after scaling (temperatures).
+    /// The exact factor between this unit and the internal one (see `divide`).
+    pub factor: f64,
+    /// Whether the internal value is the value divided by `factor` (decimal fractions such as
+    /// bar = MPa / 10, so that no inexact binary fraction enters the conversion).
+    pub divide: bool,
+    /// Offset added before scaling (temperatures: 273.15 for degC, 459.67 for degF).
     pub offset: f64,
     /// Gauge pressure: the ambient pressure is added.
     pub gauge: bool,
 }
 
 // Exact definitions (common practice, no source needed beyond the SI brochure and the 1959
-// international yard and pound agreement): 1 lb = 0.45359237 kg, 1 ft = 0.3048 m,
-// 1 lbf = 4.4482216152605 N, 1 psi = 6894.757293168361 Pa, IT Btu = 1055.05585262 J,
-// Btu/lb = 2.326 kJ/kg exactly, Btu/(lb F) = 4.1868 kJ/(kg K) exactly.
+// international yard and pound agreement): 1 lb = 0.45359237 kg, 1 ft = 0.3048 m, 1 in =
+// 0.0254 m, 1 lbf = 4.4482216152605 N, 1 psi = 6894.757293168361 Pa, IT Btu = 1055.05585262 J,
+// Btu/lb = 2.326 kJ/kg exactly, Btu/(lb F) = 4.1868 kJ/(kg K) exactly, 1 degF = 1/1.8 K.
 const LB: f64 = 0.453_592_37;
 const FT: f64 = 0.3048;
+const INCH: f64 = 0.0254;
 const PSI_MPA: f64 = 6.894_757_293_168_361e-3;
 const BTU_KJ: f64 = 1.055_055_852_62;
 const F_K: f64 = 5.0 / 9.0;
 
-const fn u(symbol: &'static str, dim: Dim, scale: f64) -> Unit {
+const fn u(symbol: &'static str, dim: Dim, factor: f64) -> Unit {
     Unit {
         symbol,
         dim,
-        scale,
+        factor,
+        divide: false,
         offset: 0.0,
         gauge: false,
     }
 }
 
-const fn off(symbol: &'static str, dim: Dim, scale: f64, offset: f64) -> Unit {
+const fn d(symbol: &'static str, dim: Dim, divisor: f64) -> Unit {
     Unit {
         symbol,
         dim,
-        scale,
+        factor: divisor,
+        divide: true,
+        offset: 0.0,
+        gauge: false,
+    }
+}
+
+const fn off(symbol: &'static str, dim: Dim, offset: f64) -> Unit {
+    Unit {
+        symbol,
+        dim,
+        factor: 1.0,
+        divide: false,
         offset,
         gauge: false,
     }
 }
 
-const fn g(symbol: &'static str, scale: f64) -> Unit {
+const fn offd(symbol: &'static str, dim: Dim, divisor: f64, offset: f64) -> Unit {
+    Unit {
+        symbol,
+        dim,
+        factor: divisor,
+        divide: true,
+        offset,
+        gauge: false,
+    }
+}
+
+const fn g(symbol: &'static str, factor: f64) -> Unit {
     Unit {
         symbol,
         dim: Dim::Pressure,
-        scale,
+        factor,
+        divide: false,
+        offset: 0.0,
+        gauge: true,
+    }
+}
+
+const fn gd(symbol: &'static str, divisor: f64) -> Unit {
+    Unit {
+        symbol,
+        dim: Dim::Pressure,
+        factor: divisor,
+        divide: true,
         offset: 0.0,
         gauge: true,
     }
 }
 
 /// Accepted spellings: (alias, unit). Aliases are matched after removing spaces, '·', '*' and
-/// '.' between symbols, and case-insensitively.
+/// '.' between symbols, and case-insensitively. "psi" alone is not a pressure (absolute or
+/// gauge?) but is a pressure difference.
 const UNITS: &[(&str, Unit)] = &[
     // pressure, absolute
-    ("Pa", u("Pa", Dim::Pressure, 1e-6)),
-    ("kPa", u("kPa", Dim::Pressure, 1e-3)),
-    ("kPaa", u("kPa", Dim::Pressure, 1e-3)),
+    ("Pa", d("Pa", Dim::Pressure, 1e6)),
+    ("kPa", d("kPa", Dim::Pressure, 1e3)),
+    ("kPaa", d("kPa", Dim::Pressure, 1e3)),
     ("MPa", u("MPa", Dim::Pressure, 1.0)),
     ("MPaa", u("MPa", Dim::Pressure, 1.0)),
-    ("bar", u("bar", Dim::Pressure, 0.1)),
-    ("bara", u("bar", Dim::Pressure, 0.1)),
-    ("bar(a)", u("bar", Dim::Pressure, 0.1)),
-    ("mbar", u("mbar", Dim::Pressure, 1e-4)),
-    ("psi", u("psia", Dim::Pressure, PSI_MPA)),
+    ("bar", d("bar", Dim::Pressure, 10.0)),
+    ("bara", d("bar", Dim::Pressure, 10.0)),
+    ("bar(a)", d("bar", Dim::Pressure, 10.0)),
+    ("mbar", d("mbar", Dim::Pressure, 1e4)),
     ("psia", u("psia", Dim::Pressure, PSI_MPA)),
     ("atm", u("atm", Dim::Pressure, 0.101_325)),
     ("kgf/cm2", u("kgf/cm2", Dim::Pressure, 0.098_066_5)),
     ("mmHg", u("mmHg", Dim::Pressure, 1.333_223_874_15e-4)),
     ("inHg", u("inHg", Dim::Pressure, 3.386_388_64e-3)),
     // pressure, gauge
-    ("barg", g("barg", 0.1)),
-    ("bar(g)", g("barg", 0.1)),
+    ("barg", gd("barg", 10.0)),
+    ("bar(g)", gd("barg", 10.0)),
     ("psig", g("psig", PSI_MPA)),
-    ("kPag", g("kPag", 1e-3)),
+    ("kPag", gd("kPag", 1e3)),
     ("MPag", g("MPag", 1.0)),
     ("kgf/cm2g", g("kgf/cm2g", 0.098_066_5)),
+    // pressure difference (a drop or a rise: no absolute or gauge qualifier)
+    ("Pa", d("Pa", Dim::PressureDifference, 1e6)),
+    ("kPa", d("kPa", Dim::PressureDifference, 1e3)),
+    ("MPa", u("MPa", Dim::PressureDifference, 1.0)),
+    ("bar", d("bar", Dim::PressureDifference, 10.0)),
+    ("mbar", d("mbar", Dim::PressureDifference, 1e4)),
+    ("psi", u("psi", Dim::PressureDifference, PSI_MPA)),
+    ("psid", u("psi", Dim::PressureDifference, PSI_MPA)),
+    ("atm", u("atm", Dim::PressureDifference, 0.101_325)),
+    (
+        "kgf/cm2",
+        u("kgf/cm2", Dim::PressureDifference, 0.098_066_5),
+    ),
+    (
+        "mmHg",
+        u("mmHg", Dim::PressureDifference, 1.333_223_874_15e-4),
+    ),
+    ("inHg", u("inHg", Dim::PressureDifference, 3.386_388_64e-3)),
     // temperature
     ("K", u("K", Dim::Temperature, 1.0)),
-    ("degC", off("degC", Dim::Temperature, 1.0, 273.15)),
-    ("°C", off("degC", Dim::Temperature, 1.0, 273.15)),
-    ("C", off("degC", Dim::Temperature, 1.0, 273.15)),
-    ("celsius", off("degC", Dim::Temperature, 1.0, 273.15)),
-    ("degF", off("degF", Dim::Temperature, F_K, 459.67 * F_K)),
-    ("°F", off("degF", Dim::Temperature, F_K, 459.67 * F_K)),
-    ("F", off("degF", Dim::Temperature, F_K, 459.67 * F_K)),
-    (
-        "fahrenheit",
-        off("degF", Dim::Temperature, F_K, 459.67 * F_K),
-    ),
-    ("degR", u("degR", Dim::Temperature, F_K)),
-    ("R", u("degR", Dim::Temperature, F_K)),
+    ("degC", off("degC", Dim::Temperature, 273.15)),
+    ("°C", off("degC", Dim::Temperature, 273.15)),
+    ("C", off("degC", Dim::Temperature, 273.15)),
+    ("celsius", off("degC", Dim::Temperature, 273.15)),
+    ("degF", offd("degF", Dim::Temperature, 1.8, 459.67)),
+    ("°F", offd("degF", Dim::Temperature, 1.8, 459.67)),
+    ("F", offd("degF", Dim::Temperature, 1.8, 459.67)),
+    ("fahrenheit", offd("degF", Dim::Temperature, 1.8, 459.67)),
+    ("degR", d("degR", Dim::Temperature, 1.8)),
+    ("R", d("degR", Dim::Temperature, 1.8)),
     // temperature difference
     ("K", u("K", Dim::TemperatureDifference, 1.0)),
     ("degC", u("degC", Dim::TemperatureDifference, 1.0)),
     ("°C", u("degC", Dim::TemperatureDifference, 1.0)),
     ("C", u("degC", Dim::TemperatureDifference, 1.0)),
-    ("degF", u("degF", Dim::TemperatureDifference, F_K)),
-    ("°F", u("degF", Dim::TemperatureDifference, F_K)),
-    ("F", u("degF", Dim::TemperatureDifference, F_K)),
-    ("degR", u("degR", Dim::TemperatureDifference, F_K)),
-    ("R", u("degR", Dim::TemperatureDifference, F_K)),
+    ("degF", d("degF", Dim::TemperatureDifference, 1.8)),
+    ("°F", d("degF", Dim::TemperatureDifference, 1.8)),
+    ("F", d("degF", Dim::TemperatureDifference, 1.8)),
+    ("degR", d("degR", Dim::TemperatureDifference, 1.8)),
+    ("R", d("degR", Dim::TemperatureDifference, 1.8)),
     // specific energy
-    ("J/kg", u("J/kg", Dim::SpecificEnergy, 1e-3)),
+    ("J/kg", d("J/kg", Dim::SpecificEnergy, 1e3)),
     ("kJ/kg", u("kJ/kg", Dim::SpecificEnergy, 1.0)),
     ("MJ/kg", u("MJ/kg", Dim::SpecificEnergy, 1e3)),
     ("Btu/lb", u("Btu/lb", Dim::SpecificEnergy, 2.326)),
@@ -253,9 +393,9 @@ const UNITS: &[(&str, Unit)] = &[
     ("kcal/kg", u("kcal/kg", Dim::SpecificEnergy, 4.1868)),
     ("kWh/kg", u("kWh/kg", Dim::SpecificEnergy, 3600.0)),
     // specific entropy
-    ("J/(kgK)", u("J/(kg K)", Dim::SpecificEntropy, 1e-3)),
-    ("J/kgK", u("J/(kg K)", Dim::SpecificEntropy, 1e-3)),
-    ("J/kg/K", u("J/(kg K)", Dim::SpecificEntropy, 1e-3)),
+    ("J/(kgK)", d("J/(kg K)", Dim::SpecificEntropy, 1e3)),
+    ("J/kgK", d("J/(kg K)", Dim::SpecificEntropy, 1e3)),
+    ("J/kg/K", d("J/(kg K)", Dim::SpecificEntropy, 1e3)),
     ("kJ/(kgK)", u("kJ/(kg K)", Dim::SpecificEntropy, 1.0)),
     ("kJ/kgK", u("kJ/(kg K)", Dim::SpecificEntropy, 1.0)),
     ("kJ/kg/K", u("kJ/(kg K)", Dim::SpecificEntropy, 1.0)),
@@ -274,9 +414,9 @@ const UNITS: &[(&str, Unit)] = &[
     ("m3/kg", u("m3/kg", Dim::SpecificVolume, 1.0)),
     ("m^3/kg", u("m3/kg", Dim::SpecificVolume, 1.0)),
     ("m³/kg", u("m3/kg", Dim::SpecificVolume, 1.0)),
-    ("L/kg", u("L/kg", Dim::SpecificVolume, 1e-3)),
-    ("dm3/kg", u("L/kg", Dim::SpecificVolume, 1e-3)),
-    ("cm3/g", u("L/kg", Dim::SpecificVolume, 1e-3)),
+    ("L/kg", d("L/kg", Dim::SpecificVolume, 1e3)),
+    ("dm3/kg", d("L/kg", Dim::SpecificVolume, 1e3)),
+    ("cm3/g", d("L/kg", Dim::SpecificVolume, 1e3)),
     (
         "ft3/lb",
         u("ft3/lb", Dim::SpecificVolume, FT * FT * FT / LB),
@@ -301,29 +441,29 @@ const UNITS: &[(&str, Unit)] = &[
     // speed
     ("m/s", u("m/s", Dim::Speed, 1.0)),
     ("ft/s", u("ft/s", Dim::Speed, FT)),
-    ("km/h", u("km/h", Dim::Speed, 1.0 / 3.6)),
+    ("km/h", d("km/h", Dim::Speed, 3.6)),
     // dimensionless
     ("1", u("1", Dim::Dimensionless, 1.0)),
     ("-", u("1", Dim::Dimensionless, 1.0)),
-    ("%", u("%", Dim::Dimensionless, 0.01)),
+    ("%", d("%", Dim::Dimensionless, 100.0)),
     // mass flow
     ("kg/s", u("kg/s", Dim::MassFlow, 1.0)),
-    ("kg/h", u("kg/h", Dim::MassFlow, 1.0 / 3600.0)),
-    ("t/h", u("t/h", Dim::MassFlow, 1000.0 / 3600.0)),
-    ("tph", u("t/h", Dim::MassFlow, 1000.0 / 3600.0)),
+    ("kg/h", d("kg/h", Dim::MassFlow, 3600.0)),
+    ("t/h", d("t/h", Dim::MassFlow, 3.6)),
+    ("tph", d("t/h", Dim::MassFlow, 3.6)),
     ("lb/h", u("lb/h", Dim::MassFlow, LB / 3600.0)),
     ("lb/hr", u("lb/h", Dim::MassFlow, LB / 3600.0)),
     ("klb/h", u("klb/h", Dim::MassFlow, 1000.0 * LB / 3600.0)),
     ("klb/hr", u("klb/h", Dim::MassFlow, 1000.0 * LB / 3600.0)),
     ("lb/s", u("lb/s", Dim::MassFlow, LB)),
     // power
-    ("W", u("W", Dim::Power, 1e-3)),
+    ("W", d("W", Dim::Power, 1e3)),
     ("kW", u("kW", Dim::Power, 1.0)),
     ("MW", u("MW", Dim::Power, 1e3)),
     ("hp", u("hp", Dim::Power, 0.745_699_871_582_270_2)),
     ("Btu/h", u("Btu/h", Dim::Power, BTU_KJ / 3600.0)),
     // heat flow
-    ("W", u("W", Dim::HeatFlow, 1e-3)),
+    ("W", d("W", Dim::HeatFlow, 1e3)),
     ("kW", u("kW", Dim::HeatFlow, 1.0)),
     ("MW", u("MW", Dim::HeatFlow, 1e3)),
     ("Btu/h", u("Btu/h", Dim::HeatFlow, BTU_KJ / 3600.0)),
@@ -338,17 +478,17 @@ const UNITS: &[(&str, Unit)] = &[
     ),
     // viscosity
     ("Pas", u("Pa s", Dim::Viscosity, 1.0)),
-    ("mPas", u("mPa s", Dim::Viscosity, 1e-3)),
-    ("cP", u("mPa s", Dim::Viscosity, 1e-3)),
-    ("uPas", u("uPa s", Dim::Viscosity, 1e-6)),
-    ("µPas", u("uPa s", Dim::Viscosity, 1e-6)),
+    ("mPas", d("mPa s", Dim::Viscosity, 1e3)),
+    ("cP", d("mPa s", Dim::Viscosity, 1e3)),
+    ("uPas", d("uPa s", Dim::Viscosity, 1e6)),
+    ("µPas", d("uPa s", Dim::Viscosity, 1e6)),
     ("lb/(fth)", u("lb/(ft h)", Dim::Viscosity, LB / FT / 3600.0)),
     ("lb/(fts)", u("lb/(ft s)", Dim::Viscosity, LB / FT)),
     // conductivity
     ("W/(mK)", u("W/(m K)", Dim::Conductivity, 1.0)),
     ("W/mK", u("W/(m K)", Dim::Conductivity, 1.0)),
-    ("mW/(mK)", u("mW/(m K)", Dim::Conductivity, 1e-3)),
-    ("mW/mK", u("mW/(m K)", Dim::Conductivity, 1e-3)),
+    ("mW/(mK)", d("mW/(m K)", Dim::Conductivity, 1e3)),
+    ("mW/mK", d("mW/(m K)", Dim::Conductivity, 1e3)),
     (
         "Btu/(hftF)",
         u(
@@ -359,16 +499,16 @@ const UNITS: &[(&str, Unit)] = &[
     ),
     // surface tension
     ("N/m", u("N/m", Dim::SurfaceTension, 1.0)),
-    ("mN/m", u("mN/m", Dim::SurfaceTension, 1e-3)),
-    ("dyn/cm", u("mN/m", Dim::SurfaceTension, 1e-3)),
+    ("mN/m", d("mN/m", Dim::SurfaceTension, 1e3)),
+    ("dyn/cm", d("mN/m", Dim::SurfaceTension, 1e3)),
     (
         "lbf/ft",
         u("lbf/ft", Dim::SurfaceTension, 4.448_221_615_260_5 / FT),
     ),
     // diffusivity
     ("m2/s", u("m2/s", Dim::Diffusivity, 1.0)),
-    ("mm2/s", u("mm2/s", Dim::Diffusivity, 1e-6)),
-    ("cSt", u("mm2/s", Dim::Diffusivity, 1e-6)),
+    ("mm2/s", d("mm2/s", Dim::Diffusivity, 1e6)),
+    ("cSt", d("mm2/s", Dim::Diffusivity, 1e6)),
     ("ft2/s", u("ft2/s", Dim::Diffusivity, FT * FT)),
     ("ft2/h", u("ft2/h", Dim::Diffusivity, FT * FT / 3600.0)),
     // inverse temperature
@@ -380,7 +520,7 @@ const UNITS: &[(&str, Unit)] = &[
     ("1/Pa", u("1/Pa", Dim::InversePressure, 1e6)),
     ("1/kPa", u("1/kPa", Dim::InversePressure, 1e3)),
     ("1/bar", u("1/bar", Dim::InversePressure, 10.0)),
-    ("1/psi", u("1/psi", Dim::InversePressure, 1.0 / PSI_MPA)),
+    ("1/psi", d("1/psi", Dim::InversePressure, PSI_MPA)),
     // temperature per pressure
     ("K/MPa", u("K/MPa", Dim::TemperaturePerPressure, 1.0)),
     ("K/Pa", u("K/Pa", Dim::TemperaturePerPressure, 1e6)),
@@ -401,15 +541,15 @@ const UNITS: &[(&str, Unit)] = &[
     ("lb/kWh", u("lb/kWh", Dim::SteamRate, LB)),
     // length
     ("m", u("m", Dim::Length, 1.0)),
-    ("mm", u("mm", Dim::Length, 1e-3)),
+    ("mm", d("mm", Dim::Length, 1e3)),
     ("ft", u("ft", Dim::Length, FT)),
-    ("cm", u("cm", Dim::Length, 1e-2)),
+    ("cm", d("cm", Dim::Length, 100.0)),
     ("km", u("km", Dim::Length, 1e3)),
-    ("in", u("in", Dim::Length, FT / 12.0)),
-    ("inch", u("in", Dim::Length, FT / 12.0)),
-    ("\"", u("in", Dim::Length, FT / 12.0)),
+    ("in", u("in", Dim::Length, INCH)),
+    ("inch", u("in", Dim::Length, INCH)),
+    ("\"", u("in", Dim::Length, INCH)),
     // energy (1 kWh = 3600 kJ; 1 therm = 100 000 IT Btu)
-    ("J", u("J", Dim::Energy, 1e-3)),
+    ("J", d("J", Dim::Energy, 1e3)),
     ("kJ", u("kJ", Dim::Energy, 1.0)),
     ("MJ", u("MJ", Dim::Energy, 1e3)),
     ("GJ", u("GJ", Dim::Energy, 1e6)),
@@ -427,44 +567,32 @@ const UNITS: &[(&str, Unit)] = &[
     ("klb", u("klb", Dim::Mass, 1e3 * LB)),
     // price per energy (currency-neutral: "30 /MWh", "30 per MWh", "8 /MMBtu")
     ("/kJ", u("/kJ", Dim::PricePerEnergy, 1.0)),
-    ("/MJ", u("/MJ", Dim::PricePerEnergy, 1e-3)),
-    ("/GJ", u("/GJ", Dim::PricePerEnergy, 1e-6)),
-    ("/kWh", u("/kWh", Dim::PricePerEnergy, 1.0 / 3600.0)),
-    ("/MWh", u("/MWh", Dim::PricePerEnergy, 1.0 / 3.6e6)),
-    (
-        "/MMBtu",
-        u("/MMBtu", Dim::PricePerEnergy, 1.0 / (1e6 * BTU_KJ)),
-    ),
-    (
-        "/therm",
-        u("/therm", Dim::PricePerEnergy, 1.0 / (1e5 * BTU_KJ)),
-    ),
+    ("/MJ", d("/MJ", Dim::PricePerEnergy, 1e3)),
+    ("/GJ", d("/GJ", Dim::PricePerEnergy, 1e6)),
+    ("/kWh", d("/kWh", Dim::PricePerEnergy, 3600.0)),
+    ("/MWh", d("/MWh", Dim::PricePerEnergy, 3.6e6)),
+    ("/MMBtu", d("/MMBtu", Dim::PricePerEnergy, 1e6 * BTU_KJ)),
+    ("/therm", d("/therm", Dim::PricePerEnergy, 1e5 * BTU_KJ)),
     ("perkJ", u("/kJ", Dim::PricePerEnergy, 1.0)),
-    ("perMJ", u("/MJ", Dim::PricePerEnergy, 1e-3)),
-    ("perGJ", u("/GJ", Dim::PricePerEnergy, 1e-6)),
-    ("perkWh", u("/kWh", Dim::PricePerEnergy, 1.0 / 3600.0)),
-    ("perMWh", u("/MWh", Dim::PricePerEnergy, 1.0 / 3.6e6)),
-    (
-        "perMMBtu",
-        u("/MMBtu", Dim::PricePerEnergy, 1.0 / (1e6 * BTU_KJ)),
-    ),
-    (
-        "pertherm",
-        u("/therm", Dim::PricePerEnergy, 1.0 / (1e5 * BTU_KJ)),
-    ),
+    ("perMJ", d("/MJ", Dim::PricePerEnergy, 1e3)),
+    ("perGJ", d("/GJ", Dim::PricePerEnergy, 1e6)),
+    ("perkWh", d("/kWh", Dim::PricePerEnergy, 3600.0)),
+    ("perMWh", d("/MWh", Dim::PricePerEnergy, 3.6e6)),
+    ("perMMBtu", d("/MMBtu", Dim::PricePerEnergy, 1e6 * BTU_KJ)),
+    ("pertherm", d("/therm", Dim::PricePerEnergy, 1e5 * BTU_KJ)),
     // price per mass (currency-neutral: "25 /t", "12 per klb")
     ("/kg", u("/kg", Dim::PricePerMass, 1.0)),
-    ("/t", u("/t", Dim::PricePerMass, 1e-3)),
-    ("/tonne", u("/t", Dim::PricePerMass, 1e-3)),
-    ("/lb", u("/lb", Dim::PricePerMass, 1.0 / LB)),
-    ("/klb", u("/klb", Dim::PricePerMass, 1.0 / (1e3 * LB))),
+    ("/t", d("/t", Dim::PricePerMass, 1e3)),
+    ("/tonne", d("/t", Dim::PricePerMass, 1e3)),
+    ("/lb", d("/lb", Dim::PricePerMass, LB)),
+    ("/klb", d("/klb", Dim::PricePerMass, 1e3 * LB)),
     ("perkg", u("/kg", Dim::PricePerMass, 1.0)),
-    ("pert", u("/t", Dim::PricePerMass, 1e-3)),
-    ("pertonne", u("/t", Dim::PricePerMass, 1e-3)),
-    ("perlb", u("/lb", Dim::PricePerMass, 1.0 / LB)),
-    ("perklb", u("/klb", Dim::PricePerMass, 1.0 / (1e3 * LB))),
+    ("pert", d("/t", Dim::PricePerMass, 1e3)),
+    ("pertonne", d("/t", Dim::PricePerMass, 1e3)),
+    ("perlb", d("/lb", Dim::PricePerMass, LB)),
+    ("perklb", d("/klb", Dim::PricePerMass, 1e3 * LB)),
     // heat flow per length
-    ("W/m", u("W/m", Dim::HeatFlowPerLength, 1e-3)),
+    ("W/m", d("W/m", Dim::HeatFlowPerLength, 1e3)),
     ("kW/m", u("kW/m", Dim::HeatFlowPerLength, 1.0)),
     (
         "Btu/(hft)",
@@ -497,6 +625,10 @@ pub enum Preset {
     Engineering,
     /// US customary: psia, degF, Btu/lb, Btu/(lb F), ft3/lb, lb/ft3, ft/s, lb/(ft h), lb/h, kW.
     Us,
+    /// `engineering` with pressures in bar (absolute; pressure differences in bar).
+    Bar,
+    /// `bar` with mass flows in t/h.
+    BarTh,
 }
 
 impl Preset {
@@ -506,8 +638,11 @@ impl Preset {
             "si" => Ok(Preset::Si),
             "engineering" | "eng" => Ok(Preset::Engineering),
             "us" => Ok(Preset::Us),
+            "bar" => Ok(Preset::Bar),
+            "bar_th" => Ok(Preset::BarTh),
             _ => Err(Error::invalid(format!(
-                "unknown unit preset '{name}'; accepted: si, engineering, us"
+                "unknown unit preset '{name}'; accepted: {}",
+                Preset::ALL.map(Preset::name).join(", ")
             ))),
         }
     }
@@ -518,6 +653,8 @@ impl Preset {
             Preset::Si => "si",
             Preset::Engineering => "engineering",
             Preset::Us => "us",
+            Preset::Bar => "bar",
+            Preset::BarTh => "bar_th",
         }
     }
 
@@ -527,14 +664,21 @@ impl Preset {
             Preset::Si => "Coherent SI: Pa, K, J/kg, J/(kg K), m3/kg, kg/m3, m/s, Pa s, W/(m K), N/m, kg/s, W",
             Preset::Engineering => "The default: MPa, degC, kJ/kg, kJ/(kg K), m3/kg, kg/m3, m/s, uPa s, mW/(m K), mN/m, kg/s, kW",
             Preset::Us => "US customary: psia, degF, Btu/lb, Btu/(lb F), ft3/lb, lb/ft3, ft/s, lb/(ft h), lb/h, kW (power), MMBtu/h (heat)",
+            Preset::Bar => "engineering with pressures in bar (absolute; pressure differences in bar): bar, degC, kJ/kg, kJ/(kg K), kg/s, kW",
+            Preset::BarTh => "bar with mass flows in t/h: bar, degC, kJ/kg, kJ/(kg K), t/h, kW",
         }
     }
 
     /// All presets.
-    pub const ALL: [Preset; 3] = [Preset::Si, Preset::Engineering, Preset::Us];
+    pub const ALL: [Preset; 5] = [
+        Preset::Si,
+        Preset::Engineering,
+        Preset::Us,
+        Preset::Bar,
+        Preset::BarTh,
+    ];
 
-    /// The preset's unit for a dimension (looked up once per process, then from a table: this
-    /// is on the hot path of every batch row).
+    /// The preset's unit for a dimension (looked up once per process, then from a table).
     pub fn unit(self, dim: Dim) -> Unit {
         static TABLE: std::sync::OnceLock<Vec<Unit>> = std::sync::OnceLock::new();
         let table = TABLE.get_or_init(|| {
@@ -547,78 +691,91 @@ impl Preset {
     }
 
     fn unit_uncached(self, dim: Dim) -> Unit {
+        let base = match self {
+            Preset::Bar | Preset::BarTh => Preset::Engineering,
+            other => other,
+        };
         let symbol = match (self, dim) {
-            (Preset::Si, Dim::Pressure) => "Pa",
-            (Preset::Engineering, Dim::Pressure) => "MPa",
-            (Preset::Us, Dim::Pressure) => "psia",
-            (Preset::Si, Dim::Temperature) => "K",
-            (Preset::Engineering, Dim::Temperature) => "degC",
-            (Preset::Us, Dim::Temperature) => "degF",
-            (Preset::Si | Preset::Engineering, Dim::TemperatureDifference) => "K",
-            (Preset::Us, Dim::TemperatureDifference) => "degF",
-            (Preset::Si, Dim::SpecificEnergy) => "J/kg",
-            (Preset::Engineering, Dim::SpecificEnergy) => "kJ/kg",
-            (Preset::Us, Dim::SpecificEnergy) => "Btu/lb",
-            (Preset::Si, Dim::SpecificEntropy) => "J/(kgK)",
-            (Preset::Engineering, Dim::SpecificEntropy) => "kJ/(kgK)",
-            (Preset::Us, Dim::SpecificEntropy) => "Btu/(lbF)",
-            (Preset::Si | Preset::Engineering, Dim::SpecificVolume) => "m3/kg",
-            (Preset::Us, Dim::SpecificVolume) => "ft3/lb",
-            (Preset::Si | Preset::Engineering, Dim::Density) => "kg/m3",
-            (Preset::Us, Dim::Density) => "lb/ft3",
-            (Preset::Si | Preset::Engineering, Dim::Speed) => "m/s",
-            (Preset::Us, Dim::Speed) => "ft/s",
-            (_, Dim::Dimensionless) => "1",
-            (Preset::Si | Preset::Engineering, Dim::MassFlow) => "kg/s",
-            (Preset::Us, Dim::MassFlow) => "lb/h",
-            (Preset::Si, Dim::Power) => "W",
-            (Preset::Engineering | Preset::Us, Dim::Power) => "kW",
-            (Preset::Si, Dim::HeatFlow) => "W",
-            (Preset::Engineering, Dim::HeatFlow) => "kW",
-            (Preset::Us, Dim::HeatFlow) => "MMBtu/h",
-            (Preset::Si, Dim::Viscosity) => "Pas",
-            (Preset::Engineering, Dim::Viscosity) => "uPas",
-            (Preset::Us, Dim::Viscosity) => "lb/(fth)",
-            (Preset::Si, Dim::Conductivity) => "W/(mK)",
-            (Preset::Engineering, Dim::Conductivity) => "mW/(mK)",
-            (Preset::Us, Dim::Conductivity) => "Btu/(hftF)",
-            (Preset::Si, Dim::SurfaceTension) => "N/m",
-            (Preset::Engineering, Dim::SurfaceTension) => "mN/m",
-            (Preset::Us, Dim::SurfaceTension) => "lbf/ft",
-            (Preset::Si, Dim::Diffusivity) => "m2/s",
-            (Preset::Engineering, Dim::Diffusivity) => "mm2/s",
-            (Preset::Us, Dim::Diffusivity) => "ft2/h",
-            (Preset::Si | Preset::Engineering, Dim::InverseTemperature) => "1/K",
-            (Preset::Us, Dim::InverseTemperature) => "1/degF",
-            (Preset::Si, Dim::InversePressure) => "1/Pa",
-            (Preset::Engineering, Dim::InversePressure) => "1/MPa",
-            (Preset::Us, Dim::InversePressure) => "1/psi",
-            (Preset::Si, Dim::TemperaturePerPressure) => "K/Pa",
-            (Preset::Engineering, Dim::TemperaturePerPressure) => "K/MPa",
-            (Preset::Us, Dim::TemperaturePerPressure) => "degF/psi",
-            (Preset::Si | Preset::Engineering, Dim::HeatRate) => "kJ/kWh",
-            (Preset::Us, Dim::HeatRate) => "Btu/kWh",
-            (Preset::Si | Preset::Engineering, Dim::SteamRate) => "kg/kWh",
-            (Preset::Us, Dim::SteamRate) => "lb/kWh",
-            (Preset::Si | Preset::Engineering, Dim::Length) => "m",
-            (Preset::Us, Dim::Length) => "ft",
-            (Preset::Si, Dim::Energy) => "GJ",
-            (Preset::Engineering, Dim::Energy) => "MWh",
-            (Preset::Us, Dim::Energy) => "MMBtu",
-            (Preset::Si, Dim::Mass) => "kg",
-            (Preset::Engineering, Dim::Mass) => "t",
-            (Preset::Us, Dim::Mass) => "klb",
-            (Preset::Si, Dim::PricePerEnergy) => "/GJ",
-            (Preset::Engineering, Dim::PricePerEnergy) => "/MWh",
-            (Preset::Us, Dim::PricePerEnergy) => "/MMBtu",
-            (Preset::Si | Preset::Engineering, Dim::PricePerMass) => "/t",
-            (Preset::Us, Dim::PricePerMass) => "/klb",
-            (Preset::Si | Preset::Engineering, Dim::HeatFlowPerLength) => "W/m",
-            (Preset::Us, Dim::HeatFlowPerLength) => "Btu/(hft)",
-            (Preset::Si | Preset::Engineering, Dim::HeatTransferCoefficient) => "W/(m2K)",
-            (Preset::Us, Dim::HeatTransferCoefficient) => "Btu/(hft2F)",
+            (Preset::Bar | Preset::BarTh, Dim::Pressure | Dim::PressureDifference) => "bar",
+            (Preset::BarTh, Dim::MassFlow) => "t/h",
+            _ => base.own_symbol(dim),
         };
         lookup(dim, symbol).expect("every preset unit is in the table")
+    }
+
+    fn own_symbol(self, dim: Dim) -> &'static str {
+        match (self, dim) {
+            (Preset::Si, Dim::Pressure | Dim::PressureDifference) => "Pa",
+            (_, Dim::Pressure | Dim::PressureDifference) if self != Preset::Us => "MPa",
+            (_, Dim::Pressure) => "psia",
+            (_, Dim::PressureDifference) => "psi",
+            (Preset::Si, Dim::Temperature) => "K",
+            (Preset::Us, Dim::Temperature) => "degF",
+            (_, Dim::Temperature) => "degC",
+            (Preset::Us, Dim::TemperatureDifference) => "degF",
+            (_, Dim::TemperatureDifference) => "K",
+            (Preset::Si, Dim::SpecificEnergy) => "J/kg",
+            (Preset::Us, Dim::SpecificEnergy) => "Btu/lb",
+            (_, Dim::SpecificEnergy) => "kJ/kg",
+            (Preset::Si, Dim::SpecificEntropy) => "J/(kgK)",
+            (Preset::Us, Dim::SpecificEntropy) => "Btu/(lbF)",
+            (_, Dim::SpecificEntropy) => "kJ/(kgK)",
+            (Preset::Us, Dim::SpecificVolume) => "ft3/lb",
+            (_, Dim::SpecificVolume) => "m3/kg",
+            (Preset::Us, Dim::Density) => "lb/ft3",
+            (_, Dim::Density) => "kg/m3",
+            (Preset::Us, Dim::Speed) => "ft/s",
+            (_, Dim::Speed) => "m/s",
+            (_, Dim::Dimensionless) => "1",
+            (Preset::Us, Dim::MassFlow) => "lb/h",
+            (_, Dim::MassFlow) => "kg/s",
+            (Preset::Si, Dim::Power) => "W",
+            (_, Dim::Power) => "kW",
+            (Preset::Si, Dim::HeatFlow) => "W",
+            (Preset::Us, Dim::HeatFlow) => "MMBtu/h",
+            (_, Dim::HeatFlow) => "kW",
+            (Preset::Si, Dim::Viscosity) => "Pas",
+            (Preset::Us, Dim::Viscosity) => "lb/(fth)",
+            (_, Dim::Viscosity) => "uPas",
+            (Preset::Si, Dim::Conductivity) => "W/(mK)",
+            (Preset::Us, Dim::Conductivity) => "Btu/(hftF)",
+            (_, Dim::Conductivity) => "mW/(mK)",
+            (Preset::Si, Dim::SurfaceTension) => "N/m",
+            (Preset::Us, Dim::SurfaceTension) => "lbf/ft",
+            (_, Dim::SurfaceTension) => "mN/m",
+            (Preset::Si, Dim::Diffusivity) => "m2/s",
+            (Preset::Us, Dim::Diffusivity) => "ft2/h",
+            (_, Dim::Diffusivity) => "mm2/s",
+            (Preset::Us, Dim::InverseTemperature) => "1/degF",
+            (_, Dim::InverseTemperature) => "1/K",
+            (Preset::Si, Dim::InversePressure) => "1/Pa",
+            (Preset::Us, Dim::InversePressure) => "1/psi",
+            (_, Dim::InversePressure) => "1/MPa",
+            (Preset::Si, Dim::TemperaturePerPressure) => "K/Pa",
+            (Preset::Us, Dim::TemperaturePerPressure) => "degF/psi",
+            (_, Dim::TemperaturePerPressure) => "K/MPa",
+            (Preset::Us, Dim::HeatRate) => "Btu/kWh",
+            (_, Dim::HeatRate) => "kJ/kWh",
+            (Preset::Us, Dim::SteamRate) => "lb/kWh",
+            (_, Dim::SteamRate) => "kg/kWh",
+            (Preset::Us, Dim::Length) => "ft",
+            (_, Dim::Length) => "m",
+            (Preset::Si, Dim::Energy) => "GJ",
+            (Preset::Us, Dim::Energy) => "MMBtu",
+            (_, Dim::Energy) => "MWh",
+            (Preset::Si, Dim::Mass) => "kg",
+            (Preset::Us, Dim::Mass) => "klb",
+            (_, Dim::Mass) => "t",
+            (Preset::Si, Dim::PricePerEnergy) => "/GJ",
+            (Preset::Us, Dim::PricePerEnergy) => "/MMBtu",
+            (_, Dim::PricePerEnergy) => "/MWh",
+            (Preset::Us, Dim::PricePerMass) => "/klb",
+            (_, Dim::PricePerMass) => "/t",
+            (Preset::Us, Dim::HeatFlowPerLength) => "Btu/(hft)",
+            (_, Dim::HeatFlowPerLength) => "W/m",
+            (Preset::Us, Dim::HeatTransferCoefficient) => "Btu/(hft2F)",
+            (_, Dim::HeatTransferCoefficient) => "W/(m2K)",
+        }
     }
 
     /// Converts an internal value to this preset's unit for `dim`.
@@ -638,8 +795,14 @@ pub const AMBIENT_DEFAULT_MPA: f64 = 0.101_325;
 
 impl Unit {
     /// Converts a value in this unit to internal units; `ambient` (MPa) is added for gauge units.
+    #[inline]
     pub fn to_internal(&self, value: f64, ambient: f64) -> f64 {
-        let x = value * self.scale + self.offset;
+        let v = value + self.offset;
+        let x = if self.divide {
+            v / self.factor
+        } else {
+            v * self.factor
+        };
         if self.gauge {
             x + ambient
         } else {
@@ -648,9 +811,72 @@ impl Unit {
     }
 
     /// Converts an internal value to this unit; `ambient` (MPa) is subtracted for gauge units.
+    #[inline]
     pub fn from_internal(&self, value: f64, ambient: f64) -> f64 {
         let x = if self.gauge { value - ambient } else { value };
-        (x - self.offset) / self.scale
+        let v = if self.divide {
+            x * self.factor
+        } else {
+            x / self.factor
+        };
+        v - self.offset
+    }
+
+    /// The shortest decimal text of the internal value `internal` in this unit that reads back
+    /// through this unit as exactly `internal` ("0.9" for 0.09 MPa in bar, where the plain
+    /// conversion gives 0.8999999999999999): for echoes such as the ambient pressure.
+    pub fn shortest(&self, internal: f64, ambient: f64) -> String {
+        let v = self.from_internal(internal, ambient);
+        if !v.is_finite() {
+            return format!("{v}");
+        }
+        for digits in 1..=17 {
+            let text = crate::error::fmt_sig(v, digits);
+            if let Ok(back) = text.parse::<f64>() {
+                if self.to_internal(back, ambient) == internal {
+                    return text;
+                }
+            }
+        }
+        format!("{v}")
+    }
+
+    /// The multiplier from this unit to the internal one (ignoring offset and ambient).
+    pub fn scale(&self) -> f64 {
+        if self.divide {
+            1.0 / self.factor
+        } else {
+            self.factor
+        }
+    }
+
+    /// The absolute pressure unit of the same size as this gauge unit (barg -> bar, psig ->
+    /// psia); every other unit is itself.
+    pub fn absolute(self) -> Unit {
+        if !self.gauge {
+            return self;
+        }
+        self.same_size(Dim::Pressure).unwrap_or(self)
+    }
+
+    /// The difference unit of the same size as this pressure or temperature unit (barg and bar
+    /// -> bar, psia and psig -> psi, degC -> K, degF -> degF), for pressure and temperature
+    /// differences; None for other dimensions.
+    pub fn as_difference(self) -> Option<Unit> {
+        match self.dim {
+            Dim::Pressure => self.same_size(Dim::PressureDifference),
+            Dim::Temperature => self.same_size(Dim::TemperatureDifference),
+            _ => None,
+        }
+    }
+
+    fn same_size(self, dim: Dim) -> Option<Unit> {
+        UNITS.iter().map(|(_, x)| *x).find(|x| {
+            x.dim == dim
+                && !x.gauge
+                && x.factor.to_bits() == self.factor.to_bits()
+                && x.divide == self.divide
+        })
     }
 }
 
@@ -687,6 +913,26 @@ pub fn accepted(dim: Dim) -> Vec<String> {
     out
 }
 
+/// Every accepted spelling of every dimension with its unit (for tests and listings).
+pub fn spellings() -> impl Iterator<Item = (&'static str, Unit)> {
+    UNITS.iter().copied()
+}
+
+/// The units of every dimension that `text` names ("K" names a temperature and a temperature
+/// difference), for messages about a unit given for the wrong quantity.
+pub fn dims_of(text: &str) -> Vec<Unit> {
+    Dim::ALL
+        .into_iter()
+        .filter_map(|d| lookup(d, text))
+        .collect()
+}
+
+fn psi_ambiguous(quantity: &str) -> Error {
+    Error::invalid(format!(
+        "{quantity}: 'psi' does not say whether the pressure is absolute or gauge; write psia or psig"
+    ))
+}
+
 /// Finds a unit of dimension `dim` by its spelling. `quantity` names the value for messages.
 pub fn parse_unit(quantity: &str, dim: Dim, text: &str) -> Result<Unit> {
     // Prices are currency-neutral: "EUR/MWh", "$/t" and "1/MWh" are read as "/MWh", "/t".
@@ -696,6 +942,9 @@ pub fn parse_unit(quantity: &str, dim: Dim, text: &str) -> Result<Unit> {
     };
     if let Some(unit) = lookup(dim, text) {
         return Ok(unit);
+    }
+    if dim == Dim::Pressure && normalise(text).eq_ignore_ascii_case("psi") {
+        return Err(psi_ambiguous(quantity));
     }
     for other in Dim::ALL {
         if other != dim {
@@ -714,17 +963,128 @@ pub fn parse_unit(quantity: &str, dim: Dim, text: &str) -> Result<Unit> {
     })
 }
 
+/// The units of one request: a preset, with units chosen for whole dimensions (`pressure`,
+/// `mass_flow`, ...) and for fields by name (`p`, `flow`, `net_power`) or by dotted path
+/// (`outlet.p`, `totals.net_power`).
+///
+/// A field named by the dotted path `name` (array indices such as `[2]` ignored) of dimension
+/// `dim` is in: the unit of the longest name key that ends `name` in whole segments (a path
+/// over a leaf name), with the field's dimension; else the unit chosen for `dim` (a pressure
+/// difference or temperature difference follows the unit chosen for pressure or temperature,
+/// without gauge: barg gives bar); else the preset's unit for `dim`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct UnitSystem {
+    preset: Preset,
+    by_dim: Vec<Unit>,
+    by_name: Vec<(String, Unit)>,
+}
+
+impl UnitSystem {
+    /// The preset's units alone.
+    pub fn new(preset: Preset) -> UnitSystem {
+        UnitSystem {
+            preset,
+            by_dim: Vec::new(),
+            by_name: Vec::new(),
+        }
+    }
+
+    /// The base preset.
+    pub fn preset(&self) -> Preset {
+        self.preset
+    }
+
+    /// True when nothing but the preset was chosen.
+    pub fn is_preset_only(&self) -> bool {
+        self.by_dim.is_empty() && self.by_name.is_empty()
+    }
+
+    /// Whether any field is chosen by name or path.
+    pub fn has_names(&self) -> bool {
+        !self.by_name.is_empty()
+    }
+
+    /// Chooses `unit` for every quantity of its dimension.
+    pub fn set_dim(&mut self, unit: Unit) {
+        self.by_dim.retain(|u| u.dim != unit.dim);
+        self.by_dim.push(unit);
+    }
+
+    /// Chooses `unit` for the fields named `key` (a leaf name or a dotted path) of its dimension.
+    pub fn set_name(&mut self, key: &str, unit: Unit) {
+        let key = strip_indices(key);
+        self.by_name
+            .retain(|(k, u)| !(*k == key && u.dim == unit.dim));
+        self.by_name.push((key, unit));
+    }
+
+    /// The unit of the field named `name` (a dotted path) of dimension `dim` (see the type's doc).
+    pub fn unit(&self, name: &str, dim: Dim) -> Unit {
+        self.named(name, dim).unwrap_or_else(|| self.for_dim(dim))
+    }
+
+    /// The unit chosen for the field `name` by a name or path key, if any.
+    pub fn named(&self, name: &str, dim: Dim) -> Option<Unit> {
+        if self.by_name.is_empty() {
+            return None;
+        }
+        let name = strip_indices(name);
+        self.by_name
+            .iter()
+            .filter(|(k, u)| u.dim == dim && ends_with_segments(&name, k))
+            .max_by_key(|(k, _)| k.split('.').count())
+            .map(|(_, u)| *u)
+    }
+
+    /// The unit of a quantity of dimension `dim` without a name key: the dimension's choice,
+    /// else the preset's.
+    pub fn for_dim(&self, dim: Dim) -> Unit {
+        let chosen = |d: Dim| self.by_dim.iter().find(|u| u.dim == d).copied();
+        if let Some(u) = chosen(dim) {
+            return u;
+        }
+        let from = match dim {
+            Dim::PressureDifference => chosen(Dim::Pressure),
+            Dim::TemperatureDifference => chosen(Dim::Temperature),
+            _ => None,
+        };
+        from.and_then(Unit::as_difference)
+            .unwrap_or_else(|| self.preset.unit(dim))
+    }
+}
+
+fn strip_indices(name: &str) -> String {
+    let mut out = String::with_capacity(name.len());
+    let mut depth = 0;
+    for c in name.chars() {
+        match c {
+            '[' => depth += 1,
+            ']' if depth > 0 => depth -= 1,
+            _ if depth == 0 => out.push(c),
+            _ => {}
+        }
+    }
+    out
+}
+
+fn ends_with_segments(name: &str, key: &str) -> bool {
+    name == key
+        || (name.len() > key.len()
+            && name.ends_with(key)
+            && name.as_bytes()[name.len() - key.len() - 1] == b'.')
+}
+
 /// A value with the unit it came in, converted to internal units.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct Parsed {
     /// The value in internal units.
     pub internal: f64,
-    /// The unit it was given in (the preset's when a bare number was given).
+    /// The unit it was given in (the default unit when a bare number was given).
     pub unit: Unit,
 }
 
 /// Splits "42 barg" into (42, "barg"). The number is a decimal floating-point literal.
-fn split_number(text: &str) -> Option<(f64, &str)> {
+fn split_number(text: &str) -> Option<(f64, &str, &str)> {
     let t = text.trim();
     let bytes = t.as_bytes();
     let mut end = 0;
@@ -759,7 +1119,62 @@ fn split_number(text: &str) -> Option<(f64, &str)> {
         return None;
     }
     let value: f64 = t[..end].parse().ok()?;
-    Some((value, t[end..].trim()))
+    Some((value, &t[..end], t[end..].trim()))
+}
+
+/// The error for a number written with digit grouping or a decimal comma ("2,000,000 lb/h",
+/// "3,5 bar", "2 000 000 kg/h", "2'000'000 lb/h"), or None when `rest` (the text after the
+/// number) does not continue it.
+fn grouping_error(quantity: &str, text: &str, number: &str, rest: &str) -> Option<Error> {
+    let sep = rest.chars().next()?;
+    let continues = |r: &str| r.starts_with(|c: char| c.is_ascii_digit());
+    let after = match sep {
+        ',' | '\'' | '\u{2019}' | '_' => &rest[sep.len_utf8()..],
+        // split_number trims the space between groups: "2 000 000" leaves "000 000"; a space
+        // before a unit made of digits ("0.4 1") is no grouping
+        '0'..='9' => {
+            let first = rest.split(' ').next().unwrap_or("");
+            let group = first.len() == 3 && first.bytes().all(|b| b.is_ascii_digit());
+            if !group || number.contains(['.', 'e', 'E']) {
+                return None;
+            }
+            rest
+        }
+        _ => return None,
+    };
+    if !continues(after) {
+        return None;
+    }
+    // The digits and separators of the whole number, and the unit after them.
+    let end = rest
+        .char_indices()
+        .find(|(_, c)| {
+            !(c.is_ascii_digit() || matches!(c, ',' | '\'' | '\u{2019}' | '_' | ' ' | '.'))
+        })
+        .map_or(rest.len(), |(i, _)| i);
+    let (tail, unit) = rest.split_at(end);
+    let groups: Vec<&str> = tail
+        .split([',', '\'', '\u{2019}', '_', ' '])
+        .filter(|g| !g.is_empty())
+        .collect();
+    let grouped = groups
+        .iter()
+        .all(|g| g.len() == 3 || (g.len() > 3 && g.as_bytes()[3] == b'.'));
+    let suggestion = if sep == ',' && !grouped && groups.len() == 1 {
+        format!("{number}.{}", groups[0])
+    } else {
+        format!("{number}{}", groups.concat())
+    };
+    let unit = unit.trim();
+    let example = if unit.is_empty() {
+        suggestion
+    } else {
+        format!("{suggestion} {unit}")
+    };
+    Some(Error::invalid(format!(
+        "{quantity}: '{}' groups digits or uses a decimal comma, which is not accepted; write the number without grouping and with '.' for decimals, e.g. {example}",
+        text.trim()
+    )))
 }
 
 /// Parses a text value such as "42 barg" or "0.91" for a quantity of dimension `dim`.
@@ -771,16 +1186,31 @@ pub fn parse_text(
     preset: Preset,
     ambient: f64,
 ) -> Result<Parsed> {
-    let Some((value, unit_text)) = split_number(text) else {
+    parse_text_in(quantity, dim, text, preset.unit(dim), ambient)
+}
+
+/// Parses a text value such as "42 barg" or "0.91" for a quantity of dimension `dim`; a bare
+/// number is taken in `default` (a unit of `dim`). `ambient` is in MPa.
+pub fn parse_text_in(
+    quantity: &str,
+    dim: Dim,
+    text: &str,
+    default: Unit,
+    ambient: f64,
+) -> Result<Parsed> {
+    let Some((value, number, unit_text)) = split_number(text) else {
         return Err(Error::invalid(format!(
             "{quantity}: '{}' is not a number with an optional unit (e.g. \"{}\")",
             text.trim(),
             example(dim)
         )));
     };
+    if let Some(e) = grouping_error(quantity, text, number, unit_text) {
+        return Err(e);
+    }
     Error::check_finite(quantity, value)?;
     let unit = if unit_text.is_empty() {
-        preset.unit(dim)
+        default
     } else {
         parse_unit(quantity, dim, unit_text)?
     };
@@ -797,8 +1227,12 @@ pub fn parse_number(
     preset: Preset,
     ambient: f64,
 ) -> Result<Parsed> {
+    parse_number_in(quantity, value, preset.unit(dim), ambient)
+}
+
+/// Converts a bare number given in `unit`. `ambient` is in MPa.
+pub fn parse_number_in(quantity: &str, value: f64, unit: Unit, ambient: f64) -> Result<Parsed> {
     Error::check_finite(quantity, value)?;
-    let unit = preset.unit(dim);
     Ok(Parsed {
         internal: unit.to_internal(value, ambient),
         unit,
@@ -808,6 +1242,7 @@ pub fn parse_number(
 fn example(dim: Dim) -> &'static str {
     match dim {
         Dim::Pressure => "42 barg",
+        Dim::PressureDifference => "0.5 bar",
         Dim::Temperature => "410 degC",
         Dim::SpecificEnergy => "1200 Btu/lb",
         Dim::SpecificEntropy => "6.5 kJ/(kg K)",

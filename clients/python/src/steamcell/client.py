@@ -1,9 +1,10 @@
 """The steamcell client: ``connect()``, generic ``call()``, ``state()``, ``batch()`` and one
 generated method per OpenRPC method (``c.turbine_expand(...)`` or ``c.turbine.expand(...)``).
 
-Numbers go to the server as given; they are read in the request's unit preset (``units``,
-default "engineering": MPa, degC, kJ/kg, kJ/(kg K), kg/s, kW). Strings carry their own unit
-("42 barg", "410 degC"). Results are in the preset and list their units.
+Numbers go to the server as given; they are read in the request's units (``units``: a preset,
+default "engineering": MPa, degC, kJ/kg, kJ/(kg K), kg/s, kW; or a dict of units per quantity
+such as ``{"preset": "bar", "p": "barg", "flow": "t/h"}``). Strings carry their own unit
+("42 barg", "410 degC"). Results are in the request's units and list them.
 """
 
 from __future__ import annotations
@@ -90,11 +91,13 @@ class Client:
         return resp["result"]
 
     # -- conveniences
-    def state(self, units: Optional[str] = None, ambient: Any = None, **kwargs: Any) -> State:
+    def state(self, units: Any = None, ambient: Any = None, **kwargs: Any) -> State:
         """One state from two properties, e.g. ``c.state(p="42 barg", T="410 degC")``.
 
         State keys (p, T, h, s, u, v, rho, x) form ``given``; other keywords (formulation,
-        backward_only, metastable, prefer) are passed on. Bare numbers are in ``units``.
+        backward_only, metastable, prefer) are passed on. Bare numbers and the answer are in
+        ``units``: a preset name or a dict of units per quantity, e.g. ``{"p": "barg", "T":
+        "degC"}``.
         """
         given = {k: v for k, v in kwargs.items() if k in STATE_KEYS}
         params: Dict[str, Any] = {k: v for k, v in kwargs.items() if k not in STATE_KEYS}
@@ -126,11 +129,15 @@ class Client:
             raise errors.TransportError(f"/health answered {status}: {text}")
         return text.strip()
 
-    def cell(self, quantity: str, units: Optional[str] = None, **given: Any) -> float:
-        """One number from the spreadsheet endpoint ``GET /cell/{quantity}?...``."""
+    def cell(self, quantity: str, units: Any = None, unit: Optional[str] = None,
+             **given: Any) -> float:
+        """One number from the spreadsheet endpoint ``GET /cell/{quantity}?...``: ``units`` a
+        preset or a dict of units per quantity, ``unit`` the unit of the answer itself."""
         query = dict(given)
         if units:
-            query["units"] = units
+            query["units"] = _units_text(units)
+        if unit:
+            query["unit"] = unit
         path = f"/cell/{urllib.parse.quote(quantity)}?" + urllib.parse.urlencode(
             {k: str(v) for k, v in query.items()}, quote_via=urllib.parse.quote)
         status, text = self._http().get(path)
@@ -139,14 +146,17 @@ class Client:
         return float(text)
 
     def site(self, name: str, quantity: str, changes: Optional[Dict[str, Any]] = None,
-             units: Optional[str] = None) -> float:
+             units: Any = None, unit: Optional[str] = None) -> float:
         """One number of a site registered with ``serve --site NAME=FILE``, from
         ``GET /site/{name}/{quantity}?...``: ``quantity`` is a site total (``"net_power"``) or a
         dotted path into the ``balance.solve`` result (``"units.BPT.power"``); ``changes`` maps
-        specification paths to values, e.g. ``{"units.MP_users.demand": "40 t/h"}``."""
+        specification paths to values, e.g. ``{"units.MP_users.demand": "40 t/h"}``; ``units``
+        a preset or a dict of units per quantity, ``unit`` the unit of the answer ("MW")."""
         query = {k: str(v) for k, v in (changes or {}).items()}
         if units:
-            query["units"] = units
+            query["units"] = _units_text(units)
+        if unit:
+            query["unit"] = unit
         path = (f"/site/{urllib.parse.quote(name)}/{urllib.parse.quote(quantity)}?"
                 + urllib.parse.urlencode(query, quote_via=urllib.parse.quote))
         status, text = self._http().get(path)
@@ -159,33 +169,44 @@ class Client:
             raise errors.TransportError("this needs an HTTP connection, not stdio")
         return self._tr
 
-    def batch(self, data: Any, given: Optional[Dict[str, Any]] = None, units: Optional[str] = None,
+    def batch(self, data: Any, given: Optional[Dict[str, Any]] = None, units: Any = None,
               want: Optional[Sequence[str]] = None, chunk: Optional[int] = None,
               progress: bool = True, packed: Optional[bool] = None,
-              **opts: Any) -> Any:
+              unit_suffix: bool = False, pint: bool = False, **opts: Any) -> Any:
         """Properties for many states (historian columns) through ``water.batch``.
 
         ``data``: a pandas, polars or Dask DataFrame, a pyarrow Table, an xarray Dataset or a
         dict of lists or numpy arrays. ``given`` maps a state key to a column name, e.g.
-        ``{"p": "p_bar", "T": "T_C"}``, or to ``(column, unit)`` to send every value as
-        "<number> <unit>". Without ``given`` the columns named like state keys are used. Numbers
-        are read in ``units`` (default engineering). Rows go in chunks of ``chunk`` with a
-        progress bar (tqdm if installed, else a line on stderr) when ``progress``.
+        ``{"p": "p_bar", "T": "T_C"}``, or to ``(column, unit)`` for a column of numbers in that
+        unit, e.g. ``{"p": ("p_barg", "barg"), "T": ("T_C", "degC")}``; a pint-pandas column
+        brings its own unit. Without ``given`` the columns named like state keys are used.
+        Untagged numbers are read in ``units``: a preset name (default "engineering") or an
+        object with units per quantity, which also sets each result column's unit, e.g.
+        ``{"preset": "bar", "h": "Btu/lb", "p": "psig"}``. Rows go in chunks of ``chunk`` with
+        a progress bar (tqdm if installed, else a line on stderr) when ``progress``.
 
         Returns the same kind of table as ``data`` (a dict of numpy arrays for a dict when numpy
         is installed, else of lists) with one column per ``want`` plus ``errors`` (None or the
         row's message). A bad row gives NaN and its error; only a bad request as a whole
-        raises. A Dask DataFrame gives a lazy Dask DataFrame (see :mod:`steamcell.dask`): each
-        partition is computed on its worker by the worker's own engine, or by this client's
-        server when it is a URL.
+        raises. Each column's unit travels with it: ``df.attrs["units"]`` for pandas (and
+        ``units`` on a dict result), field metadata ``unit`` and schema metadata ``units`` for
+        pyarrow, each variable's ``attrs["units"]`` for xarray; ``unit_suffix=True`` names the
+        columns with their units ("h [kJ/kg]"), the only place polars has for them.
+        ``pint=True`` (pandas, with the ``pint`` extra: pint and pint-pandas) gives pint
+        quantity columns (a gauge pressure, which pint cannot express, stays a float column
+        with its unit in ``attrs``). A Dask DataFrame gives a lazy Dask DataFrame (see
+        :mod:`steamcell.dask`): each partition is computed on its worker by the worker's own
+        engine, or by this client's server when it is a URL.
 
-        With numpy installed and plain numeric columns (``packed`` not False, no "phase" in
-        ``want``) the numbers travel packed: ``POST /columns`` with raw little-endian doubles
-        over HTTP, ``water.batch`` with base64 ``f64le`` columns over stdio; chunks of
-        ``chunk`` rows (default 250,000) on a kept-alive connection (``formulation`` other
-        than IF97: packed ``water.batch`` over HTTP too). The numbers are the same bit for bit
-        as on the JSON path (default chunk 50,000), which ``packed=False`` forces.
-        ``last_packed_route`` tells which packed route the last call took (None: JSON).
+        With numpy installed and numeric columns (``packed`` not False), tagged or not, and
+        with "phase" wanted, the numbers travel packed: ``POST /columns`` with raw
+        little-endian doubles and a unit per column over HTTP, ``water.batch`` with base64
+        ``f64le`` columns over stdio; "phase" comes back as codes with a legend and is decoded
+        here; chunks of ``chunk`` rows (default 250,000) on a kept-alive connection
+        (``formulation`` other than IF97: packed ``water.batch`` over HTTP too). The numbers
+        are the same bit for bit as on the JSON path (default chunk 50,000), which
+        ``packed=False`` forces. ``last_packed_route`` tells which packed route the last call
+        took (None: JSON).
         """
         if _is_dask(data):
             from . import dask as _dask
@@ -204,6 +225,9 @@ class Client:
                 raise errors.InvalidInput(
                     f"column {col_name!r} (for {key}) is not in the data; its columns: "
                     + ", ".join(map(repr, frame.names)))
+        # a pint-pandas column carries its unit: (column, unit)
+        given = {k: (spec if isinstance(spec, tuple) else frame.tagged(spec))
+                 for k, spec in given.items()}
         lengths = {len(frame.column(spec[0] if isinstance(spec, tuple) else spec))
                    for spec in given.values()}
         if len(lengths) != 1:
@@ -215,7 +239,7 @@ class Client:
             table = self._batch_packed(frame, given, units, want_list, chunk, progress, opts)
         if table is None:
             table = self._batch_json(frame, given, units, want_list, chunk, progress, opts)
-        return frame.result(table, want_list)
+        return frame.result(table, want_list, unit_suffix=unit_suffix, pint=pint)
 
     def _dask_engine(self) -> Dict[str, Any]:
         """Where Dask workers compute: this client's server when it was given by URL, else
@@ -228,13 +252,16 @@ class Client:
     def _batch_json(self, frame, given, units, want_list, chunk, progress, opts):
         chunk = chunk or 50000
         inputs: Dict[str, List[Any]] = {}
+        tags: Dict[str, str] = {}
         bad: Dict[int, str] = {}
         n = frame.n
         for key, spec in given.items():
             col_name, unit = (spec if isinstance(spec, tuple) else (spec, None))
+            if unit:
+                tags[key] = unit
             vals: List[Any] = []
             for i, v in enumerate(frame.values(col_name)):
-                item, why = _cell(v, unit)
+                item, why = _cell(v)
                 if why:
                     bad.setdefault(i, f"row {i}: {key} ({col_name}) {why}")
                 vals.append(item)
@@ -251,12 +278,17 @@ class Client:
         if units is not None:
             base["units"] = units
         row_re = re.compile(r"^row (\d+):\s*")
+        col_units: Dict[str, str] = {}
         try:
             for start in range(0, len(good), chunk):
                 rows = good[start:start + chunk]
                 params = dict(base)
-                params["given"] = {k: [inputs[k][i] for i in rows] for k in inputs}
+                params["given"] = {
+                    k: ({"values": [inputs[k][i] for i in rows], "unit": tags[k]} if k in tags
+                        else [inputs[k][i] for i in rows])
+                    for k in inputs}
                 res = self.call_raw("water.batch", params)
+                col_units = dict(res.get("units", {}))
                 cols = res.get("columns", {})
                 for w in want_list:
                     values = cols.get(w, [])
@@ -276,14 +308,15 @@ class Client:
                                      [nan if v is None else v for v in out[w]])
                                  for w in want_list}
         table["errors"] = errs
+        table["__units__"] = col_units
         return table
 
     # -- packed columns (numpy present): numbers travel as raw little-endian doubles
     PACKED_CHUNK = 250_000
 
     def _batch_packed(self, frame, given, units, want_list, chunk, progress, opts):
-        """The packed path of :meth:`batch`, or None when it does not apply (no numpy,
-        columns that are not plain numbers, unit tuples in ``given``, or "phase" wanted)."""
+        """The packed path of :meth:`batch`, or None when it does not apply (no numpy, or a
+        column that is not numbers)."""
         try:
             import numpy as np  # type: ignore
         except ImportError:
@@ -291,19 +324,20 @@ class Client:
         if opts.get("encoding") == "json":
             return None
         opts = {k: v for k, v in opts.items() if k != "encoding"}
-        if "phase" in want_list:
-            return None
-        if any(not isinstance(v, str) for v in given.values()):
-            return None
         arrays = []
-        for col in given.values():
+        col_tags: Dict[str, str] = {}
+        for key, spec in given.items():
+            col, unit = (spec if isinstance(spec, tuple) else (spec, None))
             a = frame.numeric(col)
             if a is None:
                 return None
             arrays.append(a)
+            if unit:
+                col_tags[key] = unit
         n = frame.n
         keys = list(given.keys())
-        out = {w: np.empty(n, dtype="<f8") for w in want_list}
+        out = {w: (np.empty(n, dtype=object) if w == "phase" else np.empty(n, dtype="<f8"))
+               for w in want_list}
         errs: List[Optional[str]] = [None] * n
         step = max(1, int(chunk or self.PACKED_CHUNK))
         bar = _Progress(n, enabled=progress and n > 0)
@@ -316,32 +350,45 @@ class Client:
         if str(opts.get("formulation", "if97")).lower() not in ("if97", "iapws-if97"):
             post = None
         self.last_packed_route = "/columns" if post is not None else "water.batch f64le"
+        col_units: Dict[str, str] = {}
         try:
-            for start in range(0, n, step):
+            for start in range(0, max(n, 1), step):
                 stop = min(n, start + step)
-                cols, failed = self._packed_chunk(np, post, keys, want_list, header_base,
-                                                  arrays[0][start:stop], arrays[1][start:stop])
+                cols, failed, head = self._packed_chunk(
+                    np, post, keys, col_tags, want_list, header_base,
+                    arrays[0][start:stop], arrays[1][start:stop])
+                col_units = dict(head.get("units", {}))
+                legends = head.get("legends", {})
                 for w, c in zip(want_list, cols):
-                    out[w][start:stop] = c
+                    if w in legends:
+                        out[w][start:stop] = _decode(np, c, legends[w])
+                    else:
+                        out[w][start:stop] = c
                 for e in failed:
                     i = start + int(e["row"])
                     msg = re.sub(r"^row \d+:\s*", "", str(e.get("message", "")))
                     errs[i] = f"row {i}: [{e.get('code')}] {msg}"
                 bar.update(stop - start)
+                if n == 0:
+                    break
         finally:
             bar.close()
         table: Dict[str, Any] = dict(out)
         table["errors"] = errs
+        table["__units__"] = col_units
         return table
 
-    def _packed_chunk(self, np, post, keys, want_list, header_base, a, b):
-        """One chunk: POST /columns over HTTP, else water.batch with f64le columns."""
+    def _packed_chunk(self, np, post, keys, col_tags, want_list, header_base, a, b):
+        """One chunk: POST /columns over HTTP, else water.batch with f64le columns. Returns the
+        columns, the failed rows and the answer's header (units, legends)."""
         import base64
         import json as _json
         import struct
         rows = len(a)
         if post is not None:
             header = dict(header_base, given=keys, rows=rows, want=want_list)
+            if col_tags:
+                header["given_units"] = col_tags
             head = _json.dumps(header).encode()
             body = b"".join((struct.pack("<I", len(head)), head, a.tobytes(), b.tobytes()))
             status, ctype, data = post("/columns", body, "application/x-steamcell-columns")
@@ -355,14 +402,37 @@ class Client:
             head = _json.loads(data[4:4 + hl])
             arr = np.frombuffer(data, dtype="<f8", offset=4 + hl)
             cols = [arr[k * rows:(k + 1) * rows] for k in range(len(want_list))]
-            return cols, head.get("failed_rows", [])
-        enc = lambda x: {"f64le": base64.b64encode(x.tobytes()).decode("ascii")}  # noqa: E731
-        params = dict(header_base, given={keys[0]: enc(a), keys[1]: enc(b)},
+            return cols, head.get("failed_rows", []), head
+
+        def enc(key, x):
+            col = {"f64le": base64.b64encode(x.tobytes()).decode("ascii")}
+            if key in col_tags:
+                col["unit"] = col_tags[key]
+            return col
+        params = dict(header_base, given={keys[0]: enc(keys[0], a), keys[1]: enc(keys[1], b)},
                       want=want_list, encoding="f64le")
         res = self.call_raw("water.batch", params)
         cols = [np.frombuffer(base64.b64decode(res["columns"][w]["f64le"]), dtype="<f8")
                 for w in want_list]
-        return cols, res.get("failed_rows", [])
+        return cols, res.get("failed_rows", []), res
+
+
+def _decode(np, codes, legend):
+    """Texts from the codes of a packed text column (NaN: None)."""
+    out = np.empty(len(codes), dtype=object)
+    ok = ~np.isnan(codes)
+    names = np.asarray(legend, dtype=object)
+    out[ok] = names[codes[ok].astype(np.int64)]
+    out[~ok] = None
+    return out
+
+
+def _units_text(units: Any) -> str:
+    """The ``units`` of a GET query: a preset name as it is, a dict as JSON text."""
+    if isinstance(units, dict):
+        import json as _json
+        return _json.dumps(units)
+    return str(units)
 
 
 def _is_dask(data: Any) -> bool:
@@ -407,6 +477,14 @@ class _Frame:
             return d[name].values.reshape(-1)
         return d[name]
 
+    def tagged(self, name: str) -> Any:
+        """``name``, or ``(name, unit)`` for a pint-pandas column (its magnitudes travel, in the
+        unit of its dtype)."""
+        if self.kind != "pandas":
+            return name
+        unit = _pint_unit(self.data[name])
+        return (name, unit) if unit else name
+
     def numeric(self, name: str) -> Any:
         """The column as contiguous little-endian doubles, or None when it is not numeric."""
         import numpy as np  # type: ignore
@@ -422,6 +500,8 @@ class _Frame:
                     return None
                 a = col.cast(pa.float64()).to_numpy()
             else:
+                if _pint_unit(col):
+                    col = col.pint.magnitude
                 a = np.asarray(col)
                 if a.dtype.kind not in "iuf":
                     return None
@@ -431,47 +511,130 @@ class _Frame:
 
     def values(self, name: str) -> List[Any]:
         col = self.column(name)
+        if self.kind == "pandas" and _pint_unit(col):
+            col = col.pint.magnitude
         if self.kind in ("polars", "arrow"):
             return col.to_list() if self.kind == "polars" else col.to_pylist()
         if hasattr(col, "tolist"):
             return col.tolist()
         return list(col)
 
-    def result(self, table: Dict[str, Any], want_list: List[str]) -> Any:
+    def result(self, table: Dict[str, Any], want_list: List[str], unit_suffix: bool = False,
+               pint: bool = False) -> Any:
         errs = table["errors"]
+        units = {w: u for w, u in table.get("__units__", {}).items() if w in want_list}
+        ambient = table.get("__units__", {}).get("ambient")
+        names = {w: (f"{w} [{units[w]}]" if unit_suffix and w in units else w)
+                 for w in want_list}
         kind = self.kind
         if kind == "pandas":
             import pandas as pd  # type: ignore
-            frame = pd.DataFrame({w: table[w] for w in want_list}, index=self.data.index)
+            cols = {}
+            for w in want_list:
+                cols[names[w]] = table[w]
+                if pint and w in units:
+                    q = _pint_array(table[w], units[w])
+                    if q is not None:
+                        cols[names[w]] = q
+            frame = pd.DataFrame(cols, index=self.data.index)
             frame["errors"] = pd.Series(errs, index=self.data.index, dtype=object)
+            frame.attrs["units"] = {names[w]: units[w] for w in want_list if w in units}
+            if ambient:
+                frame.attrs["ambient"] = ambient
             return frame
         if kind == "polars":
             import polars as pl  # type: ignore
-            cols = [pl.Series(w, table[w], dtype=pl.Utf8 if w == "phase" else pl.Float64)
+            cols = [pl.Series(names[w], table[w], dtype=pl.Utf8 if w == "phase" else pl.Float64)
                     for w in want_list]
             cols.append(pl.Series("errors", errs, dtype=pl.Utf8))
             return pl.DataFrame(cols)
         if kind == "arrow":
+            import json as _json
             import pyarrow as pa  # type: ignore
-            arrays = [pa.array(table[w], type=pa.string() if w == "phase" else pa.float64())
-                      for w in want_list]
+            fields = []
+            arrays = []
+            for w in want_list:
+                typ = pa.string() if w == "phase" else pa.float64()
+                meta = {b"unit": units[w].encode()} if w in units else None
+                fields.append(pa.field(names[w], typ, metadata=meta))
+                arrays.append(pa.array(table[w], type=typ))
+            fields.append(pa.field("errors", pa.string()))
             arrays.append(pa.array(errs, type=pa.string()))
-            return pa.table(arrays, names=want_list + ["errors"])
+            meta = {b"units": _json.dumps({names[w]: units[w] for w in want_list
+                                           if w in units}).encode()}
+            if ambient:
+                meta[b"ambient"] = ambient.encode()
+            return pa.Table.from_arrays(arrays, schema=pa.schema(fields, metadata=meta))
         if kind == "xarray":
             import numpy as np  # type: ignore
             import xarray as xr  # type: ignore
             first = self.data[self.names[0]]
             shape, dims = first.shape, first.dims
-            out = {w: (dims, np.asarray(table[w], dtype=object if w == "phase" else "f8")
-                       .reshape(shape)) for w in want_list}
+            out = {}
+            for w in want_list:
+                arr = np.asarray(table[w], dtype=object if w == "phase" else "f8").reshape(shape)
+                out[names[w]] = xr.Variable(dims, arr,
+                                            attrs={"units": units[w]} if w in units else {})
             out["errors"] = (dims, np.asarray(errs, dtype=object).reshape(shape))
-            return xr.Dataset(out, coords=first.coords)
-        result: Dict[str, Any] = {w: table[w] for w in want_list}
+            ds = xr.Dataset(out, coords=first.coords)
+            if ambient:
+                ds.attrs["ambient"] = ambient
+            return ds
+        result = Columns({names[w]: table[w] for w in want_list})
         result["errors"] = errs
+        result.units = {names[w]: units[w] for w in want_list if w in units}
+        result.ambient = ambient
         return result
 
 
-def _cell(v: Any, unit: Optional[str]) -> Tuple[Any, Optional[str]]:
+class Columns(dict):
+    """The dict a batch of a dict gives back: one entry per column, with ``units`` (column ->
+    unit) and ``ambient`` (the ambient pressure of a gauge unit, or None) as attributes."""
+
+    units: Dict[str, str] = {}
+    ambient: Optional[str] = None
+
+
+def _pint_unit(col: Any) -> Optional[str]:
+    """The unit of a pint-pandas column as a steamcell spelling, or None for any other column."""
+    dtype = getattr(col, "dtype", None)
+    units = getattr(dtype, "units", None)
+    if units is None or type(dtype).__name__ != "PintType":
+        return None
+    text = format(units, "~C")  # compact abbreviated: "kJ/kg", "degC", "m**3/kg"
+    return PINT_TO_STEAMCELL.get(text, text.replace("**", "^").replace("°", "deg"))
+
+
+# pint spellings that steamcell spells otherwise (pint's compact abbreviated form on the left).
+# pint has no gauge pressures: a pint pressure is absolute, so pint's psi is psia.
+PINT_TO_STEAMCELL = {"psi": "psia", "Δ°C": "K", "Δ°F": "degF", "kJ/K/kg": "kJ/(kg K)",
+                     "J/K/kg": "J/(kg K)", "Btu/lb/Δ°F": "Btu/(lb F)", "%": "%"}
+# steamcell spellings that pint spells otherwise; None: pint cannot express it (gauge pressure)
+STEAMCELL_TO_PINT = {"psia": "psi", "barg": None, "psig": None, "kPag": None, "MPag": None,
+                     "kgf/cm2g": None, "1": "dimensionless", "m3/kg": "m**3/kg",
+                     "kg/m3": "kg/m**3", "ft3/lb": "ft**3/lb", "lb/ft3": "lb/ft**3",
+                     "mm2/s": "mm**2/s", "m2/s": "m**2/s", "ft2/s": "ft**2/s", "ft2/h": "ft**2/h",
+                     "W/(m2 K)": "W/(m**2 K)", "Btu/(h ft2 F)": "Btu/(h ft**2 degF)",
+                     "Btu/(lb F)": "Btu/(lb delta_degF)", "Btu/(h ft F)": "Btu/(h ft delta_degF)",
+                     "kcal/(kg K)": "kcal/(kg K)", "kgf/cm2": "kgf/cm**2", "%": "percent"}
+
+
+def _pint_array(values: Any, unit: str) -> Any:
+    """A pint-pandas array of ``values`` in ``unit``, or None when pint cannot express the unit
+    (a gauge pressure) or pint-pandas is not installed."""
+    try:
+        import pint_pandas  # type: ignore  # noqa: F401
+    except ImportError as e:
+        raise errors.InvalidInput(
+            "batch(pint=True) needs pint-pandas: pip install steamcell[pint]") from e
+    spelled = STEAMCELL_TO_PINT.get(unit, unit)
+    if spelled is None:
+        return None
+    import pandas as pd  # type: ignore
+    return pd.array(list(values), dtype=f"pint[{spelled}]")
+
+
+def _cell(v: Any) -> Tuple[Any, Optional[str]]:
     """(wire value, reason it is bad or None) for one input cell."""
     if v is None:
         return 0.0, "is empty"
@@ -483,8 +646,6 @@ def _cell(v: Any, unit: Optional[str]) -> Tuple[Any, Optional[str]]:
         return 0.0, f"is not a number: {v!r}"
     if not math.isfinite(x):
         return 0.0, f"is not finite ({x})"
-    if unit:
-        return f"{x!r} {unit}", None
     return x, None
 
 

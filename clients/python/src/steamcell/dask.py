@@ -27,8 +27,10 @@ computation with :class:`steamcell.WorkerEngineLost` naming the worker, the engi
 partition's rows, never with fewer rows. Each worker reports its own lost engine once; a
 computation after that starts a fresh engine there.
 
-Inputs must be numeric columns in the preset ``units`` (default engineering: MPa, degC, ...);
-a missing column or a column of text is refused when the graph is built, before anything runs.
+Inputs must be numeric columns, in the request's ``units`` (default engineering: MPa, degC,
+...) or each in its own unit (``given={"p": ("p_barg", "barg")}``); a missing column or a
+column of text is refused when the graph is built, before anything runs. "phase" travels
+packed as codes and comes back as text.
 """
 
 from __future__ import annotations
@@ -168,8 +170,9 @@ def _partition(df, spec: _EngineSpec, given: Dict[str, str], want: List[str],
         return _meta(want, df.index)
     c = _engine(spec)
     first, last = df.index[0], df.index[-1]
+    names = [spec[0] if isinstance(spec, tuple) else spec for spec in given.values()]
     try:
-        out = c.batch(df[list(given.values())], given=given, want=want, units=units, chunk=chunk,
+        out = c.batch(df[names], given=given, want=want, units=units, chunk=chunk,
                       progress=False, **opts)
     except errors.TransportError as e:
         with _LOCK:
@@ -197,7 +200,8 @@ def _partition(df, spec: _EngineSpec, given: Dict[str, str], want: List[str],
 
 def _meta(want: Sequence[str], index):
     import pandas as pd  # type: ignore
-    cols = {w: pd.Series([], dtype="float64", index=index[:0]) for w in want}
+    cols = {w: pd.Series([], dtype="object" if w == "phase" else "float64", index=index[:0])
+            for w in want}
     frame = pd.DataFrame(cols, index=index[:0])
     frame["errors"] = pd.Series([], dtype="string", index=index[:0])
     return frame
@@ -211,8 +215,9 @@ def batch(ddf: Any, given: Optional[Dict[str, str]] = None,
     """States of every row of a Dask DataFrame, as a lazy Dask DataFrame (see the module).
 
     ``given`` maps two state keys to numeric columns (``{"p": "p_MPa", "T": "T_C"}``; default:
-    the columns named like state keys), read in ``units``; ``want`` lists numeric properties
-    (default T, p, h, s, v, x). ``server``: a team server URL instead of an engine per worker.
+    the columns named like state keys), read in ``units``, or to ``(column, unit)`` for a column
+    in its own unit (``{"p": ("p_barg", "barg")}``); ``want`` lists properties (default T, p,
+    h, s, v, x; "phase" travels packed as codes too). ``server``: a team server URL instead of an engine per worker.
     Other keywords (``formulation``, ``backward_only``, ...) go to ``water.batch``.
     """
     import pandas as pd  # type: ignore
@@ -223,11 +228,8 @@ def batch(ddf: Any, given: Optional[Dict[str, str]] = None,
         raise errors.InvalidInput(
             f"steamcell.dask.batch needs exactly two state columns in `given`, got {list(given)} "
             f"(the frame's columns: {', '.join(columns)})")
-    for key, col in given.items():
-        if isinstance(col, tuple):
-            raise errors.InvalidInput(
-                f"given[{key!r}] = {col!r}: on Dask the columns must be numbers in the preset "
-                f"`units`; convert the column first (units=... names the preset)")
+    for key, spec in given.items():
+        col = spec[0] if isinstance(spec, tuple) else spec
         if col not in columns:
             raise errors.InvalidInput(
                 f"the Dask DataFrame has no column {col!r} (for {key}); its columns: "
@@ -240,10 +242,6 @@ def batch(ddf: Any, given: Optional[Dict[str, str]] = None,
                 f"first, e.g. ddf[{col!r}] = dd.to_numeric(ddf[{col!r}], errors='coerce') (text "
                 f"that is not a number then gives NaN and a row error)")
     want_list = list(want) if want is not None else list(DEFAULT_WANT)
-    if "phase" in want_list:
-        raise errors.InvalidInput(
-            "want: 'phase' is text and does not travel packed; on Dask want 'x' and 'region' "
-            "(numbers) instead")
     spec = _EngineSpec(server, server_token, binary, timeout)
     _register_plugin()
     meta = _meta(want_list, ddf._meta.index)
