@@ -1,7 +1,8 @@
 //! Engineering units: parsing of values with units ("42 barg", "410 degC", "1200 Btu/lb"), the three
 //! output presets (`si`, `engineering`, `us`) and conversion to and from the internal units of the
 //! physics layer (p MPa, T K, h u kJ/kg, s cp cv kJ/(kg K), v m3/kg, rho kg/m3, w m/s, flow kg/s,
-//! power and heat flow kW, viscosity Pa s, conductivity W/(m K), surface tension N/m).
+//! power and heat flow kW, viscosity Pa s, conductivity W/(m K), surface tension N/m, area m2,
+//! volume flow m3/s).
 //!
 //! Invariant: this is the only module that knows unit spellings; every conversion factor is an
 //! exact definition (international foot and pound, thermochemical-free IT Btu) cited where declared.
@@ -68,6 +69,10 @@ pub enum Dim {
     HeatFlowPerLength,
     /// Heat-transfer coefficient (internal W/(m2 K)).
     HeatTransferCoefficient,
+    /// Area, e.g. a turbine's exhaust annulus (internal m2).
+    Area,
+    /// Volume flow, e.g. a turbine's exhaust volume flow (internal m3/s).
+    VolumeFlow,
 }
 
 impl Dim {
@@ -102,11 +107,13 @@ impl Dim {
             Dim::PricePerMass => "price per mass",
             Dim::HeatFlowPerLength => "heat flow per length",
             Dim::HeatTransferCoefficient => "heat-transfer coefficient",
+            Dim::Area => "area",
+            Dim::VolumeFlow => "volume flow",
         }
     }
 
     /// Every dimension, for listing and tests.
-    pub const ALL: [Dim; 28] = [
+    pub const ALL: [Dim; 30] = [
         Dim::Pressure,
         Dim::Temperature,
         Dim::TemperatureDifference,
@@ -135,6 +142,8 @@ impl Dim {
         Dim::PricePerMass,
         Dim::HeatFlowPerLength,
         Dim::HeatTransferCoefficient,
+        Dim::Area,
+        Dim::VolumeFlow,
     ];
 }
 
@@ -486,6 +495,30 @@ const UNITS: &[(&str, Unit)] = &[
             BTU_KJ * 1e3 / 3600.0 / (FT * FT) / F_K,
         ),
     ),
+    // area
+    ("m2", u("m2", Dim::Area, 1.0)),
+    ("m^2", u("m2", Dim::Area, 1.0)),
+    ("m²", u("m2", Dim::Area, 1.0)),
+    ("cm2", u("cm2", Dim::Area, 1e-4)),
+    ("mm2", u("mm2", Dim::Area, 1e-6)),
+    ("ft2", u("ft2", Dim::Area, FT * FT)),
+    ("ft^2", u("ft2", Dim::Area, FT * FT)),
+    ("ft²", u("ft2", Dim::Area, FT * FT)),
+    ("sqft", u("ft2", Dim::Area, FT * FT)),
+    ("in2", u("in2", Dim::Area, FT * FT / 144.0)),
+    // volume flow
+    ("m3/s", u("m3/s", Dim::VolumeFlow, 1.0)),
+    ("m^3/s", u("m3/s", Dim::VolumeFlow, 1.0)),
+    ("m³/s", u("m3/s", Dim::VolumeFlow, 1.0)),
+    ("m3/h", u("m3/h", Dim::VolumeFlow, 1.0 / 3600.0)),
+    ("L/s", u("L/s", Dim::VolumeFlow, 1e-3)),
+    ("ft3/s", u("ft3/s", Dim::VolumeFlow, FT * FT * FT)),
+    ("cfs", u("ft3/s", Dim::VolumeFlow, FT * FT * FT)),
+    (
+        "ft3/min",
+        u("ft3/min", Dim::VolumeFlow, FT * FT * FT / 60.0),
+    ),
+    ("cfm", u("ft3/min", Dim::VolumeFlow, FT * FT * FT / 60.0)),
 ];
 
 /// A named set of output units.
@@ -617,6 +650,10 @@ impl Preset {
             (Preset::Us, Dim::HeatFlowPerLength) => "Btu/(hft)",
             (Preset::Si | Preset::Engineering, Dim::HeatTransferCoefficient) => "W/(m2K)",
             (Preset::Us, Dim::HeatTransferCoefficient) => "Btu/(hft2F)",
+            (Preset::Si | Preset::Engineering, Dim::Area) => "m2",
+            (Preset::Us, Dim::Area) => "ft2",
+            (Preset::Si | Preset::Engineering, Dim::VolumeFlow) => "m3/s",
+            (Preset::Us, Dim::VolumeFlow) => "ft3/s",
         };
         lookup(dim, symbol).expect("every preset unit is in the table")
     }
@@ -816,6 +853,7 @@ fn example(dim: Dim) -> &'static str {
         Dim::Length => "50 mm",
         Dim::PricePerEnergy => "30 EUR/MWh",
         Dim::PricePerMass => "25 $/t",
+        Dim::Area => "28 m2",
         _ => "1.5",
     }
 }
