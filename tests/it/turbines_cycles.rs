@@ -1220,6 +1220,18 @@ fn issue15_repro4_exhaust_temperature_at_saturation_is_refused() {
         json!({"inlet": {"p": "10 bar", "T": "200 degC"}, "outlet_p": "2 bar",
                "outlet": {"x": 0.95}}),
     );
+    assert_eq!(wet["warnings"], json!([]));
+    // a temperature just above saturation is accepted with a warning: it may be wet
+    let near_sat = call(
+        "turbine.expand",
+        json!({"inlet": {"p": "10 bar", "T": "300 degC"}, "outlet_p": "2 bar",
+               "outlet": {"T": "121.2 degC"}}),
+    );
+    let w = near_sat["warnings"].to_string();
+    assert!(
+        w.contains("above saturation") && w.contains("may be wet"),
+        "{w}"
+    );
     let i = pt(1.0, 200.0 + C).unwrap();
     let h2 = state::at_px(0.2, 0.95).unwrap().props.h;
     let h2s = ps(0.2, i.props.s).unwrap().props.h;

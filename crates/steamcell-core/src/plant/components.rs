@@ -654,8 +654,26 @@ pub fn turbine_expand_with(
             )
         }
     };
-    finish_expansion(inlet, &ti, line.0, line.1, flow, opts)
+    let mut ex = finish_expansion(inlet, &ti, line.0, line.1, flow, opts)?;
+    if let TurbineSpec::Outlet(out) = spec {
+        if let Some(sh) = superheat_of(&out) {
+            if sh < MEASURED_SUPERHEAT_WARNING {
+                // warning code: turbine.measured_outlet.near_saturation
+                // meaning: a measured exhaust temperature within about 2 K of saturation cannot
+                // tell a dry exhaust from a wet one within a thermocouple's uncertainty (about
+                // 1 K; common practice, no source).
+                ex.warnings.push(format!(
+                    "the measured exhaust is only {sh:.2} K above saturation: within a thermocouple's uncertainty (about 1 K) it may be wet, where a temperature cannot fix the state; confirm with the exhaust quality or a heat balance"
+                ));
+            }
+        }
+    }
+    Ok(ex)
 }
+
+/// Measured exhaust superheat below which a warning is given, K (a thermocouple's uncertainty
+/// of about 1 K, with a margin; common practice, no source).
+pub const MEASURED_SUPERHEAT_WARNING: f64 = 2.0;
 
 /// The common tail of an expansion: second-law check, leaving loss, warnings, drive, balance.
 fn finish_expansion(
