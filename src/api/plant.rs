@@ -2167,6 +2167,11 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
             .map(|x| ctx.value("net_power", Dim::Power, x))
             .transpose()?,
     };
+    if p.reheat_dp.is_some() && reheat.is_none() {
+        return Err(Error::invalid(
+            "reheat_dp needs a reheat (reheat_p and reheat_T)",
+        ));
+    }
     let plant = cy::RankinePlant {
         efficiency_basis: efficiency_basis(&p.efficiency_basis, c::EfficiencyBasis::Section)?,
         crossover_p: p

@@ -1568,6 +1568,7 @@ fn bad_plant_inputs_are_refused_specifically() {
         ),
         (cyc(json!({"crossover_p": "200 bar"})), &["crossover_p"]),
         (cyc(json!({"reheat_dp": "1 bar"})), &["reheat_dp", "reheat"]),
+        (cyc(json!({"reheat_dp": "5 %"})), &["reheat_dp", "reheat"]),
         (
             cyc(
                 json!({"reheat_p": "30 bar", "reheat_T": "540 degC", "reheat_dp": "3 bar",
