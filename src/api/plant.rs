@@ -28,14 +28,14 @@ pub fn methods() -> Vec<MethodSpec> {
         MethodSpec::new::<TurbineParams, TurbineResult>(
             "turbine.expand",
             "Steam turbine expansion with an isentropic efficiency or from a measured outlet",
-            concat!("Give the inlet stream, the outlet pressure and either the isentropic efficiency or the measured outlet (temperature, or quality for a wet exhaust). Returns inlet, actual and isentropic outlet states, specific work, power (with a flow), the efficiency and the exhaust moisture. Warns above about 12 % exhaust moisture (common practice) and near the critical point.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
+            concat!("Give the inlet stream, the outlet pressure and either the isentropic efficiency or the measured outlet (temperature, or quality for a wet exhaust). Returns inlet, actual and isentropic outlet states, specific work, power (with a flow), the efficiency and the exhaust moisture. A measured exhaust temperature at or below saturation is refused (it cannot fix a wet exhaust), as is a measured outlet implying negative work or an efficiency above 1. Plant options: a throttle-valve pressure drop at the inlet (throttle_dp; the efficiency then applies from the valve outlet), the Baumann moisture loss (moisture_loss, baumann_factor), the exhaust leaving loss from the annulus area (exhaust_area: the expansion-line and used-energy end points), and mechanical and generator losses (efficiencies or fixed powers) giving shaft and gross electrical power. Warns above about 12 % exhaust moisture (common practice), near the critical point and above about 300 m/s exhaust annulus velocity.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             turbine_expand,
         )
         .quick(),
         MethodSpec::new::<TrainParams, TrainResult>(
             "turbine.train",
             "Several turbine stages in series, each with an outlet pressure, efficiency and optional extraction",
-            concat!("Returns every stage's states and power, the expansion-line points and the total power.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
+            concat!("Returns every stage's states and power, the expansion-line points, the sections and the total power. efficiency_basis names what a stage efficiency means: \"stage\" (default: from the stage's own inlet) or \"section\" (from the inlet of its section, e.g. HP, IP, LP, as cycle.rankine does by default); every stage reports both. Plant options as turbine.expand: throttle valve before the first stage, Baumann moisture loss per stage, leaving loss of the last stage, mechanical and generator losses of the train.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             turbine_train,
         ),
         MethodSpec::new::<PumpParams, PumpResult>(
@@ -97,7 +97,7 @@ pub fn methods() -> Vec<MethodSpec> {
         MethodSpec::new::<RankineParams, RankineResult>(
             "cycle.rankine",
             "Rankine cycle with optional reheat and open and closed feedwater heaters",
-            concat!("Returns the numbered state table, extraction fractions, net specific work, heat input, thermal efficiency, heat rate (kJ/kWh and Btu/kWh), steam rate, back-work ratio, and the net power for a flow or the flow for a net power. The turbine efficiency applies from each turbine's inlet to every extraction and the exhaust; closed heaters drain as saturated liquid cascaded to the next lower heater.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
+            concat!("Returns the numbered state table, extraction fractions, net specific work, heat input, thermal efficiency, heat rate (kJ/kWh and Btu/kWh), steam rate, back-work ratio, the turbine sections, gross and net heat rates, and the net power for a flow or the flow for a net power. By default (efficiency_basis \"section\") each section's efficiency applies from the section's inlet to every extraction and its exhaust; \"stage\" applies it to each stage between extractions from its own inlet. Closed heaters drain as saturated liquid (or at the entering feedwater temperature plus a DCA) cascaded to the next lower heater, or pumped forward into the feedwater. Plant options: HP, IP and LP section efficiencies (crossover_p), Baumann moisture loss, LP leaving loss from the exhaust area, throttle-valve, boiler, reheater and extraction-line pressure drops, mechanical and generator losses and station load (gross and net output), and a condenser fixed by its cooling water. A boiler outlet that is not steam is refused.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             cycle_rankine,
         ),
     ]
@@ -248,23 +248,274 @@ fn number(ctx: &Ctx, name: &str, v: &Input) -> Result<f64> {
     ctx.value(name, Dim::Dimensionless, v)
 }
 
+// ---------------------------------------------------------------- plant-turbine options
+
+/// A pressure drop: a pressure difference in the caller's units (a bare number in the preset's
+/// pressure unit, or a text such as "0.5 bar"; gauge units are refused), or a percentage of
+/// the upstream pressure `upstream` (MPa) written with "%" ("4 %").
+fn pressure_drop(ctx: &Ctx, name: &str, v: &Input, upstream: f64) -> Result<f64> {
+    if let Input::Text(t) = v {
+        if t.trim_end().ends_with('%') {
+            return Ok(number(ctx, name, v)? * upstream);
+        }
+    }
+    // A difference: no gauge unit, and "psi" is unambiguous here.
+    ctx.value(name, Dim::PressureDifference, v)
+}
+
+fn opt_drop(ctx: &Ctx, name: &str, v: &Option<Input>, upstream: f64) -> Result<f64> {
+    v.as_ref()
+        .map(|x| pressure_drop(ctx, name, x, upstream))
+        .transpose()
+        .map(|x| x.unwrap_or(0.0))
+}
+
+/// A drive loss given as an efficiency or a fixed power (not both).
+fn drive_loss(
+    ctx: &Ctx,
+    which: &str,
+    eff: &Option<Input>,
+    loss: &Option<Input>,
+) -> Result<c::DriveLoss> {
+    match (eff, loss) {
+        (None, None) => Ok(c::DriveLoss::None),
+        (Some(e), None) => Ok(c::DriveLoss::Efficiency(number(
+            ctx,
+            &format!("{which}_efficiency"),
+            e,
+        )?)),
+        (None, Some(l)) => Ok(c::DriveLoss::Fixed(ctx.value(
+            &format!("{which}_loss"),
+            Dim::Power,
+            l,
+        )?)),
+        (Some(_), Some(_)) => Err(Error::invalid(format!(
+            "give {which}_efficiency or {which}_loss, not both"
+        ))),
+    }
+}
+
+/// The moisture-loss rule: None, or the Baumann factor.
+fn moisture_rule(ctx: &Ctx, rule: &Option<String>, factor: &Option<Input>) -> Result<Option<f64>> {
+    match rule.as_deref() {
+        None | Some("none") => {
+            if factor.is_some() {
+                return Err(Error::invalid(
+                    "baumann_factor needs moisture_loss: \"baumann\"",
+                ));
+            }
+            Ok(None)
+        }
+        Some("baumann") => Ok(Some(match factor {
+            Some(f) => number(ctx, "baumann_factor", f)?,
+            None => 1.0,
+        })),
+        Some(other) => Err(Error::invalid(format!(
+            "moisture_loss = '{other}'; accepted: none, baumann"
+        ))),
+    }
+}
+
+fn efficiency_basis(v: &Option<String>, default: c::EfficiencyBasis) -> Result<c::EfficiencyBasis> {
+    match v.as_deref() {
+        None => Ok(default),
+        Some("stage") => Ok(c::EfficiencyBasis::Stage),
+        Some("section") => Ok(c::EfficiencyBasis::Section),
+        Some(other) => Err(Error::invalid(format!(
+            "efficiency_basis = '{other}'; accepted: stage (each stage from its own inlet), section (from the inlet of the stage's section)"
+        ))),
+    }
+}
+
+fn area(ctx: &Ctx, name: &str, v: &Option<Input>) -> Result<Option<f64>> {
+    v.as_ref()
+        .map(|x| ctx.value(name, Dim::Area, x))
+        .transpose()
+}
+
+/// The moisture loss of an expansion by the Baumann rule.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct MoistureLossOut {
+    /// The rule: "Baumann" (the efficiency of the wet part of the expansion is the dry
+    /// efficiency times 1 - factor times its mean moisture).
+    pub rule: String,
+    /// Baumann factor.
+    pub factor: f64,
+    /// The dry efficiency given.
+    pub dry_efficiency: f64,
+    /// Pressure where the expansion line enters the wet region (the inlet's for a wet inlet;
+    /// null when the expansion stays dry).
+    pub wet_from_p: Option<f64>,
+    /// Moisture where the wet part starts.
+    pub start_moisture: f64,
+    /// Moisture at the expansion-line end.
+    pub end_moisture: f64,
+    /// Mean moisture of the wet part.
+    pub mean_moisture: f64,
+    /// Efficiency of the wet part.
+    pub wet_efficiency: f64,
+    /// Resulting efficiency of the whole expansion, moisture loss included.
+    pub efficiency: f64,
+    /// Specific work lost to moisture.
+    pub work_lost: f64,
+}
+
+fn moisture_out(ctx: &Ctx, prefix: &str, m: &c::MoistureLoss) -> MoistureLossOut {
+    MoistureLossOut {
+        rule: "Baumann".into(),
+        factor: m.factor,
+        dry_efficiency: m.dry_efficiency,
+        wet_from_p: of(
+            ctx,
+            &format!("{prefix}.wet_from_p"),
+            Dim::Pressure,
+            m.wet_from_p,
+        ),
+        start_moisture: m.start_moisture,
+        end_moisture: m.end_moisture,
+        mean_moisture: m.mean_moisture,
+        wet_efficiency: m.wet_efficiency,
+        efficiency: m.efficiency,
+        work_lost: o(
+            ctx,
+            &format!("{prefix}.work_lost"),
+            Dim::SpecificEnergy,
+            m.work_lost,
+        ),
+    }
+}
+
+/// The exhaust leaving loss: V = flow v / area at the expansion-line end point, loss V^2/2.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct LeavingLossOut {
+    /// Exhaust annulus area.
+    pub exhaust_area: f64,
+    /// Mass flow through the annulus.
+    pub flow: f64,
+    /// Volume flow at the expansion-line end point.
+    pub volume_flow: f64,
+    /// Annulus velocity.
+    pub velocity: f64,
+    /// Leaving loss per unit mass of exhaust steam.
+    pub loss: f64,
+    /// Leaving loss as a power.
+    pub power: f64,
+    /// Expansion-line end point (ELEP): the static exhaust state on the expansion line.
+    pub expansion_line_end_point: StateResult,
+    /// Used-energy end point (UEEP): the ELEP plus the leaving loss, what the condenser gets.
+    pub used_energy_end_point: StateResult,
+}
+
+fn leaving_out(ctx: &Ctx, l: &c::LeavingLoss) -> LeavingLossOut {
+    LeavingLossOut {
+        exhaust_area: o(ctx, "leaving_loss.exhaust_area", Dim::Area, l.area),
+        flow: o(ctx, "leaving_loss.flow", Dim::MassFlow, l.flow),
+        volume_flow: o(
+            ctx,
+            "leaving_loss.volume_flow",
+            Dim::VolumeFlow,
+            l.volume_flow,
+        ),
+        velocity: o(ctx, "leaving_loss.velocity", Dim::Speed, l.velocity),
+        loss: o(ctx, "leaving_loss.loss", Dim::SpecificEnergy, l.loss),
+        power: o(ctx, "leaving_loss.power", Dim::Power, l.power),
+        expansion_line_end_point: sr(
+            ctx,
+            "leaving_loss.expansion_line_end_point",
+            &l.expansion_line_end,
+        ),
+        used_energy_end_point: sr(
+            ctx,
+            "leaving_loss.used_energy_end_point",
+            &l.used_energy_end,
+        ),
+    }
+}
+
+const LEAVING_UNITS: [(&str, Dim); 6] = [
+    ("leaving_loss.exhaust_area", Dim::Area),
+    ("leaving_loss.flow", Dim::MassFlow),
+    ("leaving_loss.volume_flow", Dim::VolumeFlow),
+    ("leaving_loss.velocity", Dim::Speed),
+    ("leaving_loss.loss", Dim::SpecificEnergy),
+    ("leaving_loss.power", Dim::Power),
+];
+
+/// Power from the blades to the generator terminals: each figure is the one before it less its
+/// loss (internal_power - mechanical_loss - generator_loss = gross_power exactly).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct DriveOut {
+    /// Internal (blade) power: flow times specific work.
+    pub internal_power: f64,
+    /// Mechanical loss (bearings, seals, shaft-driven pumps).
+    pub mechanical_loss: f64,
+    /// Shaft power at the coupling.
+    pub shaft_power: f64,
+    /// Generator loss.
+    pub generator_loss: f64,
+    /// Gross electrical output at the generator terminals.
+    pub gross_power: f64,
+}
+
+fn drive_out(ctx: &Ctx, d: &c::Drive) -> DriveOut {
+    let w = |n: &str, x: f64| o(ctx, &format!("drive.{n}"), Dim::Power, x);
+    DriveOut {
+        internal_power: w("internal_power", d.internal_power),
+        mechanical_loss: w("mechanical_loss", d.mechanical_loss),
+        shaft_power: w("shaft_power", d.shaft_power),
+        generator_loss: w("generator_loss", d.generator_loss),
+        gross_power: w("gross_power", d.gross_power),
+    }
+}
+
 // ---------------------------------------------------------------- turbine.expand
 
 /// Parameters of `turbine.expand`.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct TurbineParams {
-    /// Inlet stream (two state keys; flow optional, for the power).
+    /// Inlet stream (two state keys; flow optional, for the power). With a throttle valve, the
+    /// state before it (at the stop valve).
     pub inlet: Stream,
     /// Outlet (exhaust) pressure.
     pub outlet_p: Input,
-    /// Isentropic efficiency, 0 < eta <= 1 (give this or `outlet`).
+    /// Isentropic efficiency, 0 < eta <= 1 (give this or `outlet`), from the turbine inlet after
+    /// the throttle valve to the outlet pressure; with a moisture-loss rule, the dry efficiency.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub efficiency: Option<Input>,
     /// Measured outlet: T (superheated exhaust) or x (wet exhaust), or any state key; its
-    /// pressure is `outlet_p`.
+    /// pressure is `outlet_p`. A temperature at or below saturation is refused (it cannot fix a
+    /// wet exhaust), as is an outlet that implies negative work or an efficiency above 1.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub outlet: Option<Stream>,
+    /// Pressure drop across the throttle (governing) valve at the inlet, isenthalpic: a pressure
+    /// difference ("0.4 bar"; a bare number in the preset's pressure unit) or a percentage of
+    /// the inlet pressure ("3 %"). Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub throttle_dp: Option<Input>,
+    /// Moisture loss of a wet expansion: "none" (default) or "baumann" (the wet part's efficiency
+    /// is the dry efficiency times 1 - baumann_factor times its mean moisture).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub moisture_loss: Option<String>,
+    /// Baumann factor, 0 to 2.5 (default 1, Baumann's own rule), with moisture_loss "baumann".
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub baumann_factor: Option<Input>,
+    /// Exhaust annulus area (e.g. "28 m2"), for the leaving loss V^2/2 with V = flow v / area at
+    /// the expansion-line end point; needs the inlet flow.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub exhaust_area: Option<Input>,
+    /// Mechanical efficiency, 0 < eta <= 1 (or give mechanical_loss).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mechanical_efficiency: Option<Input>,
+    /// Mechanical loss as a fixed power (or give mechanical_efficiency); needs the inlet flow.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mechanical_loss: Option<Input>,
+    /// Generator efficiency, 0 < eta <= 1 (or give generator_loss).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub generator_efficiency: Option<Input>,
+    /// Generator loss as a fixed power (or give generator_efficiency); needs the inlet flow.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub generator_loss: Option<Input>,
     /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
     /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
     /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
@@ -278,21 +529,23 @@ pub struct TurbineParams {
 /// Result of `turbine.expand`.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct TurbineResult {
-    /// Inlet state.
+    /// Inlet state (before the throttle valve, when there is one).
     pub inlet: StateResult,
-    /// Actual outlet state.
+    /// Actual outlet state (the used-energy end point when there is a leaving loss).
     pub outlet: StateResult,
-    /// Outlet of the isentropic expansion to the same pressure.
+    /// Outlet of the isentropic expansion from the turbine inlet (after the throttle valve) to
+    /// the same pressure.
     pub isentropic_outlet: StateResult,
     /// Specific work h_in - h_out.
     pub specific_work: f64,
-    /// Isentropic specific work.
+    /// Isentropic specific work from the turbine inlet.
     pub isentropic_work: f64,
-    /// Power (when a flow was given).
+    /// Internal power, flow times specific work (when a flow was given).
     pub power: Option<f64>,
-    /// Isentropic efficiency, given or derived from the measured outlet.
+    /// Isentropic efficiency, given or derived from the measured outlet (with a moisture rule,
+    /// the dry efficiency given; see moisture_loss.efficiency).
     pub efficiency: f64,
-    /// Exhaust moisture 1 - x (0 for superheated exhaust).
+    /// Exhaust moisture 1 - x at the expansion-line end (0 for superheated exhaust).
     pub moisture: f64,
     /// Mass and energy balance.
     pub balance: BalanceOut,
@@ -302,9 +555,51 @@ pub struct TurbineResult {
     pub caution: String,
     /// Units of the numeric fields.
     pub units: BTreeMap<String, String>,
+    /// The turbine inlet after the throttle valve (with throttle_dp).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub turbine_inlet: Option<StateResult>,
+    /// Throttle-valve pressure drop (with throttle_dp).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub throttle_dp: Option<f64>,
+    /// Efficiency from the inlet before the throttle valve to the outlet, the valve's loss
+    /// included (with throttle_dp).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub efficiency_with_valve: Option<f64>,
+    /// The moisture loss (with moisture_loss "baumann").
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub moisture_loss: Option<MoistureLossOut>,
+    /// The exhaust leaving loss with the expansion-line and used-energy end points (with
+    /// exhaust_area).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub leaving_loss: Option<LeavingLossOut>,
+    /// Internal, shaft and gross electrical power (with a flow and a mechanical or generator
+    /// loss).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub drive: Option<DriveOut>,
 }
 
 fn expansion_out(ctx: &Ctx, ex: &c::Expansion) -> TurbineResult {
+    let valve = ex.throttle_dp > 0.0;
+    let mut units = vec![
+        ("specific_work", Dim::SpecificEnergy),
+        ("isentropic_work", Dim::SpecificEnergy),
+        ("power", Dim::Power),
+        ("efficiency", Dim::Dimensionless),
+        ("moisture", Dim::Dimensionless),
+    ];
+    if valve {
+        units.push(("throttle_dp", Dim::PressureDifference));
+    }
+    if ex.moisture_loss.is_some() {
+        units.push(("moisture_loss.wet_from_p", Dim::Pressure));
+        units.push(("moisture_loss.work_lost", Dim::SpecificEnergy));
+    }
+    if ex.leaving.is_some() {
+        units.extend(LEAVING_UNITS);
+    }
+    if ex.drive.is_some() {
+        units.push(("drive", Dim::Power));
+    }
     TurbineResult {
         inlet: sr(ctx, "inlet", &ex.inlet),
         outlet: sr(ctx, "outlet", &ex.outlet),
@@ -322,16 +617,16 @@ fn expansion_out(ctx: &Ctx, ex: &c::Expansion) -> TurbineResult {
         balance: balance(ctx, &ex.balance),
         warnings: ex.warnings.clone(),
         caution: CAUTION.into(),
-        units: units_map(
-            ctx,
-            &[
-                ("specific_work", Dim::SpecificEnergy),
-                ("isentropic_work", Dim::SpecificEnergy),
-                ("power", Dim::Power),
-                ("efficiency", Dim::Dimensionless),
-                ("moisture", Dim::Dimensionless),
-            ],
-        ),
+        units: units_map(ctx, &units),
+        turbine_inlet: valve.then(|| sr(ctx, "turbine_inlet", &ex.turbine_inlet)),
+        throttle_dp: valve.then(|| o(ctx, "throttle_dp", Dim::PressureDifference, ex.throttle_dp)),
+        efficiency_with_valve: ex.efficiency_with_valve,
+        moisture_loss: ex
+            .moisture_loss
+            .as_ref()
+            .map(|m| moisture_out(ctx, "moisture_loss", m)),
+        leaving_loss: ex.leaving.as_ref().map(|l| leaving_out(ctx, l)),
+        drive: ex.drive.as_ref().map(|d| drive_out(ctx, d)),
     }
 }
 
@@ -340,6 +635,23 @@ fn turbine_expand(p: TurbineParams) -> Result<TurbineResult> {
     let inlet = p.inlet.state(&ctx, "inlet")?;
     let flow = p.inlet.flow(&ctx, "inlet")?;
     let p2 = pressure(&ctx, "outlet_p", &p.outlet_p)?;
+    let opts = c::TurbineOptions {
+        throttle_dp: opt_drop(&ctx, "throttle_dp", &p.throttle_dp, inlet.props.p)?,
+        baumann: moisture_rule(&ctx, &p.moisture_loss, &p.baumann_factor)?,
+        exhaust_area: area(&ctx, "exhaust_area", &p.exhaust_area)?,
+        mechanical: drive_loss(
+            &ctx,
+            "mechanical",
+            &p.mechanical_efficiency,
+            &p.mechanical_loss,
+        )?,
+        generator: drive_loss(
+            &ctx,
+            "generator",
+            &p.generator_efficiency,
+            &p.generator_loss,
+        )?,
+    };
     let spec = match (&p.efficiency, &p.outlet) {
         (Some(e), None) => c::TurbineSpec::Efficiency(number(&ctx, "efficiency", e)?),
         (None, Some(out)) => c::TurbineSpec::Outlet(out.state_with_p(&ctx, "outlet", p2)?),
@@ -349,7 +661,7 @@ fn turbine_expand(p: TurbineParams) -> Result<TurbineResult> {
             ))
         }
     };
-    let ex = c::turbine_expand(&inlet, p2, spec, flow)?;
+    let ex = c::turbine_expand_with(&inlet, p2, spec, flow, &opts)?;
     Ok(expansion_out(&ctx, &ex))
 }
 
@@ -361,21 +673,56 @@ fn turbine_expand(p: TurbineParams) -> Result<TurbineResult> {
 pub struct StageIn {
     /// Stage outlet pressure.
     pub outlet_p: Input,
-    /// Stage isentropic efficiency.
+    /// Stage isentropic efficiency: from the stage's own inlet (efficiency_basis "stage", the
+    /// default) or from the inlet of its section ("section"); with a moisture-loss rule, dry.
     pub efficiency: Input,
     /// Steam extracted at the stage outlet (mass flow), default 0.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub extraction: Option<Input>,
+    /// The section the stage belongs to, e.g. "HP", "IP", "LP" (default "turbine"); a section's
+    /// stages follow one another.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub section: Option<String>,
 }
 
 /// Parameters of `turbine.train`.
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct TrainParams {
-    /// Inlet stream with its flow.
+    /// Inlet stream with its flow (before the throttle valve, when there is one).
     pub inlet: Stream,
     /// Stages in order of falling pressure.
     pub stages: Vec<StageIn>,
+    /// How the stage efficiencies are meant: "stage" (default: each stage from its own inlet)
+    /// or "section" (each from the inlet of its section, so a section's stage outlets lie on
+    /// one expansion line, as `cycle.rankine` does by default).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub efficiency_basis: Option<String>,
+    /// Pressure drop across the throttle (governing) valve before the first stage, isenthalpic:
+    /// a pressure difference or a percentage of the inlet pressure ("3 %"). Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub throttle_dp: Option<Input>,
+    /// Moisture loss of wet stages: "none" (default) or "baumann".
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub moisture_loss: Option<String>,
+    /// Baumann factor, 0 to 2.5 (default 1), with moisture_loss "baumann".
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub baumann_factor: Option<Input>,
+    /// Exhaust annulus area of the last stage, for its leaving loss.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub exhaust_area: Option<Input>,
+    /// Mechanical efficiency of the train, 0 < eta <= 1 (or give mechanical_loss).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mechanical_efficiency: Option<Input>,
+    /// Mechanical loss as a fixed power (or give mechanical_efficiency).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mechanical_loss: Option<Input>,
+    /// Generator efficiency, 0 < eta <= 1 (or give generator_loss).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub generator_efficiency: Option<Input>,
+    /// Generator loss as a fixed power (or give generator_efficiency).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub generator_loss: Option<Input>,
     /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
     /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
     /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
@@ -393,7 +740,7 @@ pub struct StageOut {
     pub inlet: StateResult,
     /// Stage outlet.
     pub outlet: StateResult,
-    /// Isentropic stage outlet.
+    /// Isentropic stage outlet (from the stage's own inlet).
     pub isentropic_outlet: StateResult,
     /// Flow through the stage.
     pub flow: f64,
@@ -403,7 +750,37 @@ pub struct StageOut {
     pub specific_work: f64,
     /// Stage power.
     pub power: f64,
-    /// Stage efficiency.
+    /// Stage efficiency: isentropic efficiency from the stage's own inlet to its expansion-line
+    /// end.
+    pub efficiency: f64,
+    /// Isentropic efficiency from the inlet of the stage's section to its expansion-line end.
+    pub section_efficiency: f64,
+    /// The efficiency given (its meaning set by efficiency_basis).
+    pub given_efficiency: f64,
+    /// The section of the stage.
+    pub section: String,
+    /// The stage's moisture loss (with moisture_loss "baumann"; under the section basis, of the
+    /// expansion line from the section inlet).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub moisture_loss: Option<MoistureLossOut>,
+}
+
+/// A section of `turbine.train`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct TrainSectionOut {
+    /// Section name.
+    pub name: String,
+    /// Its first stage (0-based).
+    pub first_stage: usize,
+    /// Its last stage (0-based).
+    pub last_stage: usize,
+    /// Section inlet.
+    pub inlet: LinePoint,
+    /// Section outlet.
+    pub outlet: LinePoint,
+    /// Section power.
+    pub power: f64,
+    /// Isentropic efficiency from the section inlet to its expansion-line end.
     pub efficiency: f64,
 }
 
@@ -414,11 +791,12 @@ pub struct TrainResult {
     pub stages: Vec<StageOut>,
     /// Expansion-line points (h, s) from the inlet through every stage outlet.
     pub expansion_line: Vec<LinePoint>,
-    /// Total power.
+    /// Total internal power.
     pub power: f64,
     /// Exhaust flow.
     pub exhaust_flow: f64,
-    /// Overall isentropic efficiency from the inlet to the final exhaust.
+    /// Overall isentropic efficiency from the inlet (before the throttle valve) to the final
+    /// exhaust.
     pub overall_efficiency: f64,
     /// Mass and energy balance.
     pub balance: BalanceOut,
@@ -428,6 +806,22 @@ pub struct TrainResult {
     pub caution: String,
     /// Units.
     pub units: BTreeMap<String, String>,
+    /// How the stage efficiencies were meant: "stage" or "section".
+    pub efficiency_basis: String,
+    /// The sections, in order.
+    pub sections: Vec<TrainSectionOut>,
+    /// The turbine inlet after the throttle valve (with throttle_dp).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub turbine_inlet: Option<StateResult>,
+    /// Throttle-valve pressure drop (with throttle_dp).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub throttle_dp: Option<f64>,
+    /// The last stage's leaving loss (with exhaust_area).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub leaving_loss: Option<LeavingLossOut>,
+    /// Internal, shaft and gross electrical power (with a mechanical or generator loss).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub drive: Option<DriveOut>,
 }
 
 /// A point of an expansion line.
@@ -444,13 +838,22 @@ pub struct LinePoint {
     pub s: f64,
 }
 
-fn line_point(ctx: &Ctx, st: &State) -> LinePoint {
+fn line_point_at(ctx: &Ctx, prefix: &str, st: &State) -> LinePoint {
     LinePoint {
-        p: o(ctx, "expansion_line.p", Dim::Pressure, st.props.p),
-        t: o(ctx, "expansion_line.T", Dim::Temperature, st.props.t),
-        h: o(ctx, "expansion_line.h", Dim::SpecificEnergy, st.props.h),
-        s: o(ctx, "expansion_line.s", Dim::SpecificEntropy, st.props.s),
+        p: o(ctx, &format!("{prefix}.p"), Dim::Pressure, st.props.p),
+        t: o(ctx, &format!("{prefix}.T"), Dim::Temperature, st.props.t),
+        h: o(ctx, &format!("{prefix}.h"), Dim::SpecificEnergy, st.props.h),
+        s: o(
+            ctx,
+            &format!("{prefix}.s"),
+            Dim::SpecificEntropy,
+            st.props.s,
+        ),
     }
+}
+
+fn line_point(ctx: &Ctx, st: &State) -> LinePoint {
+    line_point_at(ctx, "expansion_line", st)
 }
 
 fn turbine_train(p: TrainParams) -> Result<TrainResult> {
@@ -472,8 +875,40 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
             })
         })
         .collect::<Result<Vec<_>>>()?;
-    let t = c::turbine_train(&inlet, flow, &stages)?;
+    let sections = if p.stages.iter().any(|s| s.section.is_some()) {
+        p.stages
+            .iter()
+            .map(|s| s.section.clone().unwrap_or_else(|| "turbine".into()))
+            .collect()
+    } else {
+        Vec::new()
+    };
+    let opts = c::TrainOptions {
+        basis: efficiency_basis(&p.efficiency_basis, c::EfficiencyBasis::Stage)?,
+        sections,
+        turbine: c::TurbineOptions {
+            throttle_dp: opt_drop(&ctx, "throttle_dp", &p.throttle_dp, inlet.props.p)?,
+            baumann: moisture_rule(&ctx, &p.moisture_loss, &p.baumann_factor)?,
+            exhaust_area: area(&ctx, "exhaust_area", &p.exhaust_area)?,
+            mechanical: drive_loss(
+                &ctx,
+                "mechanical",
+                &p.mechanical_efficiency,
+                &p.mechanical_loss,
+            )?,
+            generator: drive_loss(
+                &ctx,
+                "generator",
+                &p.generator_efficiency,
+                &p.generator_loss,
+            )?,
+        },
+    };
+    let t = c::turbine_train_with(&inlet, flow, &stages, &opts)?;
     let mut line = vec![line_point(&ctx, &inlet)];
+    if t.throttle_dp > 0.0 {
+        line.push(line_point(&ctx, &t.turbine_inlet));
+    }
     let stages_out = t
         .stages
         .iter()
@@ -505,11 +940,55 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
                     &ctx,
                     "stages.efficiency",
                     Dim::Dimensionless,
-                    s.expansion.efficiency,
+                    s.stage_efficiency,
                 ),
+                section_efficiency: s.section_efficiency,
+                given_efficiency: s.given_efficiency,
+                section: s.section.clone(),
+                moisture_loss: s
+                    .expansion
+                    .moisture_loss
+                    .as_ref()
+                    .map(|m| moisture_out(&ctx, "stages.moisture_loss", m)),
             }
         })
         .collect();
+    let sections_out = t
+        .sections
+        .iter()
+        .map(|s| TrainSectionOut {
+            name: s.name.clone(),
+            first_stage: s.first_stage,
+            last_stage: s.last_stage,
+            inlet: line_point_at(&ctx, "sections.inlet", &s.inlet),
+            outlet: line_point_at(&ctx, "sections.outlet", &s.outlet),
+            power: o(&ctx, "sections.power", Dim::Power, s.power),
+            efficiency: s.efficiency,
+        })
+        .collect();
+    let mut units = vec![
+        ("power", Dim::Power),
+        ("exhaust_flow", Dim::MassFlow),
+        ("stages.specific_work", Dim::SpecificEnergy),
+        ("expansion_line.p", Dim::Pressure),
+        ("expansion_line.T", Dim::Temperature),
+        ("expansion_line.h", Dim::SpecificEnergy),
+        ("expansion_line.s", Dim::SpecificEntropy),
+        ("sections.power", Dim::Power),
+    ];
+    if t.throttle_dp > 0.0 {
+        units.push(("throttle_dp", Dim::PressureDifference));
+    }
+    if opts.turbine.baumann.is_some() {
+        units.push(("stages.moisture_loss.wet_from_p", Dim::Pressure));
+        units.push(("stages.moisture_loss.work_lost", Dim::SpecificEnergy));
+    }
+    if t.leaving.is_some() {
+        units.extend(LEAVING_UNITS);
+    }
+    if t.drive.is_some() {
+        units.push(("drive", Dim::Power));
+    }
     Ok(TrainResult {
         stages: stages_out,
         expansion_line: line,
@@ -524,18 +1003,14 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
         balance: balance(&ctx, &t.balance),
         warnings: t.warnings,
         caution: CAUTION.into(),
-        units: units_map(
-            &ctx,
-            &[
-                ("power", Dim::Power),
-                ("exhaust_flow", Dim::MassFlow),
-                ("stages.specific_work", Dim::SpecificEnergy),
-                ("expansion_line.p", Dim::Pressure),
-                ("expansion_line.T", Dim::Temperature),
-                ("expansion_line.h", Dim::SpecificEnergy),
-                ("expansion_line.s", Dim::SpecificEntropy),
-            ],
-        ),
+        units: units_map(&ctx, &units),
+        efficiency_basis: t.basis.name().into(),
+        sections: sections_out,
+        turbine_inlet: (t.throttle_dp > 0.0).then(|| sr(&ctx, "turbine_inlet", &t.turbine_inlet)),
+        throttle_dp: (t.throttle_dp > 0.0)
+            .then(|| o(&ctx, "throttle_dp", Dim::PressureDifference, t.throttle_dp)),
+        leaving_loss: t.leaving.as_ref().map(|l| leaving_out(&ctx, l)),
+        drive: t.drive.as_ref().map(|d| drive_out(&ctx, d)),
     })
 }
 
@@ -1266,13 +1741,51 @@ fn deaerator_balance(p: DeaeratorParams) -> Result<DeaeratorResult> {
 #[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
 #[serde(deny_unknown_fields)]
 pub struct HeaterIn {
-    /// Extraction pressure.
+    /// Extraction pressure at the turbine (the heater's shell pressure is this less line_dp).
     pub p: Input,
     /// "open" (direct contact) or "closed".
     pub kind: String,
-    /// Terminal temperature difference of a closed heater (default 0).
+    /// Terminal temperature difference of a closed heater: shell saturation temperature less
+    /// the feedwater outlet temperature (default 0). A negative TTD needs superheated extraction
+    /// steam whose superheat can pay for it (a desuperheating zone); otherwise it is refused.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub ttd: Option<Input>,
+    /// Pressure drop of the extraction line from the turbine to the heater shell: a pressure
+    /// difference or a percentage of the extraction pressure ("3 %"). Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub line_dp: Option<Input>,
+    /// Drain-cooler approach of a closed heater: the drain leaves at the entering feedwater
+    /// temperature plus this (above 0 K and below the shell's saturation). Default: no drain
+    /// cooler, the drain leaves saturated.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub dca: Option<Input>,
+    /// Where a closed heater's drain goes: "cascade" (default: throttled to the next lower
+    /// heater or the condenser) or "pump_forward" (pumped into the feedwater just after the
+    /// heater).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub drain: Option<String>,
+}
+
+/// A condenser fixed by its cooling water (instead of condenser_p or condenser_T).
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(deny_unknown_fields)]
+pub struct CondenserIn {
+    /// Cooling-water inlet temperature.
+    #[serde(rename = "cw_inlet_T")]
+    pub cw_inlet_t: Input,
+    /// Cooling-water flow (give this or cw_rise; needs the steam flow or the net power).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cw_flow: Option<Input>,
+    /// Cooling-water temperature rise (give this or cw_flow).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cw_rise: Option<Input>,
+    /// Terminal temperature difference: condensing temperature less the cooling-water outlet
+    /// temperature (above 0).
+    pub ttd: Input,
+    /// Cooling-water pressure, where its enthalpies are taken (default: the ambient pressure;
+    /// they hardly depend on it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub cw_p: Option<Input>,
 }
 
 /// Parameters of `cycle.rankine`.
@@ -1284,13 +1797,13 @@ pub struct RankineParams {
     /// Throttle temperature.
     #[serde(rename = "boiler_T")]
     pub boiler_t: Input,
-    /// Reheat pressure.
+    /// Reheat pressure: the cold-reheat (high-pressure turbine exhaust) pressure.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub reheat_p: Option<Input>,
     /// Reheat temperature.
     #[serde(rename = "reheat_T", default, skip_serializing_if = "Option::is_none")]
     pub reheat_t: Option<Input>,
-    /// Condenser pressure (give this or condenser_T).
+    /// Condenser pressure (give this, condenser_T or condenser).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub condenser_p: Option<Input>,
     /// Condenser saturation temperature.
@@ -1300,19 +1813,83 @@ pub struct RankineParams {
         skip_serializing_if = "Option::is_none"
     )]
     pub condenser_t: Option<Input>,
-    /// Turbine isentropic efficiency (default 1, the ideal cycle).
+    /// A condenser fixed by its cooling water: inlet temperature, flow or rise, TTD.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub condenser: Option<CondenserIn>,
+    /// Turbine isentropic efficiency of every section without its own (default 1, the ideal
+    /// cycle).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub turbine_efficiency: Option<Input>,
+    /// High-pressure section efficiency (default turbine_efficiency). Needs two sections: a
+    /// reheat or a crossover_p.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub hp_efficiency: Option<Input>,
+    /// Intermediate-pressure section efficiency: from the hot reheat to the crossover (needs a
+    /// reheat and crossover_p).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub ip_efficiency: Option<Input>,
+    /// Low-pressure section efficiency: from the crossover (or the hot reheat) to the condenser.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub lp_efficiency: Option<Input>,
+    /// Crossover pressure: the exhaust of the IP section (with reheat) or of the HP section
+    /// (without), the inlet of the LP section.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub crossover_p: Option<Input>,
+    /// How each section efficiency applies: "section" (default: from the section's inlet to
+    /// every extraction point and its exhaust, one expansion line per section) or "stage" (to
+    /// each stage between extraction points from its own inlet, as turbine.train's default).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub efficiency_basis: Option<String>,
+    /// Moisture loss of wet expansions: "none" (default) or "baumann".
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub moisture_loss: Option<String>,
+    /// Baumann factor, 0 to 2.5 (default 1), with moisture_loss "baumann".
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub baumann_factor: Option<Input>,
+    /// LP exhaust annulus area (total of all flows), for the leaving loss; needs the flow or the
+    /// net power.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub exhaust_area: Option<Input>,
+    /// Throttle (governing) valve pressure drop between the boiler outlet and the HP turbine:
+    /// a pressure difference or a percentage of boiler_p ("3 %"). Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub throttle_dp: Option<Input>,
+    /// Boiler pressure drop from the feedwater inlet to the steam outlet (the feed pump delivers
+    /// boiler_p plus this): a pressure difference or a percentage of boiler_p. Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub boiler_dp: Option<Input>,
+    /// Reheater pressure drop from the cold reheat (reheat_p) to the hot reheat: a pressure
+    /// difference or a percentage of reheat_p ("8 %"). Default 0.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub reheat_dp: Option<Input>,
     /// Pump isentropic efficiency (default 1).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub pump_efficiency: Option<Input>,
+    /// Mechanical efficiency of the turbine-generator, 0 < eta <= 1 (or mechanical_loss).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mechanical_efficiency: Option<Input>,
+    /// Mechanical loss as a fixed power (or mechanical_efficiency); needs the flow or the net
+    /// power.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub mechanical_loss: Option<Input>,
+    /// Generator efficiency, 0 < eta <= 1 (or generator_loss).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub generator_efficiency: Option<Input>,
+    /// Generator loss as a fixed power (or generator_efficiency); needs the flow or the net
+    /// power.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub generator_loss: Option<Input>,
+    /// Further station load taken from the gross output besides the pumps (a power, default 0);
+    /// needs the flow or the net power.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub auxiliary_power: Option<Input>,
     /// Feedwater heaters.
     #[serde(default)]
     pub heaters: Vec<HeaterIn>,
     /// Steam flow leaving the boiler (gives the net power).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub flow: Option<Input>,
-    /// Net power wanted (gives the flow).
+    /// Net electrical power wanted: gross output less pumps and station load (gives the flow).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub net_power: Option<Input>,
     /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
@@ -1339,7 +1916,7 @@ pub struct PointOut {
 /// An extraction of the cycle.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
 pub struct ExtractionOut {
-    /// Heater pressure.
+    /// Extraction pressure at the turbine.
     pub p: f64,
     /// "open" or "closed".
     pub kind: String,
@@ -1347,6 +1924,92 @@ pub struct ExtractionOut {
     pub fraction: f64,
     /// Extraction steam enthalpy.
     pub h: f64,
+    /// Heater shell pressure (the extraction pressure less the line's drop).
+    pub shell_p: f64,
+    /// Where a closed heater's drain goes: "cascade" or "pump_forward" (null for open heaters).
+    pub drain: Option<String>,
+    /// Drain temperature of a closed heater.
+    #[serde(rename = "drain_T")]
+    pub drain_t: Option<f64>,
+    /// Drain enthalpy of a closed heater.
+    pub drain_h: Option<f64>,
+    /// Drain flow leaving a closed heater per unit of boiler steam (its extraction and the
+    /// drains cascaded into it).
+    pub drain_fraction: Option<f64>,
+}
+
+/// A turbine section of the cycle.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct CycleSectionOut {
+    /// "HP", "IP", "LP", or "turbine" for a cycle with one section.
+    pub name: String,
+    /// Section inlet.
+    pub inlet: LinePoint,
+    /// Section exhaust (its expansion-line end point).
+    pub exhaust: LinePoint,
+    /// The efficiency given (dry, with a moisture rule; applied as efficiency_basis says).
+    pub efficiency: f64,
+    /// Isentropic efficiency from the section inlet to its exhaust, moisture loss included.
+    pub expansion_efficiency: f64,
+    /// Specific work per unit of boiler steam (the flow through each stage counted; the LP's
+    /// after the leaving loss).
+    pub work: f64,
+    /// Section power (when the flow is known).
+    pub power: Option<f64>,
+    /// Exhaust moisture of the section.
+    pub exhaust_moisture: f64,
+    /// The section's moisture loss (moisture_loss "baumann", section basis).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub moisture_loss: Option<MoistureLossOut>,
+}
+
+/// The cycle's power from the blades to the net output: each figure is the one before it less
+/// its loss (turbine_power - mechanical_loss - generator_loss - pump_power - auxiliary_power =
+/// net_power exactly).
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct PowerOut {
+    /// Internal (blade) power of all sections.
+    pub turbine_power: f64,
+    /// Mechanical loss.
+    pub mechanical_loss: f64,
+    /// Shaft power.
+    pub shaft_power: f64,
+    /// Generator loss.
+    pub generator_loss: f64,
+    /// Gross electrical output.
+    pub gross_power: f64,
+    /// Power of every pump (feed, condensate, drain pumps, at their shafts).
+    pub pump_power: f64,
+    /// Further station load.
+    pub auxiliary_power: f64,
+    /// Net electrical output.
+    pub net_power: f64,
+}
+
+/// The condenser fixed by its cooling water.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct CondenserOut {
+    /// Condenser pressure found.
+    pub p: f64,
+    /// Condensing temperature.
+    #[serde(rename = "T")]
+    pub t: f64,
+    /// Cooling-water inlet temperature.
+    #[serde(rename = "cw_inlet_T")]
+    pub cw_inlet_t: f64,
+    /// Cooling-water outlet temperature.
+    #[serde(rename = "cw_outlet_T")]
+    pub cw_outlet_t: f64,
+    /// Cooling-water temperature rise.
+    pub cw_rise: f64,
+    /// Terminal temperature difference.
+    pub ttd: f64,
+    /// Cooling-water flow (given, or from the duty when the steam flow is known).
+    pub cw_flow: Option<f64>,
+    /// Condenser duty (when the steam flow is known).
+    pub duty: Option<f64>,
+    /// Fixed-point iterations used to find the pressure (0 with a given rise).
+    pub iterations: usize,
 }
 
 /// Result of `cycle.rankine`.
@@ -1366,11 +2029,11 @@ pub struct RankineResult {
     pub heat_input: f64,
     /// Heat rejected per unit boiler steam.
     pub heat_rejected: f64,
-    /// Thermal efficiency.
+    /// Thermal efficiency: net work (turbine less pumps) over heat input.
     pub thermal_efficiency: f64,
-    /// Heat rate in kJ/kWh.
+    /// Heat rate in kJ/kWh (of the thermal efficiency).
     pub heat_rate_kj_per_kwh: f64,
-    /// Heat rate in Btu/kWh.
+    /// Heat rate in Btu/kWh (of the thermal efficiency).
     pub heat_rate_btu_per_kwh: f64,
     /// Steam rate (the preset's steam-rate unit).
     pub steam_rate: f64,
@@ -1378,7 +2041,7 @@ pub struct RankineResult {
     pub back_work_ratio: f64,
     /// Boiler steam flow.
     pub flow: Option<f64>,
-    /// Net power.
+    /// Net electrical power.
     pub net_power: Option<f64>,
     /// Exhaust moisture.
     pub exhaust_moisture: f64,
@@ -1390,6 +2053,25 @@ pub struct RankineResult {
     pub caution: String,
     /// Units.
     pub units: BTreeMap<String, String>,
+    /// Mass residual of the cycle (condenser, open heaters, boiler; per unit boiler steam).
+    pub mass_residual: f64,
+    /// How the section efficiencies applied: "section" or "stage".
+    pub efficiency_basis: String,
+    /// The turbine sections in the order of the steam.
+    pub sections: Vec<CycleSectionOut>,
+    /// Gross heat rate: heat input over gross electrical output (the preset's heat-rate unit).
+    pub gross_heat_rate: f64,
+    /// Net heat rate: heat input over net electrical output (the preset's heat-rate unit).
+    pub net_heat_rate: f64,
+    /// Power from the blades to the net output (when the flow is known).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub power: Option<PowerOut>,
+    /// The LP exhaust leaving loss (with exhaust_area).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub leaving_loss: Option<LeavingLossOut>,
+    /// The condenser fixed by its cooling water (with condenser).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub condenser: Option<CondenserOut>,
 }
 
 fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
@@ -1408,15 +2090,39 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
             ))
         }
     };
-    let pc = match (&p.condenser_p, &p.condenser_t) {
-        (Some(cp), None) => pressure(&ctx, "condenser_p", cp)?,
-        (None, Some(ct)) => {
+    let (pc, cooling) = match (&p.condenser_p, &p.condenser_t, &p.condenser) {
+        (Some(cp), None, None) => (pressure(&ctx, "condenser_p", cp)?, None),
+        (None, Some(ct), None) => {
             let t = ctx.value("condenser_T", Dim::Temperature, ct)?;
-            physics::saturation(SaturationAt::T(t), Formulation::If97)?.p
+            (
+                physics::saturation(SaturationAt::T(t), Formulation::If97)?.p,
+                None,
+            )
+        }
+        (None, None, Some(c)) => {
+            let cw = cy::CoolingWater {
+                inlet_t: ctx.value("condenser.cw_inlet_T", Dim::Temperature, &c.cw_inlet_t)?,
+                flow: c
+                    .cw_flow
+                    .as_ref()
+                    .map(|x| ctx.value("condenser.cw_flow", Dim::MassFlow, x))
+                    .transpose()?,
+                rise: c
+                    .cw_rise
+                    .as_ref()
+                    .map(|x| ctx.value("condenser.cw_rise", Dim::TemperatureDifference, x))
+                    .transpose()?,
+                ttd: ctx.value("condenser.ttd", Dim::TemperatureDifference, &c.ttd)?,
+                p: match &c.cw_p {
+                    Some(x) => pressure(&ctx, "condenser.cw_p", x)?,
+                    None => ctx.ambient,
+                },
+            };
+            (f64::NAN, Some(cw))
         }
         _ => {
             return Err(Error::invalid(
-                "give exactly one of condenser_p and condenser_T",
+                "give exactly one of condenser_p, condenser_T and condenser (cooling water)",
             ))
         }
     };
@@ -1433,13 +2139,35 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
         }
         Ok(e)
     };
+    let section_eff = |x: &Option<Input>, name: &str| -> Result<Option<f64>> {
+        x.as_ref().map(|_| eff(x, name)).transpose()
+    };
+    let mut heater_plant = Vec::with_capacity(p.heaters.len());
     let heaters = p
         .heaters
         .iter()
         .enumerate()
         .map(|(i, h)| {
+            let hp = pressure(&ctx, &format!("heaters[{i}].p"), &h.p)?;
+            heater_plant.push(cy::HeaterPlant {
+                line_dp: opt_drop(&ctx, &format!("heaters[{i}].line_dp"), &h.line_dp, hp)?,
+                dca: h
+                    .dca
+                    .as_ref()
+                    .map(|x| ctx.value(&format!("heaters[{i}].dca"), Dim::TemperatureDifference, x))
+                    .transpose()?,
+                drain: match h.drain.as_deref() {
+                    None | Some("cascade") => cy::DrainMode::Cascade,
+                    Some("pump_forward") => cy::DrainMode::PumpForward,
+                    Some(other) => {
+                        return Err(Error::invalid(format!(
+                            "heaters[{i}].drain = '{other}'; accepted: cascade, pump_forward"
+                        )))
+                    }
+                },
+            });
             Ok(cy::HeaterSpec {
-                p: pressure(&ctx, &format!("heaters[{i}].p"), &h.p)?,
+                p: hp,
                 kind: match h.kind.as_str() {
                     "open" => cy::HeaterKind::Open,
                     "closed" => cy::HeaterKind::Closed,
@@ -1477,8 +2205,104 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
             .map(|x| ctx.value("net_power", Dim::Power, x))
             .transpose()?,
     };
-    let r = cy::rankine(&spec)?;
+    if p.reheat_dp.is_some() && reheat.is_none() {
+        return Err(Error::invalid(
+            "reheat_dp needs a reheat (reheat_p and reheat_T)",
+        ));
+    }
+    let plant = cy::RankinePlant {
+        efficiency_basis: efficiency_basis(&p.efficiency_basis, c::EfficiencyBasis::Section)?,
+        crossover_p: p
+            .crossover_p
+            .as_ref()
+            .map(|x| pressure(&ctx, "crossover_p", x))
+            .transpose()?,
+        hp_efficiency: section_eff(&p.hp_efficiency, "hp_efficiency")?,
+        ip_efficiency: section_eff(&p.ip_efficiency, "ip_efficiency")?,
+        lp_efficiency: section_eff(&p.lp_efficiency, "lp_efficiency")?,
+        baumann: moisture_rule(&ctx, &p.moisture_loss, &p.baumann_factor)?,
+        exhaust_area: area(&ctx, "exhaust_area", &p.exhaust_area)?,
+        throttle_dp: opt_drop(&ctx, "throttle_dp", &p.throttle_dp, pb)?,
+        boiler_dp: opt_drop(&ctx, "boiler_dp", &p.boiler_dp, pb)?,
+        reheat_dp: opt_drop(
+            &ctx,
+            "reheat_dp",
+            &p.reheat_dp,
+            reheat.map(|(rp, _)| rp).unwrap_or(0.0),
+        )?,
+        heaters: heater_plant,
+        mechanical: drive_loss(
+            &ctx,
+            "mechanical",
+            &p.mechanical_efficiency,
+            &p.mechanical_loss,
+        )?,
+        generator: drive_loss(
+            &ctx,
+            "generator",
+            &p.generator_efficiency,
+            &p.generator_loss,
+        )?,
+        auxiliary_power: p
+            .auxiliary_power
+            .as_ref()
+            .map(|x| ctx.value("auxiliary_power", Dim::Power, x))
+            .transpose()?
+            .unwrap_or(0.0),
+        cooling_water: cooling,
+    };
+    let r = cy::rankine_plant(&spec, &plant)?;
     let e = |name: &str, x: f64| o(&ctx, name, Dim::SpecificEnergy, x);
+    let pw = |name: &str, x: f64| o(&ctx, name, Dim::Power, x);
+    let mut units = vec![
+        ("turbine_work", Dim::SpecificEnergy),
+        ("pump_work", Dim::SpecificEnergy),
+        ("net_work", Dim::SpecificEnergy),
+        ("heat_input", Dim::SpecificEnergy),
+        ("heat_rejected", Dim::SpecificEnergy),
+        ("steam_rate", Dim::SteamRate),
+        ("flow", Dim::MassFlow),
+        ("net_power", Dim::Power),
+        ("extractions.p", Dim::Pressure),
+        ("extractions.h", Dim::SpecificEnergy),
+        ("extractions.shell_p", Dim::Pressure),
+        ("extractions.drain_T", Dim::Temperature),
+        ("extractions.drain_h", Dim::SpecificEnergy),
+        ("gross_heat_rate", Dim::HeatRate),
+        ("net_heat_rate", Dim::HeatRate),
+        ("sections.work", Dim::SpecificEnergy),
+        ("sections.power", Dim::Power),
+        ("sections.inlet.p", Dim::Pressure),
+        ("sections.inlet.T", Dim::Temperature),
+        ("sections.inlet.h", Dim::SpecificEnergy),
+        ("sections.inlet.s", Dim::SpecificEntropy),
+        ("sections.exhaust.p", Dim::Pressure),
+        ("sections.exhaust.T", Dim::Temperature),
+        ("sections.exhaust.h", Dim::SpecificEnergy),
+        ("sections.exhaust.s", Dim::SpecificEntropy),
+    ];
+    if plant.baumann.is_some() {
+        units.push(("sections.moisture_loss.wet_from_p", Dim::Pressure));
+        units.push(("sections.moisture_loss.work_lost", Dim::SpecificEnergy));
+    }
+    if r.power.is_some() {
+        units.push(("power", Dim::Power));
+    }
+    if r.leaving.is_some() {
+        units.extend(LEAVING_UNITS);
+    }
+    if r.condenser.is_some() {
+        units.extend([
+            ("condenser.p", Dim::Pressure),
+            ("condenser.T", Dim::Temperature),
+            ("condenser.cw_inlet_T", Dim::Temperature),
+            ("condenser.cw_outlet_T", Dim::Temperature),
+            ("condenser.cw_rise", Dim::TemperatureDifference),
+            ("condenser.ttd", Dim::TemperatureDifference),
+            ("condenser.cw_flow", Dim::MassFlow),
+            ("condenser.duty", Dim::HeatFlow),
+        ]);
+    }
     Ok(RankineResult {
         points: r
             .points
@@ -1500,6 +2324,13 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
                 },
                 fraction: o(&ctx, "extractions.fraction", Dim::Dimensionless, x.fraction),
                 h: e("extractions.h", x.state.props.h),
+                shell_p: o(&ctx, "extractions.shell_p", Dim::Pressure, x.shell_p),
+                drain: x.drain_mode.map(|d| d.name().into()),
+                drain_t: x
+                    .drain
+                    .map(|d| o(&ctx, "extractions.drain_T", Dim::Temperature, d.props.t)),
+                drain_h: x.drain.map(|d| e("extractions.drain_h", d.props.h)),
+                drain_fraction: x.drain_fraction,
             })
             .collect(),
         turbine_work: e("turbine_work", r.turbine_work),
@@ -1531,22 +2362,62 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
             r.exhaust_moisture,
         ),
         energy_residual: r.energy_residual,
-        warnings: r.warnings,
+        warnings: r.warnings.clone(),
         caution: CAUTION.into(),
-        units: units_map(
-            &ctx,
-            &[
-                ("turbine_work", Dim::SpecificEnergy),
-                ("pump_work", Dim::SpecificEnergy),
-                ("net_work", Dim::SpecificEnergy),
-                ("heat_input", Dim::SpecificEnergy),
-                ("heat_rejected", Dim::SpecificEnergy),
-                ("steam_rate", Dim::SteamRate),
-                ("flow", Dim::MassFlow),
-                ("net_power", Dim::Power),
-                ("extractions.p", Dim::Pressure),
-                ("extractions.h", Dim::SpecificEnergy),
-            ],
-        ),
+        units: units_map(&ctx, &units),
+        mass_residual: r.mass_residual,
+        efficiency_basis: r.efficiency_basis.name().into(),
+        sections: r
+            .sections
+            .iter()
+            .map(|s| CycleSectionOut {
+                name: s.name.into(),
+                inlet: line_point_at(&ctx, "sections.inlet", &s.inlet),
+                exhaust: line_point_at(&ctx, "sections.exhaust", &s.exhaust),
+                efficiency: s.efficiency,
+                expansion_efficiency: s.expansion_efficiency,
+                work: e("sections.work", s.work),
+                power: r.flow.map(|f| pw("sections.power", f * s.work)),
+                exhaust_moisture: c::moisture(&s.exhaust),
+                moisture_loss: s
+                    .moisture_loss
+                    .as_ref()
+                    .map(|m| moisture_out(&ctx, "sections.moisture_loss", m)),
+            })
+            .collect(),
+        gross_heat_rate: o(&ctx, "gross_heat_rate", Dim::HeatRate, r.gross_heat_rate),
+        net_heat_rate: o(&ctx, "net_heat_rate", Dim::HeatRate, r.net_heat_rate),
+        power: r.power.map(|b| PowerOut {
+            turbine_power: pw("power.turbine_power", b.turbine_power),
+            mechanical_loss: pw("power.mechanical_loss", b.mechanical_loss),
+            shaft_power: pw("power.shaft_power", b.shaft_power),
+            generator_loss: pw("power.generator_loss", b.generator_loss),
+            gross_power: pw("power.gross_power", b.gross_power),
+            pump_power: pw("power.pump_power", b.pump_power),
+            auxiliary_power: pw("power.auxiliary_power", b.auxiliary_power),
+            net_power: pw("power.net_power", b.net_power),
+        }),
+        leaving_loss: r.leaving.as_ref().map(|l| leaving_out(&ctx, l)),
+        condenser: r.condenser.map(|c| CondenserOut {
+            p: o(&ctx, "condenser.p", Dim::Pressure, c.p),
+            t: o(&ctx, "condenser.T", Dim::Temperature, c.t_sat),
+            cw_inlet_t: o(&ctx, "condenser.cw_inlet_T", Dim::Temperature, c.cw_inlet_t),
+            cw_outlet_t: o(
+                &ctx,
+                "condenser.cw_outlet_T",
+                Dim::Temperature,
+                c.cw_outlet_t,
+            ),
+            cw_rise: o(
+                &ctx,
+                "condenser.cw_rise",
+                Dim::TemperatureDifference,
+                c.cw_rise,
+            ),
+            ttd: o(&ctx, "condenser.ttd", Dim::TemperatureDifference, c.ttd),
+            cw_flow: of(&ctx, "condenser.cw_flow", Dim::MassFlow, c.cw_flow),
+            duty: of(&ctx, "condenser.duty", Dim::HeatFlow, c.duty),
+            iterations: c.iterations,
+        }),
     })
 }

@@ -44,4 +44,5 @@ mod textbook_cogeneration;
 mod textbook_rankine;
 mod tidy;
 mod transports;
+mod turbines_cycles;
 mod units_choice;

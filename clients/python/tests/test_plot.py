@@ -112,6 +112,37 @@ def test_cycle_follows_the_working_fluid_with_separate_branches(client):
     assert open_ext["x"][-1] == pytest.approx(sat.liquid.s, rel=1e-12)
 
 
+def plant_options():
+    """Every option of cycle.rankine that adds a state point: throttle valve, reheater and
+    extraction-line drops, a crossover, a leaving loss, a drain pumped forward, a DCA."""
+    return dict(reheat_p="3 MPa", reheat_T="520 degC", reheat_dp="8 %", throttle_dp="3 %",
+                boiler_dp="1.5 MPa", crossover_p="0.5 MPa", exhaust_area="12 m2", flow=90,
+                heaters=[{"p": "3 MPa", "kind": "closed", "line_dp": "3 %", "dca": 5.6},
+                         {"p": "1 MPa", "kind": "open", "line_dp": "5 %"},
+                         {"p": "0.2 MPa", "kind": "closed", "drain": "pump_forward"},
+                         {"p": "0.05 MPa", "kind": "closed", "line_dp": "2 kPa"}])
+
+
+def test_plant_cycle_follows_the_working_fluid(client):
+    """With every plant option the main paths still join up round the loop, the throttle valve
+    and the three sections included."""
+    r = client.cycle_rankine(boiler_p="12 MPa", boiler_T="520 degC", condenser_p="10 kPa",
+                             turbine_efficiency=0.85, **plant_options())
+    paths = sp.cycle_paths(client, r)
+    main = [p for p in paths if p.main]
+    assert [p.label for p in main if p.role in ("valve", "turbine")] == [
+        "throttle valve", "high-pressure turbine", "intermediate-pressure turbine",
+        "low-pressure turbine"]
+    assert any(p.label.startswith("pumped drain mixing") for p in main)
+    assert sum(p.role == "extraction" for p in paths) == 4
+    assert any(p.role == "drain" and p.label.endswith("pumped forward") for p in paths)
+    chart = sp.ts(client, processes=[r])
+    drawn = [e for e in chart.drawn if e.get("main") and e["role"] not in ("dome", "isobar")]
+    for a, b in zip(drawn, drawn[1:]):
+        assert (a["x"][-1], a["y"][-1]) == (b["x"][0], b["y"][0]), (a["label"], b["label"])
+    assert (drawn[-1]["x"][-1], drawn[-1]["y"][-1]) == (drawn[0]["x"][0], drawn[0]["y"][0])
+
+
 def test_every_cycle_label_is_known(client):
     """cycle_paths reads the roles from the state table's labels: every configuration's labels
     are recognised (a label changed in the server fails here)."""
@@ -120,7 +151,8 @@ def test_every_cycle_label_is_known(client):
              dict(heaters=[{"p": "1 MPa", "kind": "open"}]),
              dict(heaters=[{"p": "2 MPa", "kind": "closed"}, {"p": "0.3 MPa", "kind": "closed"}]),
              dict(reheat_p="2 MPa", reheat_T="480 degC",
-                  heaters=[{"p": "2 MPa", "kind": "closed"}, {"p": "0.6 MPa", "kind": "open"}])]
+                  heaters=[{"p": "2 MPa", "kind": "closed"}, {"p": "0.6 MPa", "kind": "open"}]),
+             plant_options()]
     for extra in cases:
         r = client.cycle_rankine(boiler_p="12 MPa", boiler_T="520 degC", condenser_p="10 kPa",
                                  turbine_efficiency=0.85, **extra)

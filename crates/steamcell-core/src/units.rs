@@ -2,7 +2,8 @@
 //! output presets (`si`, `engineering`, `us`, `bar`, `bar_th`), the units of one request chosen per
 //! dimension and per field name ([`UnitSystem`]), and conversion to and from the internal units of
 //! the physics layer (p MPa, T K, h u kJ/kg, s cp cv kJ/(kg K), v m3/kg, rho kg/m3, w m/s, flow
-//! kg/s, power and heat flow kW, viscosity Pa s, conductivity W/(m K), surface tension N/m).
+//! kg/s, power and heat flow kW, viscosity Pa s, conductivity W/(m K), surface tension N/m, area m2,
+//! volume flow m3/s).
 //!
 //! Invariant: this is the only module that knows unit spellings; every conversion factor is an
 //! exact definition (international foot and pound, thermochemical-free IT Btu) cited where declared.
@@ -74,6 +75,10 @@ pub enum Dim {
     HeatFlowPerLength,
     /// Heat-transfer coefficient (internal W/(m2 K)).
     HeatTransferCoefficient,
+    /// Area, e.g. a turbine's exhaust annulus (internal m2).
+    Area,
+    /// Volume flow, e.g. a turbine's exhaust volume flow (internal m3/s).
+    VolumeFlow,
 }
 
 impl Dim {
@@ -109,6 +114,8 @@ impl Dim {
             Dim::PricePerMass => "price per mass",
             Dim::HeatFlowPerLength => "heat flow per length",
             Dim::HeatTransferCoefficient => "heat-transfer coefficient",
+            Dim::Area => "area",
+            Dim::VolumeFlow => "volume flow",
         }
     }
 
@@ -145,6 +152,8 @@ impl Dim {
             Dim::PricePerMass => "price_per_mass",
             Dim::HeatFlowPerLength => "heat_flow_per_length",
             Dim::HeatTransferCoefficient => "heat_transfer_coefficient",
+            Dim::Area => "area",
+            Dim::VolumeFlow => "volume_flow",
         }
     }
 
@@ -157,7 +166,7 @@ impl Dim {
     }
 
     /// Every dimension, for listing and tests.
-    pub const ALL: [Dim; 29] = [
+    pub const ALL: [Dim; 31] = [
         Dim::Pressure,
         Dim::PressureDifference,
         Dim::Temperature,
@@ -187,6 +196,8 @@ impl Dim {
         Dim::PricePerMass,
         Dim::HeatFlowPerLength,
         Dim::HeatTransferCoefficient,
+        Dim::Area,
+        Dim::VolumeFlow,
     ];
 
     /// The internal unit's symbol, as errors of the physics layer name it.
@@ -218,6 +229,8 @@ impl Dim {
             Dim::PricePerMass => "/kg",
             Dim::HeatFlowPerLength => "kW/m",
             Dim::HeatTransferCoefficient => "W/(m2 K)",
+            Dim::Area => "m2",
+            Dim::VolumeFlow => "m3/s",
         }
     }
 }
@@ -614,6 +627,30 @@ const UNITS: &[(&str, Unit)] = &[
             BTU_KJ * 1e3 / 3600.0 / (FT * FT) / F_K,
         ),
     ),
+    // area
+    ("m2", u("m2", Dim::Area, 1.0)),
+    ("m^2", u("m2", Dim::Area, 1.0)),
+    ("m²", u("m2", Dim::Area, 1.0)),
+    ("cm2", d("cm2", Dim::Area, 1e4)),
+    ("mm2", d("mm2", Dim::Area, 1e6)),
+    ("ft2", u("ft2", Dim::Area, FT * FT)),
+    ("ft^2", u("ft2", Dim::Area, FT * FT)),
+    ("ft²", u("ft2", Dim::Area, FT * FT)),
+    ("sqft", u("ft2", Dim::Area, FT * FT)),
+    ("in2", u("in2", Dim::Area, FT * FT / 144.0)),
+    // volume flow
+    ("m3/s", u("m3/s", Dim::VolumeFlow, 1.0)),
+    ("m^3/s", u("m3/s", Dim::VolumeFlow, 1.0)),
+    ("m³/s", u("m3/s", Dim::VolumeFlow, 1.0)),
+    ("m3/h", d("m3/h", Dim::VolumeFlow, 3600.0)),
+    ("L/s", d("L/s", Dim::VolumeFlow, 1e3)),
+    ("ft3/s", u("ft3/s", Dim::VolumeFlow, FT * FT * FT)),
+    ("cfs", u("ft3/s", Dim::VolumeFlow, FT * FT * FT)),
+    (
+        "ft3/min",
+        u("ft3/min", Dim::VolumeFlow, FT * FT * FT / 60.0),
+    ),
+    ("cfm", u("ft3/min", Dim::VolumeFlow, FT * FT * FT / 60.0)),
 ];
 
 /// A named set of output units.
@@ -775,6 +812,10 @@ impl Preset {
             (_, Dim::HeatFlowPerLength) => "W/m",
             (Preset::Us, Dim::HeatTransferCoefficient) => "Btu/(hft2F)",
             (_, Dim::HeatTransferCoefficient) => "W/(m2K)",
+            (Preset::Us, Dim::Area) => "ft2",
+            (_, Dim::Area) => "m2",
+            (Preset::Us, Dim::VolumeFlow) => "ft3/s",
+            (_, Dim::VolumeFlow) => "m3/s",
         }
     }
 
@@ -1251,6 +1292,7 @@ fn example(dim: Dim) -> &'static str {
         Dim::Length => "50 mm",
         Dim::PricePerEnergy => "30 EUR/MWh",
         Dim::PricePerMass => "25 $/t",
+        Dim::Area => "28 m2",
         _ => "1.5",
     }
 }

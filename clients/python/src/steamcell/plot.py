@@ -8,11 +8,14 @@ isentropic outlet), a ``turbine.train`` result (its expansion line), a ``cycle.r
 a State, a list of States, or a ``(label, process)`` pair.
 
 A ``cycle.rankine`` result is drawn as the working fluid goes round (:func:`cycle_paths`):
-pumps, feedwater heating and the boiler along their isobars (through the dome), the expansion
-line of each turbine section, reheat along its isobar, condensation; the extractions (from the
-expansion line to the heater's saturated liquid, along the heater's isobar) and the closed
-heaters' drains (throttled to the next heater or the condenser) are separate, labelled
-branches. The state numbers of the result's table are written beside their points.
+pumps, feedwater heating (and the mixing of drains pumped forward) and the boiler along their
+isobars (through the dome), the throttle valve, the expansion line of each turbine section
+(HP, IP, LP; the last one through the expansion-line end point to the used-energy end point
+when there is a leaving loss), reheat along its isobar, condensation; the extractions (from the
+expansion line, through the extraction line's pressure drop, to the heater's outlet along the
+shell's isobar) and the closed heaters' drains (throttled to the next heater or the condenser,
+or pumped forward into the feedwater) are separate, labelled branches. The state numbers of the
+result's table are written beside their points.
 
 Charts zoom to the processes drawn (``zoom=False`` shows the whole dome); isobar and isotherm
 labels sit inside the axes. Every function returns a :class:`Chart`: it shows itself in
@@ -103,14 +106,20 @@ class Path:
 
 _LABELS = [
     ("throttle", re.compile(r"^throttle\b")),
+    ("valve_out", re.compile(r"^turbine inlet after the throttle valve")),
     ("cold", re.compile(r"^high-pressure turbine exhaust")),
     ("hot", re.compile(r"^hot reheat")),
+    ("crossover", re.compile(r"^crossover")),
     ("extraction", re.compile(r"^extraction to (open|closed) heater")),
+    ("shell", re.compile(r"^extraction steam at the shell of (open|closed) heater")),
+    ("elep", re.compile(r"^expansion-line end point")),
     ("exhaust", re.compile(r"^turbine exhaust")),
     ("condensate", re.compile(r"^condensate")),
     ("pump", re.compile(r"^pump (\d+) outlet")),
     ("fw_out", re.compile(r"^feedwater leaving (open|closed) heater")),
     ("drain", re.compile(r"^drain of closed heater")),
+    ("drain_pump", re.compile(r"^drain pump outlet of closed heater")),
+    ("fw_mix", re.compile(r"^feedwater after mixing with the pumped drain")),
     ("boiler_in", re.compile(r"^feedwater entering the boiler")),
 ]
 
@@ -142,18 +151,21 @@ def cycle_paths(c, result: Dict[str, Any], label: str = "cycle") -> List[Path]:
         role, arg = _role_of(pt["label"])
         if role == "extraction":
             heaters.append({"kind": arg, "ext": st, "p": st["p"]})
+        elif role == "shell":
+            heaters[-1]["shell"] = st
         elif role == "fw_out":
             h = next(h for h in heaters if "fw_out" not in h)
             h["fw_out"] = st
-        elif role == "drain":
+        elif role in ("drain", "drain_pump", "fw_mix"):
             h = [h for h in heaters if "fw_out" in h][-1]
-            h["drain"] = st
+            h[role] = st
         elif role == "pump":
             by["pump"].append(st)
         else:
             by[role] = st
     throttle, exhaust, cond = by["throttle"], by["exhaust"], by["condensate"]
     cold, hot = by.get("cold"), by.get("hot")
+    cross, valve_out, elep = by.get("crossover"), by.get("valve_out"), by.get("elep")
     out: List[Path] = []
     # feed pumps and feedwater heating, from the condenser up
     pumps = list(by["pump"])
@@ -168,9 +180,13 @@ def cycle_paths(c, result: Dict[str, Any], label: str = "cycle") -> List[Path]:
             out.append(Path("feedwater heating", f"closed heater {_fmt_p(h['p'], pu)}",
                             [fw, h["fw_out"]], isobar=fw["p"]))
             fw = h["fw_out"]
+            if "fw_mix" in h:   # its drain pumped forward mixes into the feedwater
+                out.append(Path("feedwater heating", f"pumped drain mixing {_fmt_p(h['p'], pu)}",
+                                [fw, h["fw_mix"]], isobar=fw["p"]))
+                fw = h["fw_mix"]
         else:
             out.append(Path("feedwater heating", f"open heater {_fmt_p(h['p'], pu)}",
-                            [fw, h["fw_out"]], isobar=h["p"]))
+                            [fw, h["fw_out"]], isobar=h["fw_out"]["p"]))
             fw = h["fw_out"]
             if k < len(pumps):
                 out.append(Path("pump", f"pump {k + 1}", [fw, pumps[k]]))
@@ -179,29 +195,59 @@ def cycle_paths(c, result: Dict[str, Any], label: str = "cycle") -> List[Path]:
     boiler_in = by.get("boiler_in", fw)
     out.append(Path("boiler", f"boiler {_fmt_p(throttle['p'], pu)}", [boiler_in, throttle],
                     isobar=throttle["p"]))
-    # expansion: one line per turbine section, extraction points on it
+    # the throttle valve, then one expansion line per turbine section, extraction points on it
+    start = throttle
+    if valve_out is not None:
+        out.append(Path("valve", "throttle valve", [throttle, valve_out]))
+        start = valve_out
     ext_states = sorted((h["ext"] for h in heaters), key=lambda s: -s["p"])
+    end = [elep, exhaust] if elep is not None else [exhaust]
+
+    def between(hi: float, lo: float) -> List[Dict[str, Any]]:
+        return [s for s in ext_states if lo * (1 + 1e-9) < s["p"] < hi * (1 - 1e-9)]
+
     if cold is not None and hot is not None:
         prh = cold["p"]
-        hp = [throttle] + [s for s in ext_states if s["p"] > prh * (1 + 1e-9)] + [cold]
-        lp = [hot] + [s for s in ext_states if s["p"] < prh * (1 - 1e-9)] + [exhaust]
+        hp = [start] + between(start["p"], prh) + [cold]
         out.append(Path("turbine", "high-pressure turbine", hp))
-        out.append(Path("reheat", f"reheat {_fmt_p(prh, pu)}", [cold, hot], isobar=prh))
+        out.append(Path("reheat", f"reheat {_fmt_p(prh, pu)}", [cold, hot],
+                        isobar=prh if hot["p"] == prh else None))
+        if cross is not None:
+            ip = [hot] + between(hot["p"], cross["p"]) + [cross]
+            out.append(Path("turbine", "intermediate-pressure turbine", ip))
+            lp = [cross] + between(cross["p"], exhaust["p"]) + end
+        else:
+            lp = [hot] + between(hot["p"], exhaust["p"]) + end
         out.append(Path("turbine", "low-pressure turbine", lp))
+    elif cross is not None:
+        out.append(Path("turbine", "high-pressure turbine",
+                        [start] + between(start["p"], cross["p"]) + [cross]))
+        out.append(Path("turbine", "low-pressure turbine",
+                        [cross] + between(cross["p"], exhaust["p"]) + end))
     else:
-        out.append(Path("turbine", "turbine", [throttle] + ext_states + [exhaust]))
+        out.append(Path("turbine", "turbine", [start] + ext_states + end))
     out.append(Path("condenser", f"condenser {_fmt_p(exhaust['p'], pu)}", [exhaust, cond],
                     isobar=exhaust["p"]))
-    # branches: extraction steam to its heater, drains of closed heaters down the cascade
+    # branches: extraction steam to its heater (through the extraction line's drop to the
+    # shell), drains of closed heaters down the cascade or pumped forward
     asc = sorted(heaters, key=lambda h: -h["p"])
+
+    def shell_p(h: Dict[str, Any]) -> float:
+        return h.get("shell", h["ext"])["p"]
+
     for j, h in enumerate(asc):
-        end = h.get("drain") if h["kind"] == "closed" else h["fw_out"]
+        end_st = h.get("drain") if h["kind"] == "closed" else h["fw_out"]
+        via = [h["shell"]] if "shell" in h else []
         out.append(Path("extraction", f"extraction to {h['kind']} heater {_fmt_p(h['p'], pu)}",
-                        [h["ext"], end], style="--", isobar=h["p"], main=False))
+                        [h["ext"]] + via + [end_st], style="--", isobar=shell_p(h), main=False))
         out[-1].heater = h["p"]
-        if h["kind"] == "closed" and h.get("drain") is not None:
-            below = asc[j + 1]["p"] if j + 1 < len(asc) else exhaust["p"]
-            where = (f"heater {_fmt_p(below, pu)}" if j + 1 < len(asc) else "condenser")
+        if h["kind"] == "closed" and h.get("drain") is not None and "drain_pump" in h:
+            out.append(Path("drain", f"drain {_fmt_p(h['p'], pu)} pumped forward",
+                            [h["drain"], h["drain_pump"], h["fw_mix"]], style=":", main=False))
+            out[-1].heater = h["p"]
+        elif h["kind"] == "closed" and h.get("drain") is not None:
+            below = shell_p(asc[j + 1]) if j + 1 < len(asc) else exhaust["p"]
+            where = (f"heater {_fmt_p(asc[j + 1]['p'], pu)}" if j + 1 < len(asc) else "condenser")
             preset = units.get("preset")
             params: Dict[str, Any] = {"given": {"p": below, "h": h["drain"]["h"]}}
             if preset:
@@ -307,13 +353,14 @@ def _isobar_path(c, common, a: Dict[str, Any], b: Dict[str, Any], p: float,
 _LEGEND_GROUPS = {
     "pump": "pumps, feedwater heating", "feedwater heating": "pumps, feedwater heating",
     "boiler": "boiler, reheat", "reheat": "boiler, reheat", "turbine": "turbine sections",
+    "valve": "turbine sections",
     "condenser": "condenser",
 }
 _BRANCH_COLOURS = ["#ff7f0e", "#8c564b", "#e377c2", "#bcbd22", "#17becf", "#7f7f7f"]
 
 _ROLE_COLOURS = {
     "pump": "#1f77b4", "feedwater heating": "#1f77b4", "boiler": "#d62728",
-    "turbine": "#2ca02c", "reheat": "#d62728", "condenser": "#9467bd",
+    "turbine": "#2ca02c", "reheat": "#d62728", "condenser": "#9467bd", "valve": "#2ca02c",
     "extraction": "#ff7f0e", "drain": "#8c564b", "isentropic": "#7f7f7f",
 }
 
@@ -374,8 +421,8 @@ def _chart(c, xkey: str, ykey: str, processes: Sequence[Any], isobars: Optional[
     grouped: set = set()
     for path in paths:
         pts = [q for q in path.points if q.get(xkey) is not None and q.get(ykey) is not None]
-        if path.isobar is not None and len(pts) == 2:
-            pts = _isobar_path(c, common, pts[0], pts[1], path.isobar)
+        if path.isobar is not None and len(pts) >= 2:   # the last step runs along the isobar
+            pts = pts[:-2] + _isobar_path(c, common, pts[-2], pts[-1], path.isobar)
         xs, ys = [q[xkey] for q in pts], [q[ykey] for q in pts]
         if path.role in ("extraction", "drain") and path.isobar is not None or \
                 path.role == "drain":

@@ -14,7 +14,7 @@ use crate::water::state::{self, Phase, State, P_C, T_C};
 /// Standard acceleration of gravity for heads, m/s2 (CGPM 1901; common practice, no source).
 pub const G0: f64 = 9.80665;
 
-fn check_flow(name: &str, flow: f64) -> Result<f64> {
+pub(crate) fn check_flow(name: &str, flow: f64) -> Result<f64> {
     Error::check_finite(name, flow)?;
     if flow < 0.0 {
         return Err(Error::out_of_range(
@@ -29,7 +29,7 @@ fn check_flow(name: &str, flow: f64) -> Result<f64> {
     Ok(flow)
 }
 
-fn check_efficiency(name: &str, eta: f64) -> Result<f64> {
+pub(crate) fn check_efficiency(name: &str, eta: f64) -> Result<f64> {
     Error::check_finite(name, eta)?;
     if eta <= 0.0 {
         return Err(Error::out_of_range(
@@ -66,35 +66,477 @@ fn near_critical(st: &State) -> bool {
 /// How a turbine's outlet is fixed.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum TurbineSpec {
-    /// Isentropic efficiency (0, 1].
+    /// Isentropic efficiency (0, 1] of the expansion line from the turbine inlet (after the
+    /// throttle valve, when there is one) to the outlet pressure; with a moisture-loss rule, the
+    /// dry efficiency.
     Efficiency(f64),
     /// The measured outlet state (at the outlet pressure).
     Outlet(State),
 }
 
+/// How each efficiency of an expansion in several stages is meant (the two conventions of the
+/// trade; each result names the one it used).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum EfficiencyBasis {
+    /// From each stage's own inlet to its own outlet (the stage efficiency; `turbine.train`'s
+    /// default).
+    Stage,
+    /// From the inlet of the stage's section (HP, IP, LP) to the stage's outlet: every point of a
+    /// section lies on one expansion line (`cycle.rankine`'s default).
+    Section,
+}
+
+impl EfficiencyBasis {
+    /// The name on the wire.
+    pub fn name(self) -> &'static str {
+        match self {
+            EfficiencyBasis::Stage => "stage",
+            EfficiencyBasis::Section => "section",
+        }
+    }
+}
+
+/// A loss between the blades and the shaft (mechanical: bearings, seals, oil pumps on the shaft)
+/// or between the shaft and the generator terminals (generator).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub enum DriveLoss {
+    /// No loss.
+    #[default]
+    None,
+    /// An efficiency in (0, 1]: the loss is (1 - eta) times the power entering.
+    Efficiency(f64),
+    /// A fixed loss, kW.
+    Fixed(f64),
+}
+
+/// Power from the blades to the generator terminals, kW. Each figure is the one before it less
+/// its loss, computed as exactly that subtraction, so that
+/// `internal_power - mechanical_loss - generator_loss == gross_power` holds to the bit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Drive {
+    /// Power the steam gives the blades (flow times specific work), kW.
+    pub internal_power: f64,
+    /// Mechanical loss, kW.
+    pub mechanical_loss: f64,
+    /// Shaft power at the coupling, kW.
+    pub shaft_power: f64,
+    /// Generator loss, kW.
+    pub generator_loss: f64,
+    /// Gross electrical output at the generator terminals, kW.
+    pub gross_power: f64,
+}
+
+/// Checks a drive-loss specification: an efficiency in (0, 1], a fixed loss of at least 0 kW.
+/// `which` is "mechanical" or "generator".
+pub fn check_drive(spec: DriveLoss, which: &str) -> Result<()> {
+    match spec {
+        DriveLoss::None => Ok(()),
+        DriveLoss::Efficiency(e) => check_efficiency(&format!("{which}_efficiency"), e).map(|_| ()),
+        DriveLoss::Fixed(l) => {
+            let name = format!("{which}_loss");
+            Error::check_finite(&name, l)?;
+            if l < 0.0 {
+                return Err(Error::out_of_range(
+                    &name,
+                    l,
+                    0.0,
+                    "kW",
+                    Bound::Below,
+                    "a loss (a loss cannot be negative)",
+                ));
+            }
+            Ok(())
+        }
+    }
+}
+
+fn loss_of(spec: DriveLoss, power_in: f64) -> f64 {
+    match spec {
+        DriveLoss::None => 0.0,
+        DriveLoss::Efficiency(e) => power_in * (1.0 - e),
+        DriveLoss::Fixed(l) => l,
+    }
+}
+
+/// Splits the internal (blade) power, kW, into shaft power and gross electrical output. Refuses
+/// losses that leave no power.
+pub fn drive(internal_power: f64, mechanical: DriveLoss, generator: DriveLoss) -> Result<Drive> {
+    check_drive(mechanical, "mechanical")?;
+    check_drive(generator, "generator")?;
+    let mechanical_loss = loss_of(mechanical, internal_power);
+    let shaft_power = internal_power - mechanical_loss;
+    if shaft_power <= 0.0 {
+        return Err(Error::infeasible(format!(
+            "the mechanical loss {mechanical_loss:.3} kW is not below the internal power {internal_power:.3} kW: the turbine would deliver no shaft power"
+        )));
+    }
+    let generator_loss = loss_of(generator, shaft_power);
+    let gross_power = shaft_power - generator_loss;
+    if gross_power <= 0.0 {
+        return Err(Error::infeasible(format!(
+            "the generator loss {generator_loss:.3} kW is not below the shaft power {shaft_power:.3} kW: the generator would deliver no electrical output"
+        )));
+    }
+    Ok(Drive {
+        internal_power,
+        mechanical_loss,
+        shaft_power,
+        generator_loss,
+        gross_power,
+    })
+}
+
+/// The state after a throttle (governing) valve: isenthalpic from `inlet` to p - `dp` (MPa).
+/// Without a drop (dp = 0) the inlet itself.
+pub fn throttle_valve(inlet: &State, dp: f64) -> Result<State> {
+    Error::check_finite("throttle_dp", dp)?;
+    if dp < 0.0 {
+        return Err(Error::invalid(format!(
+            "throttle_dp = {dp} MPa: a pressure drop cannot be negative"
+        )));
+    }
+    if dp == 0.0 {
+        return Ok(*inlet);
+    }
+    if dp >= inlet.props.p {
+        return Err(Error::invalid(format!(
+            "throttle_dp = {dp} MPa is not below the inlet pressure {} MPa: nothing would be left to expand",
+            inlet.props.p
+        )));
+    }
+    ph(inlet.props.p - dp, inlet.props.h)
+}
+
+/// The largest Baumann factor accepted: measured and estimated factors lie between about 0.4 and
+/// 2.5 (S. Senoo and A. J. White, in Advances in Steam Turbines for Modern Power Plants, 2017, as
+/// quoted by the wet-steam community's history page; Baumann's own rule used 1).
+pub const BAUMANN_FACTOR_MAX: f64 = 2.5;
+
+/// Exhaust annulus velocity above which a warning is given, m/s: the exhaust loss climbs
+/// steeply towards choking at about 300 to 370 m/s (exhaust-loss curves of large condensing
+/// turbines; from memory, common practice).
+pub const EXHAUST_VELOCITY_WARNING: f64 = 300.0;
+
+/// Checks a Baumann factor: 0 to [`BAUMANN_FACTOR_MAX`].
+pub fn check_baumann(factor: f64) -> Result<f64> {
+    Error::check_finite("baumann_factor", factor)?;
+    if factor < 0.0 {
+        return Err(Error::out_of_range(
+            "baumann_factor",
+            factor,
+            0.0,
+            "1",
+            Bound::Below,
+            "the Baumann rule (moisture lowers the efficiency, never raises it)",
+        ));
+    }
+    if factor > BAUMANN_FACTOR_MAX {
+        return Err(Error::out_of_range(
+            "baumann_factor",
+            factor,
+            BAUMANN_FACTOR_MAX,
+            "1",
+            Bound::Above,
+            "the Baumann rule (published factors lie between about 0.4 and 2.5)",
+        ));
+    }
+    Ok(factor)
+}
+
+/// Checks an exhaust annulus area, m2: finite and above 0.
+pub fn check_area(area: f64) -> Result<f64> {
+    Error::check_finite("exhaust_area", area)?;
+    if area <= 0.0 {
+        return Err(Error::invalid(format!(
+            "exhaust_area = {area} m2: an exhaust annulus area must be above 0"
+        )));
+    }
+    Ok(area)
+}
+
+/// The moisture loss of an expansion by the Baumann rule.
+///
+/// Rule (K. Baumann, "Recent developments in steam turbine practice", Journal of the Institution
+/// of Electrical Engineers, 1912; from memory; in the form summarised by Senoo and White, 2017):
+/// the efficiency of a wet expansion is the dry efficiency times (1 - alpha y_m), y_m the mean
+/// moisture of the expansion, alpha the Baumann factor (1 in Baumann's rule). Here the dry part
+/// of an expansion that starts superheated keeps the dry efficiency; the wet part of the dry
+/// expansion line, from the pressure where it enters the two-phase region (or from a wet inlet)
+/// to the outlet, does (1 - alpha (y_start + y_end) / 2) of its dry work, the mean moisture
+/// being the mean of the moisture where the wet part starts and where it ends (so a factor of 0
+/// gives the dry line exactly). The end moisture depends on that work; at a fixed pressure the
+/// wet-state enthalpy is linear in the moisture, so the two equations are solved together in
+/// closed form.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MoistureLoss {
+    /// Baumann factor alpha.
+    pub factor: f64,
+    /// The dry efficiency given.
+    pub dry_efficiency: f64,
+    /// Pressure where the expansion line enters the wet region, MPa (the inlet pressure for a
+    /// wet inlet; None when the expansion stays dry and no loss applies).
+    pub wet_from_p: Option<f64>,
+    /// Moisture where the wet part starts (0 at the saturation line, or the inlet's).
+    pub start_moisture: f64,
+    /// Moisture at the end of the expansion line.
+    pub end_moisture: f64,
+    /// Mean moisture of the wet part, (start + end) / 2.
+    pub mean_moisture: f64,
+    /// Efficiency of the wet part: the dry efficiency times (1 - factor times mean moisture)
+    /// (its work is that fraction of the dry line's work over the same pressures).
+    pub wet_efficiency: f64,
+    /// Resulting efficiency from the expansion's inlet to its end.
+    pub efficiency: f64,
+    /// Specific work lost to moisture, kJ/kg (end enthalpy less the dry line's).
+    pub work_lost: f64,
+}
+
+/// The end of an expansion line.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LineEnd {
+    /// End state (the expansion-line end point).
+    pub state: State,
+    /// The isentropic end state from the same inlet.
+    pub isentropic: State,
+    /// The moisture loss, when a rule was asked for.
+    pub moisture: Option<MoistureLoss>,
+}
+
+/// Where the dry expansion line from `inlet` at efficiency `eta` crosses the saturated-vapour
+/// line between `p2` (where it is wet) and the inlet (superheated or supercritical), MPa.
+fn wet_entry_pressure(inlet: &State, p2: f64, eta: f64) -> Result<f64> {
+    let f = |p: f64| -> Result<f64> {
+        let iso = ps(p, inlet.props.s)?;
+        let h = inlet.props.h - eta * (inlet.props.h - iso.props.h);
+        Ok(h - sat_vapour(p)?.props.h)
+    };
+    let mut hi = inlet.props.p.min(P_C * (1.0 - 1e-9));
+    if f(hi)? <= 0.0 {
+        return Err(Error::infeasible(format!(
+            "the expansion line from {:.6} MPa, {:.3} K reaches the two-phase region from the liquid side near the critical point: the Baumann moisture rule is not defined there",
+            inlet.props.p, inlet.props.t
+        )));
+    }
+    let mut lo = p2;
+    // Bisection in ln p: the dry line lies below the saturated-vapour line at lo, above it at hi.
+    for _ in 0..200 {
+        if (hi / lo).ln() < 1e-14 {
+            return Ok((lo * hi).sqrt());
+        }
+        let mid = (lo * hi).sqrt();
+        if f(mid)? > 0.0 {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    Err(Error::not_converged(
+        "the pressure where the expansion line enters the wet region",
+        200,
+    ))
+}
+
+/// The expansion line from `inlet` to `p2` (MPa) at the isentropic efficiency `eta`: with
+/// `baumann` = Some(factor), the efficiency of its wet part is reduced by the Baumann rule (see
+/// [`MoistureLoss`]).
+pub fn expansion_line(inlet: &State, p2: f64, eta: f64, baumann: Option<f64>) -> Result<LineEnd> {
+    let iso = ps(p2, inlet.props.s)?;
+    let dh_s = inlet.props.h - iso.props.h;
+    let h_dry = inlet.props.h - eta * dh_s;
+    let dry = ph(p2, h_dry)?;
+    let Some(alpha) = baumann else {
+        return Ok(LineEnd {
+            state: dry,
+            isentropic: iso,
+            moisture: None,
+        });
+    };
+    if dry.phase != Phase::Wet {
+        return Ok(LineEnd {
+            state: dry,
+            isentropic: iso,
+            moisture: Some(MoistureLoss {
+                factor: alpha,
+                dry_efficiency: eta,
+                wet_from_p: None,
+                start_moisture: 0.0,
+                end_moisture: 0.0,
+                mean_moisture: 0.0,
+                wet_efficiency: eta,
+                efficiency: eta,
+                work_lost: 0.0,
+            }),
+        });
+    }
+    // The wet part of the line starts at a wet inlet, or where the dry line crosses the
+    // saturated-vapour line; its dry work is what the line does from there to p2.
+    let (start_p, start_h, y_a) = if inlet.phase == Phase::Wet {
+        (inlet.props.p, inlet.props.h, moisture(inlet))
+    } else {
+        let px = wet_entry_pressure(inlet, p2, eta)?;
+        let iso_x = ps(px, inlet.props.s)?;
+        (
+            px,
+            inlet.props.h - eta * (inlet.props.h - iso_x.props.h),
+            0.0,
+        )
+    };
+    let w_dry = start_h - h_dry;
+    let (_, liq, vap) = state::saturation_p(p2)?;
+    let h_fg = vap.h - liq.h;
+    // Wet end: h2 = h_a - (1 - alpha (y_a + y2) / 2) w_dry and y2 = (h_g - h2) / h_fg.
+    let y2 = ((vap.h - start_h + w_dry * (1.0 - alpha * y_a / 2.0)) / (h_fg + alpha * w_dry / 2.0))
+        .max(0.0);
+    let mean = (y_a + y2) / 2.0;
+    let factor = 1.0 - alpha * mean;
+    let eta_w = eta * factor;
+    if factor <= 0.0 {
+        return Err(Error::infeasible(format!(
+            "the Baumann rule with factor {alpha} and a mean moisture of {:.1} % leaves no efficiency for the wet part of the expansion",
+            100.0 * mean
+        )));
+    }
+    let end = ph(p2, start_h - factor * w_dry)?;
+    Ok(LineEnd {
+        state: end,
+        isentropic: iso,
+        moisture: Some(MoistureLoss {
+            factor: alpha,
+            dry_efficiency: eta,
+            wet_from_p: Some(start_p),
+            start_moisture: y_a,
+            end_moisture: moisture(&end),
+            mean_moisture: mean,
+            wet_efficiency: eta_w,
+            efficiency: (inlet.props.h - end.props.h) / dh_s,
+            work_lost: end.props.h - dry.props.h,
+        }),
+    })
+}
+
+/// The exhaust leaving loss: the kinetic energy of the steam leaving the last stage through its
+/// annulus, lost to the condenser. V = flow v / area with v at the expansion-line end point
+/// (ELEP, the static exhaust state), loss = V^2 / 2; the used-energy end point (UEEP) is the
+/// ELEP plus the loss at the exhaust pressure (the ELEP/UEEP terms of the trade's turbine
+/// performance methods; only the leaving loss is modelled: no hood loss, turn-up or choking).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct LeavingLoss {
+    /// Exhaust annulus area, m2.
+    pub area: f64,
+    /// Mass flow through the annulus, kg/s.
+    pub flow: f64,
+    /// Volume flow at the ELEP, m3/s.
+    pub volume_flow: f64,
+    /// Annulus (axial) velocity, m/s.
+    pub velocity: f64,
+    /// Leaving loss, kJ/kg of exhaust steam.
+    pub loss: f64,
+    /// Leaving loss, kW.
+    pub power: f64,
+    /// Expansion-line end point.
+    pub expansion_line_end: State,
+    /// Used-energy end point: what the condenser receives.
+    pub used_energy_end: State,
+}
+
+/// The leaving loss of `flow` (kg/s) leaving the expansion-line end point `elep` through an
+/// annulus of `area` (m2).
+pub fn leaving_loss(elep: &State, flow: f64, area: f64) -> Result<LeavingLoss> {
+    check_area(area)?;
+    check_flow("exhaust flow", flow)?;
+    let volume_flow = flow * elep.props.v;
+    let velocity = volume_flow / area;
+    let loss = velocity * velocity / 2000.0;
+    let ueep = ph(elep.props.p, elep.props.h + loss)?;
+    Ok(LeavingLoss {
+        area,
+        flow,
+        volume_flow,
+        velocity,
+        loss,
+        power: flow * loss,
+        expansion_line_end: *elep,
+        used_energy_end: ueep,
+    })
+}
+
+/// Warning for a high exhaust annulus velocity.
+fn velocity_warning(l: &LeavingLoss) -> Option<String> {
+    if l.velocity > EXHAUST_VELOCITY_WARNING {
+        // warning code: turbine.exhaust.velocity_high
+        // meaning: the annulus velocity exceeds about 300 m/s, where exhaust losses climb
+        // steeply towards choking (exhaust-loss curves; from memory, common practice).
+        Some(format!(
+            "exhaust annulus velocity {:.0} m/s is above about 300 m/s: exhaust losses climb steeply towards choking there and only V^2/2 is modelled; check the exhaust area and the flow",
+            l.velocity
+        ))
+    } else {
+        None
+    }
+}
+
+/// Options of a turbine beyond its efficiency: all off by default.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct TurbineOptions {
+    /// Throttle (governing) valve pressure drop at the inlet, MPa (isenthalpic; 0 for none).
+    pub throttle_dp: f64,
+    /// Baumann moisture-loss factor; None for no moisture loss.
+    pub baumann: Option<f64>,
+    /// Exhaust annulus area for the leaving loss, m2; None for no leaving loss.
+    pub exhaust_area: Option<f64>,
+    /// Mechanical loss.
+    pub mechanical: DriveLoss,
+    /// Generator loss.
+    pub generator: DriveLoss,
+}
+
+impl TurbineOptions {
+    fn has_drive(&self) -> bool {
+        self.mechanical != DriveLoss::None || self.generator != DriveLoss::None
+    }
+    fn has_fixed_loss(&self) -> bool {
+        matches!(self.mechanical, DriveLoss::Fixed(_))
+            || matches!(self.generator, DriveLoss::Fixed(_))
+    }
+}
+
 /// Result of a turbine expansion.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Expansion {
-    /// Inlet state.
+    /// Inlet state (before the throttle valve, when there is one).
     pub inlet: State,
-    /// Actual outlet state.
+    /// Actual outlet state (the used-energy end point when there is a leaving loss).
     pub outlet: State,
-    /// Outlet of the isentropic expansion to the same pressure.
+    /// Outlet of the isentropic expansion from the turbine inlet (after the throttle valve) to
+    /// the same pressure.
     pub isentropic_outlet: State,
     /// Specific work h_in - h_out, kJ/kg.
     pub specific_work: f64,
-    /// Isentropic specific work h_in - h_out,s, kJ/kg.
+    /// Isentropic specific work from the turbine inlet, kJ/kg.
     pub isentropic_work: f64,
-    /// Isentropic efficiency (given or derived).
+    /// Isentropic efficiency (given or derived; with a moisture rule, the dry efficiency given).
     pub efficiency: f64,
-    /// Exhaust moisture 1 - x (0 for superheated exhaust).
+    /// Exhaust moisture 1 - x at the expansion-line end (0 for superheated exhaust).
     pub moisture: f64,
-    /// Power, kW, when a flow was given.
+    /// Internal power, kW, when a flow was given.
     pub power: Option<f64>,
     /// Balance (per kg/s when no flow was given).
     pub balance: Balance,
     /// Practitioner warnings.
     pub warnings: Vec<String>,
+    /// The turbine inlet after the throttle valve (the inlet itself without a valve).
+    pub turbine_inlet: State,
+    /// Throttle-valve pressure drop, MPa (0 without a valve).
+    pub throttle_dp: f64,
+    /// Efficiency from the inlet before the throttle valve to the outlet (the valve's loss
+    /// included), when there is a valve.
+    pub efficiency_with_valve: Option<f64>,
+    /// The moisture loss, when a rule was asked for.
+    pub moisture_loss: Option<MoistureLoss>,
+    /// The exhaust leaving loss, when an exhaust area was given.
+    pub leaving: Option<LeavingLoss>,
+    /// Internal, shaft and gross electrical power, when a flow and a drive loss were given.
+    pub drive: Option<Drive>,
 }
 
 /// Expands steam through a turbine to `outlet_p` (MPa).
@@ -104,54 +546,167 @@ pub fn turbine_expand(
     spec: TurbineSpec,
     flow: Option<f64>,
 ) -> Result<Expansion> {
+    turbine_expand_with(inlet, outlet_p, spec, flow, &TurbineOptions::default())
+}
+
+/// Refuses a measured outlet that cannot be the exhaust of the turbine inlet `ti`.
+fn check_measured_outlet(ti: &State, out: &State, iso: &State) -> Result<()> {
+    let p2 = out.props.p;
+    if out.phase != Phase::Wet && p2 < P_C {
+        let (ts, _, _) = state::saturation_p(p2)?;
+        if out.props.t <= ts {
+            return Err(Error::infeasible(format!(
+                "the measured outlet temperature {:.3} K is at or below the saturation temperature {:.3} K at outlet_p = {p2} MPa: a temperature at or below saturation cannot fix a wet exhaust state (every wet state at that pressure has that temperature); give the exhaust quality x or enthalpy h instead (e.g. from a heat balance)",
+                out.props.t, ts
+            )));
+        }
+    }
+    let w = ti.props.h - out.props.h;
+    if w <= 0.0 {
+        let eta = w / (ti.props.h - iso.props.h);
+        return Err(Error::infeasible(format!(
+            "the measured outlet enthalpy {:.3} kJ/kg is not below the inlet enthalpy {:.3} kJ/kg: the turbine would do negative work ({w:.3} kJ/kg) and its efficiency would be {eta:.4}, outside (0, 1]; check the measurements (an outlet temperature reading high, or inlet and outlet swapped)",
+            out.props.h, ti.props.h
+        )));
+    }
+    Ok(())
+}
+
+/// Expands steam through a turbine to `outlet_p` (MPa) with the options of a plant turbine:
+/// a throttle valve at the inlet, the Baumann moisture loss, the exhaust leaving loss and the
+/// mechanical and generator losses.
+pub fn turbine_expand_with(
+    inlet: &State,
+    outlet_p: f64,
+    spec: TurbineSpec,
+    flow: Option<f64>,
+    opts: &TurbineOptions,
+) -> Result<Expansion> {
     Error::check_finite("outlet_p", outlet_p)?;
-    if outlet_p >= inlet.props.p {
+    let ti = throttle_valve(inlet, opts.throttle_dp)?;
+    if outlet_p >= ti.props.p {
         return Err(Error::out_of_range(
             "outlet_p",
             outlet_p,
-            inlet.props.p,
+            ti.props.p,
             "MPa",
             Bound::Above,
-            "a turbine (the outlet pressure must be below the inlet pressure)",
+            if opts.throttle_dp > 0.0 {
+                "a turbine (the outlet pressure must be below the inlet pressure after the throttle valve)"
+            } else {
+                "a turbine (the outlet pressure must be below the inlet pressure)"
+            },
         ));
     }
     if let Some(f) = flow {
         check_flow("flow", f)?;
     }
-    let iso = ps(outlet_p, inlet.props.s)?;
-    let dh_s = inlet.props.h - iso.props.h;
-    let (outlet, eta) = match spec {
+    check_drive(opts.mechanical, "mechanical")?;
+    check_drive(opts.generator, "generator")?;
+    if let Some(a) = opts.baumann {
+        check_baumann(a)?;
+    }
+    if let Some(a) = opts.exhaust_area {
+        check_area(a)?;
+        if flow.is_none() {
+            return Err(Error::invalid(
+                "exhaust_area: the leaving loss needs the exhaust flow (V = flow v / area): give the inlet flow",
+            ));
+        }
+    }
+    if flow.is_none() && opts.has_fixed_loss() {
+        return Err(Error::invalid(
+            "mechanical_loss and generator_loss are in kW: give the inlet flow (or give efficiencies instead)",
+        ));
+    }
+    let line = match spec {
         TurbineSpec::Efficiency(eta) => {
             let eta = check_efficiency("efficiency", eta)?;
-            let h2 = inlet.props.h - eta * dh_s;
-            (ph(outlet_p, h2)?, eta)
+            (expansion_line(&ti, outlet_p, eta, opts.baumann)?, eta)
         }
         TurbineSpec::Outlet(out) => {
+            if opts.baumann.is_some() {
+                return Err(Error::invalid(
+                    "moisture_loss predicts an expansion from an efficiency; a measured outlet already includes the moisture loss: leave moisture_loss out",
+                ));
+            }
+            if opts.exhaust_area.is_some() {
+                return Err(Error::invalid(
+                    "exhaust_area applies to an expansion from an efficiency; a measured outlet is already the used-energy end point: leave exhaust_area out",
+                ));
+            }
             if (out.props.p - outlet_p).abs() > 1e-9 * outlet_p {
                 return Err(Error::invalid(format!(
                     "the measured outlet is at p = {} MPa, not at outlet_p = {outlet_p} MPa",
                     out.props.p
                 )));
             }
-            let eta = (inlet.props.h - out.props.h) / dh_s;
-            (out, eta)
+            let iso = ps(outlet_p, ti.props.s)?;
+            check_measured_outlet(&ti, &out, &iso)?;
+            let eta = (ti.props.h - out.props.h) / (ti.props.h - iso.props.h);
+            (
+                LineEnd {
+                    state: out,
+                    isentropic: iso,
+                    moisture: None,
+                },
+                eta,
+            )
         }
     };
+    let mut ex = finish_expansion(inlet, &ti, line.0, line.1, flow, opts)?;
+    if let TurbineSpec::Outlet(out) = spec {
+        if let Some(sh) = superheat_of(&out) {
+            if sh < MEASURED_SUPERHEAT_WARNING {
+                // warning code: turbine.measured_outlet.near_saturation
+                // meaning: a measured exhaust temperature within about 2 K of saturation cannot
+                // tell a dry exhaust from a wet one within a thermocouple's uncertainty (about
+                // 1 K; common practice, no source).
+                ex.warnings.push(format!(
+                    "the measured exhaust is only {sh:.2} K above saturation: within a thermocouple's uncertainty (about 1 K) it may be wet, where a temperature cannot fix the state; confirm with the exhaust quality or a heat balance"
+                ));
+            }
+        }
+    }
+    Ok(ex)
+}
+
+/// Measured exhaust superheat below which a warning is given, K (a thermocouple's uncertainty
+/// of about 1 K, with a margin; common practice, no source).
+pub const MEASURED_SUPERHEAT_WARNING: f64 = 2.0;
+
+/// The common tail of an expansion: second-law check, leaving loss, warnings, drive, balance.
+fn finish_expansion(
+    inlet: &State,
+    ti: &State,
+    line: LineEnd,
+    eta: f64,
+    flow: Option<f64>,
+    opts: &TurbineOptions,
+) -> Result<Expansion> {
+    let elep = line.state;
+    let iso = line.isentropic;
+    let dh_s = ti.props.h - iso.props.h;
     let mut warnings = Vec::new();
-    if outlet.props.s < inlet.props.s - 1e-9 * inlet.props.s.abs().max(1.0) {
+    if elep.props.s < ti.props.s - 1e-9 * ti.props.s.abs().max(1.0) {
         return Err(Error::infeasible(format!(
             "the outlet entropy {:.6} kJ/(kg K) is below the inlet entropy {:.6} kJ/(kg K): a measured efficiency of {:.4} above 1 is impossible; check the measurements",
-            outlet.props.s, inlet.props.s, eta
+            elep.props.s, ti.props.s, eta
         )));
     }
-    let m = moisture(&outlet);
+    let leaving = match (opts.exhaust_area, flow) {
+        (Some(a), Some(f)) => Some(leaving_loss(&elep, f, a)?),
+        _ => None,
+    };
+    let outlet = leaving.map(|l| l.used_energy_end).unwrap_or(elep);
+    let m = moisture(&elep);
     if m > MOISTURE_WARNING {
         warnings.push(format!(
             "exhaust moisture {:.1} % exceeds about 12 % (common practice): expect blade erosion; consider reheat or a higher exhaust pressure",
             100.0 * m
         ));
     }
-    if outlet.region.number() == 3 || near_critical(&outlet) {
+    if elep.region.number() == 3 || near_critical(&elep) {
         warnings.push(
             "the outlet lies in IF97 region 3 / near the critical point, where properties change steeply".into(),
         );
@@ -162,8 +717,21 @@ pub fn turbine_expand(
             inlet.phase.name()
         ));
     }
+    if let Some(w) = leaving.as_ref().and_then(velocity_warning) {
+        warnings.push(w);
+    }
     let w = inlet.props.h - outlet.props.h;
     let mflow = flow.unwrap_or(1.0);
+    let efficiency_with_valve = if opts.throttle_dp > 0.0 {
+        let iso0 = ps(outlet.props.p, inlet.props.s)?;
+        Some(w / (inlet.props.h - iso0.props.h))
+    } else {
+        None
+    };
+    let drive = match flow {
+        Some(f) if opts.has_drive() => Some(drive(f * w, opts.mechanical, opts.generator)?),
+        _ => None,
+    };
     Ok(Expansion {
         inlet: *inlet,
         outlet,
@@ -180,6 +748,12 @@ pub fn turbine_expand(
             energy_out: mflow * outlet.props.h + mflow * w,
         },
         warnings,
+        turbine_inlet: *ti,
+        throttle_dp: opts.throttle_dp,
+        efficiency_with_valve,
+        moisture_loss: line.moisture,
+        leaving,
+        drive,
     })
 }
 
@@ -188,7 +762,7 @@ pub fn turbine_expand(
 pub struct StageSpec {
     /// Stage outlet pressure, MPa.
     pub outlet_p: f64,
-    /// Stage isentropic efficiency.
+    /// Stage isentropic efficiency (its meaning set by [`EfficiencyBasis`]).
     pub efficiency: f64,
     /// Steam extracted at the stage outlet, kg/s (0 for none).
     pub extraction: f64,
@@ -203,6 +777,56 @@ pub struct StageResult {
     pub flow: f64,
     /// Extraction at the stage outlet, kg/s.
     pub extraction: f64,
+    /// The section the stage belongs to.
+    pub section: String,
+    /// The efficiency given for the stage (dry, with a moisture rule).
+    pub given_efficiency: f64,
+    /// Isentropic efficiency from the stage's own inlet to its expansion-line end.
+    pub stage_efficiency: f64,
+    /// Isentropic efficiency from the inlet of the stage's section to its expansion-line end.
+    pub section_efficiency: f64,
+}
+
+/// A section (HP, IP, LP, ...) of a turbine train: consecutive stages with one name.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SectionResult {
+    /// Section name.
+    pub name: String,
+    /// Index of its first stage (0-based).
+    pub first_stage: usize,
+    /// Index of its last stage (0-based).
+    pub last_stage: usize,
+    /// Section inlet.
+    pub inlet: State,
+    /// Section outlet (the last stage's outlet).
+    pub outlet: State,
+    /// Section power, kW.
+    pub power: f64,
+    /// Isentropic efficiency from the section inlet to its expansion-line end.
+    pub efficiency: f64,
+}
+
+/// Options of a turbine train: the meaning of the stage efficiencies, the section of each stage,
+/// and the plant-turbine options (throttle valve at the train inlet, moisture rule for every
+/// stage, exhaust area of the last stage, drive losses of the whole train).
+#[derive(Debug, Clone, PartialEq)]
+pub struct TrainOptions {
+    /// How the stage efficiencies are meant.
+    pub basis: EfficiencyBasis,
+    /// The section of each stage (empty: one section "turbine").
+    pub sections: Vec<String>,
+    /// Throttle valve, moisture rule, exhaust area, drive losses.
+    pub turbine: TurbineOptions,
+}
+
+impl Default for TrainOptions {
+    fn default() -> Self {
+        TrainOptions {
+            basis: EfficiencyBasis::Stage,
+            sections: Vec::new(),
+            turbine: TurbineOptions::default(),
+        }
+    }
 }
 
 /// Result of a turbine train.
@@ -210,39 +834,116 @@ pub struct StageResult {
 pub struct Train {
     /// Stages in order.
     pub stages: Vec<StageResult>,
-    /// Total power, kW.
+    /// Total internal power, kW.
     pub power: f64,
     /// Exhaust flow, kg/s.
     pub exhaust_flow: f64,
-    /// Overall isentropic efficiency from inlet to final exhaust.
+    /// Overall isentropic efficiency from the inlet (before the throttle valve) to the final
+    /// exhaust.
     pub overall_efficiency: f64,
     /// Balance.
     pub balance: Balance,
     /// Warnings of all stages.
     pub warnings: Vec<String>,
+    /// How the stage efficiencies were meant.
+    pub basis: EfficiencyBasis,
+    /// The sections, in order.
+    pub sections: Vec<SectionResult>,
+    /// The turbine inlet after the throttle valve.
+    pub turbine_inlet: State,
+    /// Throttle-valve pressure drop, MPa.
+    pub throttle_dp: f64,
+    /// The leaving loss of the last stage, when an exhaust area was given.
+    pub leaving: Option<LeavingLoss>,
+    /// Internal, shaft and gross electrical power, when a drive loss was given.
+    pub drive: Option<Drive>,
 }
 
 /// Expands through stages in series with extractions.
 pub fn turbine_train(inlet: &State, flow: f64, stages: &[StageSpec]) -> Result<Train> {
+    turbine_train_with(inlet, flow, stages, &TrainOptions::default())
+}
+
+/// Expands through stages in series with extractions, with sections, an efficiency basis and
+/// the plant-turbine options.
+pub fn turbine_train_with(
+    inlet: &State,
+    flow: f64,
+    stages: &[StageSpec],
+    opts: &TrainOptions,
+) -> Result<Train> {
     check_flow("flow", flow)?;
     if stages.is_empty() {
         return Err(Error::invalid("a turbine train needs at least one stage"));
     }
-    let mut st = *inlet;
+    if !opts.sections.is_empty() && opts.sections.len() != stages.len() {
+        return Err(Error::invalid(format!(
+            "give a section for every stage or for none ({} sections for {} stages)",
+            opts.sections.len(),
+            stages.len()
+        )));
+    }
+    let section_of = |i: usize| -> &str {
+        opts.sections
+            .get(i)
+            .map(String::as_str)
+            .unwrap_or("turbine")
+    };
+    for i in 0..stages.len() {
+        let name = section_of(i);
+        if name.trim().is_empty() {
+            return Err(Error::invalid(format!("stages[{i}].section is empty")));
+        }
+        if i > 0 && name != section_of(i - 1) && (0..i - 1).any(|k| section_of(k) == name) {
+            return Err(Error::invalid(format!(
+                "stages[{i}].section = '{name}': the stages of a section must follow one another"
+            )));
+        }
+    }
+    let t = &opts.turbine;
+    check_drive(t.mechanical, "mechanical")?;
+    check_drive(t.generator, "generator")?;
+    if let Some(a) = t.baumann {
+        check_baumann(a)?;
+    }
+    if let Some(a) = t.exhaust_area {
+        check_area(a)?;
+    }
+    let ti = throttle_valve(inlet, t.throttle_dp)?;
+    let mut st = ti;
     let mut m = flow;
-    let mut out = Vec::new();
+    let mut out: Vec<StageResult> = Vec::new();
     let mut power = 0.0;
     let mut energy_out = 0.0;
     let mut warnings = Vec::new();
+    let mut sec_inlet = ti;
+    let n = stages.len();
     for (i, spec) in stages.iter().enumerate() {
         check_flow(&format!("stages[{i}].extraction"), spec.extraction)?;
-        let ex = turbine_expand(
-            &st,
-            spec.outlet_p,
-            TurbineSpec::Efficiency(spec.efficiency),
-            Some(m),
-        )
-        .map_err(|e| Error::invalid(format!("stage {}: {e}", i + 1)))?;
+        if i > 0 && section_of(i) != section_of(i - 1) {
+            sec_inlet = st;
+        }
+        let stage_opts = TurbineOptions {
+            throttle_dp: 0.0,
+            baumann: t.baumann,
+            exhaust_area: if i + 1 == n { t.exhaust_area } else { None },
+            mechanical: DriveLoss::None,
+            generator: DriveLoss::None,
+        };
+        let stage_err = |e: Error| Error::invalid(format!("stage {}: {e}", i + 1));
+        let ex = match opts.basis {
+            EfficiencyBasis::Stage => turbine_expand_with(
+                &st,
+                spec.outlet_p,
+                TurbineSpec::Efficiency(spec.efficiency),
+                Some(m),
+                &stage_opts,
+            )
+            .map_err(stage_err)?,
+            EfficiencyBasis::Section => {
+                section_stage(&st, &sec_inlet, spec, i, m, &stage_opts).map_err(stage_err)?
+            }
+        };
         power += ex.power.unwrap_or(0.0);
         if spec.extraction > m {
             return Err(Error::infeasible(format!(
@@ -256,6 +957,28 @@ pub fn turbine_train(inlet: &State, flow: f64, stages: &[StageSpec]) -> Result<T
         for w in &ex.warnings {
             warnings.push(format!("stage {}: {w}", i + 1));
         }
+        let elep = ex
+            .leaving
+            .map(|l| l.expansion_line_end)
+            .unwrap_or(ex.outlet);
+        let own = |from: &State, given: Option<f64>| -> Result<f64> {
+            match given {
+                Some(g) => Ok(g),
+                None => {
+                    let iso = ps(elep.props.p, from.props.s)?;
+                    Ok((from.props.h - elep.props.h) / (from.props.h - iso.props.h))
+                }
+            }
+        };
+        let plain = t.baumann.is_none();
+        let stage_efficiency = own(
+            &st,
+            (plain && opts.basis == EfficiencyBasis::Stage).then_some(spec.efficiency),
+        )?;
+        let section_efficiency = own(
+            &sec_inlet,
+            (plain && opts.basis == EfficiencyBasis::Section).then_some(spec.efficiency),
+        )?;
         st = ex.outlet;
         let stage_flow = m;
         m -= spec.extraction;
@@ -263,11 +986,41 @@ pub fn turbine_train(inlet: &State, flow: f64, stages: &[StageSpec]) -> Result<T
             expansion: ex,
             flow: stage_flow,
             extraction: spec.extraction,
+            section: section_of(i).to_string(),
+            given_efficiency: spec.efficiency,
+            stage_efficiency,
+            section_efficiency,
         });
     }
     energy_out += m * st.props.h + power;
     let iso = ps(st.props.p, inlet.props.s)?;
     let overall = (inlet.props.h - st.props.h) / (inlet.props.h - iso.props.h);
+    let mut sections: Vec<SectionResult> = Vec::new();
+    for (i, s) in out.iter().enumerate() {
+        match sections.last_mut() {
+            Some(sec) if sec.name == s.section => {
+                sec.last_stage = i;
+                sec.outlet = s.expansion.outlet;
+                sec.power += s.expansion.power.unwrap_or(0.0);
+                sec.efficiency = s.section_efficiency;
+            }
+            _ => sections.push(SectionResult {
+                name: s.section.clone(),
+                first_stage: i,
+                last_stage: i,
+                inlet: s.expansion.inlet,
+                outlet: s.expansion.outlet,
+                power: s.expansion.power.unwrap_or(0.0),
+                efficiency: s.section_efficiency,
+            }),
+        }
+    }
+    let leaving = out.last().and_then(|s| s.expansion.leaving);
+    let drive = if t.has_drive() {
+        Some(drive(power, t.mechanical, t.generator)?)
+    } else {
+        None
+    };
     Ok(Train {
         stages: out,
         power,
@@ -280,7 +1033,58 @@ pub fn turbine_train(inlet: &State, flow: f64, stages: &[StageSpec]) -> Result<T
             energy_out,
         },
         warnings,
+        basis: opts.basis,
+        sections,
+        turbine_inlet: ti,
+        throttle_dp: t.throttle_dp,
+        leaving,
+        drive,
     })
+}
+
+/// One stage under the section basis: its outlet lies on the expansion line from the section's
+/// inlet at the stage's (section) efficiency.
+fn section_stage(
+    st: &State,
+    sec_inlet: &State,
+    spec: &StageSpec,
+    i: usize,
+    flow: f64,
+    opts: &TurbineOptions,
+) -> Result<Expansion> {
+    Error::check_finite("outlet_p", spec.outlet_p)?;
+    if spec.outlet_p >= st.props.p {
+        return Err(Error::out_of_range(
+            "outlet_p",
+            spec.outlet_p,
+            st.props.p,
+            "MPa",
+            Bound::Above,
+            "a turbine (the outlet pressure must be below the inlet pressure)",
+        ));
+    }
+    let eta = check_efficiency(&format!("stages[{i}].efficiency"), spec.efficiency)?;
+    let line = expansion_line(sec_inlet, spec.outlet_p, eta, opts.baumann)?;
+    let iso = ps(spec.outlet_p, st.props.s)?;
+    let w = st.props.h - line.state.props.h;
+    let eta_stage = w / (st.props.h - iso.props.h);
+    if !(eta_stage > 0.0 && eta_stage <= 1.0 + 1e-12) {
+        return Err(Error::infeasible(format!(
+            "with efficiencies from the section inlet, this stage's own efficiency would be {eta_stage:.4}, outside (0, 1]: its efficiency from the section inlet ({eta}) does not fit the stage before it"
+        )));
+    }
+    finish_expansion(
+        st,
+        st,
+        LineEnd {
+            state: line.state,
+            isentropic: iso,
+            moisture: line.moisture,
+        },
+        eta_stage,
+        Some(flow),
+        opts,
+    )
 }
 
 /// How a pump efficiency is meant.
