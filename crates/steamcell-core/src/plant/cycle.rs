@@ -13,6 +13,7 @@
 //! Units: p MPa, T K, h kJ/kg, s kJ/(kg K), specific work kJ/kg, flow kg/s, power kW.
 
 use super::components::{pump_raise, turbine_expand, PumpEfficiencyKind, TurbineSpec};
+use super::warnings::{Code, Warning};
 use super::{pt, sat_liquid};
 use crate::error::{Bound, Error, Result};
 use crate::water::state::{self, State};
@@ -126,7 +127,7 @@ pub struct RankineResult {
     /// First-law residual |q_in - q_out - w_net| / q_in.
     pub energy_residual: f64,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<Warning>,
 }
 
 struct Heater {
@@ -519,10 +520,10 @@ pub fn rankine(spec: &RankineSpec) -> Result<RankineResult> {
     let residual = (q_in - q_out - w_net).abs() / q_in;
     let moisture = exhaust.x.map(|x| 1.0 - x).unwrap_or(0.0);
     if moisture > super::MOISTURE_WARNING {
-        warnings.push(format!(
+        warnings.push(Warning::new(Code::ExhaustMoisture, format!(
             "turbine exhaust moisture {:.1} % exceeds about 12 % (common practice): consider reheat",
             100.0 * moisture
-        ));
+        )));
     }
     // Flow and power.
     let (flow_kg, power) = match (spec.flow, spec.net_power) {
