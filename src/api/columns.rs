@@ -11,10 +11,12 @@
 //! ```
 //!
 //! Request header: `{"given": ["p", "T"], "rows": N, "want": ["h", "s"], "units"?,
-//! "ambient"?, "formulation"?, "prefer"?, "backward_only"?, "metastable"?}`, followed by the
-//! two `given` columns in that order, in the preset's units (NaN marks a missing value).
-//! Response header: `{"columns": ["h", "s"], "rows": N, "units": {...}, "failed": k,
-//! "failed_rows": [{"row", "code", "message"}, ...], "formulation"}`, followed by one column per
+//! "ambient"?, "formulation"?, "prefer"?, "backward_only"?, "metastable"?, "expect"?}`,
+//! followed by the two `given` columns in that order, in the preset's units (NaN marks a
+//! missing value). Response header: `{"columns": ["h", "s"], "rows": N, "units": {...},
+//! "failed": k, "failed_rows": [{"row", "code", "message"}, ...], "flagged": j,
+//! "flagged_rows": [{"row", "phase", "message"}, ...] (rows in another phase than `expect`),
+//! "formulation"}`, followed by one column per
 //! wanted property (NaN where undefined or failed). Errors of the whole request answer a
 //! non-200 status with a JSON body `{"code", "message", "data"}` (the JSON-RPC error object).
 //!
@@ -46,6 +48,8 @@ struct Header {
     ambient: Option<vocab::Input>,
     #[serde(default)]
     formulation: Option<String>,
+    #[serde(default)]
+    expect: Option<String>,
     #[serde(flatten)]
     flags: vocab::SolveFlags,
 }
@@ -134,7 +138,21 @@ fn compute(body: &[u8], max_rows: usize) -> Result<Vec<u8>> {
             bytes,
         ));
     }
-    let out = rows::compute(&ctx, &opts, Formulation::If97, &cols[0], &cols[1], &h.want)?;
+    let expect = rows::parse_expect(h.expect.as_deref())?;
+    let out = rows::compute(
+        &ctx,
+        &opts,
+        Formulation::If97,
+        &cols[0],
+        &cols[1],
+        &h.want,
+        expect,
+    )?;
+    let flagged_rows: Vec<Value> = out
+        .flagged
+        .iter()
+        .map(|(i, ph)| json!({"row": i, "phase": ph.name(), "message": rows::flag_message(*i, *ph, expect)}))
+        .collect();
     let failed_rows: Vec<Value> = out
         .failed
         .iter()
@@ -158,6 +176,8 @@ fn compute(body: &[u8], max_rows: usize) -> Result<Vec<u8>> {
         "units": units,
         "failed": failed_rows.len(),
         "failed_rows": failed_rows,
+        "flagged": flagged_rows.len(),
+        "flagged_rows": flagged_rows,
         "formulation": "IAPWS-IF97",
     });
     let head = serde_json::to_vec(&header).expect("a JSON value serialises");

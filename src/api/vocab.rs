@@ -13,6 +13,7 @@
 //! `water::Field`).
 
 use crate::error::{Error, Result};
+use crate::plant::warnings::Warning;
 use crate::units::{self, Dim, Preset, Unit, AMBIENT_DEFAULT_MPA};
 use crate::water::pairs::{self, INPUTS};
 use crate::water::state::{Given, Options, Phase, State};
@@ -172,8 +173,10 @@ pub struct SolveFlags {
     /// equations' stated consistency).
     #[serde(default)]
     pub backward_only: bool,
-    /// Allow the IF97 metastable-vapour equation for (p,T) below the saturation temperature
-    /// (p <= 10 MPa). Refused otherwise.
+    /// Allow the IF97 metastable-vapour equation for (p,T) below the saturation temperature,
+    /// where IAPWS R7-97(2012) makes it valid: from the saturated-vapour line to the 5 %
+    /// equilibrium-moisture line, from the triple-point pressure to 10 MPa. A (p,T) below
+    /// saturation outside that range is refused (error 1001, naming the limit).
     #[serde(default)]
     pub metastable: bool,
     /// When a pair admits two states (e.g. (T,h) of a compressed liquid and a wet mixture),
@@ -263,8 +266,9 @@ pub struct StateResult {
     pub thermal_diffusivity: Option<f64>,
     /// Prandtl number mu cp / lambda, dimensionless (null for wet states).
     pub pr: Option<f64>,
-    /// Superheat above the saturation temperature at the state's pressure (vapour below the
-    /// critical pressure only; null otherwise).
+    /// T - T_sat(p), the superheat above the saturation temperature at the state's pressure:
+    /// negative for a subcooled liquid (minus its subcooling) and for a metastable vapour;
+    /// null for a wet state and at or above the critical pressure.
     pub superheat: Option<f64>,
     /// Phase: "liquid", "vapour", "wet" or "supercritical".
     pub phase: String,
@@ -340,6 +344,30 @@ pub fn state_result_with(st: &State, ctx: &Ctx, f: Formulation) -> StateResult {
         ambient: ctx.out("ambient", Dim::Pressure, ctx.ambient),
         formulation: f.name().to_string(),
     }
+}
+
+/// A warning on the wire: its code in the warning catalogue (README, "Warnings") and its
+/// one-line message with the values of the case and what to check.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct WarningOut {
+    /// The catalogue code: a stable snake-case name, e.g. "exhaust_moisture".
+    pub code: String,
+    /// What was found, with its values, and what to check.
+    pub message: String,
+}
+
+impl From<&Warning> for WarningOut {
+    fn from(w: &Warning) -> Self {
+        WarningOut {
+            code: w.code.name().to_string(),
+            message: w.message.clone(),
+        }
+    }
+}
+
+/// The warnings of a result, for the wire.
+pub fn warnings_out(ws: &[Warning]) -> Vec<WarningOut> {
+    ws.iter().map(WarningOut::from).collect()
 }
 
 #[cfg(test)]
