@@ -24,6 +24,6 @@ for side in ("outlet",):
         print(f"  outlet           p {o[\"p\"]:.4f} MPa, T {o[\"T\"]:.2f} degC, h {o[\"h\"]:.1f} kJ/kg, phase {o[\"phase\"]}")
 print("  energy residual ", res["balance"]["energy_residual"])
 for w in res.get("warnings", []):
-    print("  warning:", w)
+    print("  warning [" + w["code"] + "]: " + w["message"])
 '
 done

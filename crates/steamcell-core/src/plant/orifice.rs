@@ -457,14 +457,6 @@ pub fn orifice_flow(inlet: &State, spec: &OrificeSpec) -> Result<OrificeResult> 
         None
     };
 
-    if let Some(st) = &throat {
-        if st.phase == Phase::Wet && vapour_like(&stag) {
-            warnings.push(Warning::new(Code::ThroatWet, format!(
-                "the expansion reaches the wet region in the throat (x = {:.3}); real steam may stay supercooled (metastable) in a fast expansion, which passes somewhat more flow than the equilibrium model",
-                st.x.unwrap_or(1.0)
-            )));
-        }
-    }
     if !vapour_like(&stag) && !frozen {
         warnings.push(Warning::new(Code::FlashingLowerEstimate,
             "liquid or wet inlet: the homogeneous equilibrium model assumes the liquid flashes in equilibrium inside the opening; short openings pass more (up to the frozen limit, flashing \"frozen\"), so treat the flow as a lower estimate",

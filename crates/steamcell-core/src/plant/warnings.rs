@@ -106,7 +106,6 @@ codes! {
     FeedwaterPressureLow => "feedwater_pressure_low",
     HeatingSteamPressureLow => "heating_steam_pressure_low",
     OrificeBetaHigh => "orifice_beta_high",
-    ThroatWet => "throat_wet",
     FlashingLowerEstimate => "flashing_lower_estimate",
     ApproachVelocityHigh => "approach_velocity_high",
     SurfaceAboveTouchLimit => "surface_above_touch_limit",
@@ -235,12 +234,6 @@ pub const CATALOGUE: &[Entry] = &[
         meaning: "the hole is more than 80 % of the pipe diameter",
         check: "the jet is hardly an orifice flow and the discharge coefficient of a sharp-edged hole does not hold: give your own",
         source: NO_SOURCE,
-    },
-    Entry {
-        code: Code::ThroatWet,
-        meaning: "the expansion through an opening reaches the wet region in the throat",
-        check: "real steam may stay supercooled in a fast expansion and pass somewhat more flow than the equilibrium model",
-        source: "physical fact (metastable supercooling in nozzles)",
     },
     Entry {
         code: Code::FlashingLowerEstimate,
