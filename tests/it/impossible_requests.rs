@@ -36,6 +36,12 @@ fn table() -> Vec<(&'static str, &'static str, Value, Want)> {
             Error(1001, "triple-point"),
         ),
         (
+            "IAPWS-95 state below the triple point",
+            "water.state",
+            json!({"given": {"p": "0.005 bar", "h": 2200}, "formulation": "iapws95"}),
+            Error(1003, "triple-point"),
+        ),
+        (
             "(p,s) below the triple point",
             "water.state",
             json!({"given": {"p": "0.005 bar", "s": 5}}),

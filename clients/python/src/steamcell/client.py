@@ -174,7 +174,9 @@ class Client:
 
         Returns the same kind of table as ``data`` (a dict of numpy arrays for a dict when numpy
         is installed, else of lists) with one column per ``want`` plus ``errors`` (None or the
-        row's message). A bad row gives NaN and its error; only a bad request as a whole
+        row's message); with ``expect="vapour"`` (or "liquid", "wet", "supercritical") also
+        ``flagged`` (None or the message of a row solved in another phase, whose values are
+        kept). A bad row gives NaN and its error; only a bad request as a whole
         raises. A Dask DataFrame gives a lazy Dask DataFrame (see :mod:`steamcell.dask`): each
         partition is computed on its worker by the worker's own engine, or by this client's
         server when it is a URL.
@@ -241,6 +243,7 @@ class Client:
             inputs[key] = vals
         out: Dict[str, List[Any]] = {w: [None] * n for w in want_list}
         errs: List[Optional[str]] = [None] * n
+        flags: List[Optional[str]] = [None] * n
         for i, why in bad.items():
             errs[i] = why
         good = [i for i in range(n) if i not in bad]
@@ -268,6 +271,9 @@ class Client:
                         i = rows[j]
                         msg = row_re.sub("", str(e.get("message", "")))
                         errs[i] = f"row {i}: [{e.get('code')}] {msg}"
+                for f in res.get("flagged_rows", []):
+                    i = rows[int(f["row"])]
+                    flags[i] = f"row {i}: " + row_re.sub("", str(f.get("message", "")))
                 bar.update(len(rows))
         finally:
             bar.close()
@@ -276,6 +282,8 @@ class Client:
                                      [nan if v is None else v for v in out[w]])
                                  for w in want_list}
         table["errors"] = errs
+        if "expect" in opts:
+            table["flagged"] = flags
         return table
 
     # -- packed columns (numpy present): numbers travel as raw little-endian doubles
@@ -305,6 +313,7 @@ class Client:
         keys = list(given.keys())
         out = {w: np.empty(n, dtype="<f8") for w in want_list}
         errs: List[Optional[str]] = [None] * n
+        flags: List[Optional[str]] = [None] * n
         step = max(1, int(chunk or self.PACKED_CHUNK))
         bar = _Progress(n, enabled=progress and n > 0)
         header_base: Dict[str, Any] = dict(opts)
@@ -319,19 +328,24 @@ class Client:
         try:
             for start in range(0, n, step):
                 stop = min(n, start + step)
-                cols, failed = self._packed_chunk(np, post, keys, want_list, header_base,
-                                                  arrays[0][start:stop], arrays[1][start:stop])
+                cols, failed, flagged = self._packed_chunk(np, post, keys, want_list, header_base,
+                                                           arrays[0][start:stop], arrays[1][start:stop])
                 for w, c in zip(want_list, cols):
                     out[w][start:stop] = c
                 for e in failed:
                     i = start + int(e["row"])
                     msg = re.sub(r"^row \d+:\s*", "", str(e.get("message", "")))
                     errs[i] = f"row {i}: [{e.get('code')}] {msg}"
+                for f in flagged:
+                    i = start + int(f["row"])
+                    flags[i] = f"row {i}: " + re.sub(r"^row \d+:\s*", "", str(f.get("message", "")))
                 bar.update(stop - start)
         finally:
             bar.close()
         table: Dict[str, Any] = dict(out)
         table["errors"] = errs
+        if "expect" in opts:
+            table["flagged"] = flags
         return table
 
     def _packed_chunk(self, np, post, keys, want_list, header_base, a, b):
@@ -355,14 +369,14 @@ class Client:
             head = _json.loads(data[4:4 + hl])
             arr = np.frombuffer(data, dtype="<f8", offset=4 + hl)
             cols = [arr[k * rows:(k + 1) * rows] for k in range(len(want_list))]
-            return cols, head.get("failed_rows", [])
+            return cols, head.get("failed_rows", []), head.get("flagged_rows", [])
         enc = lambda x: {"f64le": base64.b64encode(x.tobytes()).decode("ascii")}  # noqa: E731
         params = dict(header_base, given={keys[0]: enc(a), keys[1]: enc(b)},
                       want=want_list, encoding="f64le")
         res = self.call_raw("water.batch", params)
         cols = [np.frombuffer(base64.b64decode(res["columns"][w]["f64le"]), dtype="<f8")
                 for w in want_list]
-        return cols, res.get("failed_rows", [])
+        return cols, res.get("failed_rows", []), res.get("flagged_rows", [])
 
 
 def _is_dask(data: Any) -> bool:
@@ -438,25 +452,28 @@ class _Frame:
         return list(col)
 
     def result(self, table: Dict[str, Any], want_list: List[str]) -> Any:
-        errs = table["errors"]
+        # Text columns after the wanted ones: the row errors, and the flagged rows of an
+        # expected phase when one was given.
+        notes = [k for k in ("errors", "flagged") if k in table]
         kind = self.kind
         if kind == "pandas":
             import pandas as pd  # type: ignore
             frame = pd.DataFrame({w: table[w] for w in want_list}, index=self.data.index)
-            frame["errors"] = pd.Series(errs, index=self.data.index, dtype=object)
+            for k in notes:
+                frame[k] = pd.Series(table[k], index=self.data.index, dtype=object)
             return frame
         if kind == "polars":
             import polars as pl  # type: ignore
             cols = [pl.Series(w, table[w], dtype=pl.Utf8 if w == "phase" else pl.Float64)
                     for w in want_list]
-            cols.append(pl.Series("errors", errs, dtype=pl.Utf8))
+            cols.extend(pl.Series(k, table[k], dtype=pl.Utf8) for k in notes)
             return pl.DataFrame(cols)
         if kind == "arrow":
             import pyarrow as pa  # type: ignore
             arrays = [pa.array(table[w], type=pa.string() if w == "phase" else pa.float64())
                       for w in want_list]
-            arrays.append(pa.array(errs, type=pa.string()))
-            return pa.table(arrays, names=want_list + ["errors"])
+            arrays.extend(pa.array(table[k], type=pa.string()) for k in notes)
+            return pa.table(arrays, names=want_list + notes)
         if kind == "xarray":
             import numpy as np  # type: ignore
             import xarray as xr  # type: ignore
@@ -464,10 +481,12 @@ class _Frame:
             shape, dims = first.shape, first.dims
             out = {w: (dims, np.asarray(table[w], dtype=object if w == "phase" else "f8")
                        .reshape(shape)) for w in want_list}
-            out["errors"] = (dims, np.asarray(errs, dtype=object).reshape(shape))
+            for k in notes:
+                out[k] = (dims, np.asarray(table[k], dtype=object).reshape(shape))
             return xr.Dataset(out, coords=first.coords)
         result: Dict[str, Any] = {w: table[w] for w in want_list}
-        result["errors"] = errs
+        for k in notes:
+            result[k] = table[k]
         return result
 
 

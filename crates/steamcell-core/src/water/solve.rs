@@ -25,7 +25,7 @@ use crate::water::{iapws95, melting, state95, transport, Formulation};
 /// checks its range and ice itself.
 pub fn solve(given: Given, opts: &Options, f: Formulation) -> Result<State> {
     match f {
-        Formulation::Iapws95 => state95::solve(given, opts),
+        Formulation::Iapws95 => state95::solve(given, opts).map_err(|e| below_triple(given, e)),
         Formulation::If97 => match state::solve(given, opts) {
             Err(e @ Error::OutOfRange { .. }) => {
                 if let Given::PT(p, t) = given {
@@ -38,6 +38,22 @@ pub fn solve(given: Given, opts: &Options, f: Formulation) -> Result<State> {
             Ok(st) => check_if97(st),
             other => other,
         },
+    }
+}
+
+/// An IAPWS-95 "no state" for a pressure below the triple point, with the cause named: there
+/// only vapour exists (a lower h, s or u, or a smaller v, would need liquid, a wet mixture or
+/// ice).
+fn below_triple(given: Given, e: Error) -> Error {
+    let p = match given {
+        Given::PH(p, _) | Given::PS(p, _) | Given::PU(p, _) | Given::PV(p, _) => p,
+        _ => return e,
+    };
+    match e {
+        Error::NoUniqueState { message } if p < state::P_TRIPLE => Error::no_unique(format!(
+            "{message}; below the triple-point pressure 0.000611657 MPa only vapour exists (no liquid or wet state; colder is ice)"
+        )),
+        other => other,
     }
 }
 
@@ -220,6 +236,8 @@ mod tests {
         let e = solve(Given::PH(5e-4, 2200.0), &O, Formulation::If97).unwrap_err();
         assert!(e.to_string().contains("triple-point"), "{e}");
         let e = solve_first_order(Given::PH(5e-4, 2200.0), &O, Formulation::If97).unwrap_err();
+        assert!(e.to_string().contains("triple-point"), "{e}");
+        let e = solve(Given::PH(5e-4, 2200.0), &O, Formulation::Iapws95).unwrap_err();
         assert!(e.to_string().contains("triple-point"), "{e}");
     }
 
