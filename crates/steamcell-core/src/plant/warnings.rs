@@ -5,8 +5,8 @@
 //!
 //! A warning is for a result that is physically possible but needs the engineer's attention
 //! (wet steam where steam is expected, a small pinch, a high velocity); an impossible result is
-//! refused with an error instead, never warned. No warning fires on a nominal case (the README
-//! examples, `examples/`, the demo and the example site are checked by tests).
+//! refused with an error instead, never warned. No warning fires on a nominal case (the README's
+//! examples, the demo and the audit's leaks: `feasibility.rs::nominal_examples_give_no_warnings`).
 //!
 //! Units: messages carry their values in internal units (p MPa, T K, ...) unless the caller
 //! re-states them (the distribution methods speak the caller's preset).
