@@ -40,6 +40,7 @@ fn main() {
             &a,
             &b,
             &want,
+            None,
         )
         .unwrap();
         let dt = t0.elapsed().as_secs_f64();

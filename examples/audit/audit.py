@@ -68,7 +68,7 @@ with steamcell.connect() as c:
     print(f"{'total':44s} {'':10s} {total_fuel:12.1f} {total_cost:10,.0f}")
     for r in (leak, trap, seat, line):
         for w in r.warnings:
-            print("warning:", w)
+            print(f"warning [{w['code']}]:", w["message"])
     print(leak.caution)
 
     try:

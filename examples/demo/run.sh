@@ -15,15 +15,16 @@ if "error" in r:
 res = r["result"]
 keys = ["specific_work", "power", "efficiency", "moisture", "superheat", "spray_flow", "flash_fraction",
         "vapour_flow", "liquid_flow", "steam_flow", "outlet_flow", "fuel_heat_input", "heat_to_steam", "blowdown_flow"]
+units = res.get("units", {})
 for k in keys:
     if k in res and res[k] is not None:
-        print(f"  {k:16} {res[k]:.4f} {res.get(\"units\", {}).get(k, \"\")}")
+        print("  %-16s %.4f %s" % (k, res[k], units.get(k, "")))
 for side in ("outlet",):
     if side in res:
         o = res[side]
-        print(f"  outlet           p {o[\"p\"]:.4f} MPa, T {o[\"T\"]:.2f} degC, h {o[\"h\"]:.1f} kJ/kg, phase {o[\"phase\"]}")
+        print("  outlet           p %.4f MPa, T %.2f degC, h %.1f kJ/kg, phase %s" % (o["p"], o["T"], o["h"], o["phase"]))
 print("  energy residual ", res["balance"]["energy_residual"])
 for w in res.get("warnings", []):
-    print("  warning:", w)
+    print("  warning [" + w["code"] + "]: " + w["message"])
 '
 done

@@ -7,7 +7,9 @@
 //! Invariant: thin wrappers; the network solver is `crate::plant::balance`.
 
 use super::plant::BalanceOut;
-use super::vocab::{state_result, state_result_at, Ctx, Input, StateResult, Units};
+use super::vocab::{
+    state_result, state_result_at, warnings_out, Ctx, Input, StateResult, Units, WarningOut,
+};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::balance::{self as b, Network, StreamSpec, Unit};
@@ -420,7 +422,7 @@ pub struct UnitOut {
     /// Mass and energy balance of the unit (heat, work and losses included).
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
 }
 
 /// Site totals.
@@ -514,7 +516,7 @@ pub struct SolveResult {
     /// Largest relative residual over all units, the flow equations and the site.
     pub residual: f64,
     /// All warnings, each prefixed with its unit.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units of the numeric fields.
@@ -624,7 +626,7 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
                         mass_lost: m("units.mass_lost", r.mass_lost),
                         energy_lost: e("units.energy_lost", r.energy_lost),
                         balance: bal(ctx, &r.balance),
-                        warnings: r.warnings.clone(),
+                        warnings: warnings_out(&r.warnings),
                     },
                 )
             })
@@ -653,7 +655,7 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
         },
         iterations: s.iterations,
         residual: s.residual,
-        warnings: s.warnings.clone(),
+        warnings: warnings_out(&s.warnings),
         caution: b::CAUTION.into(),
         units_used: units_used(ctx),
     }
@@ -727,7 +729,7 @@ pub struct PointOut {
     /// Outer iterations used.
     pub iterations: usize,
     /// Warnings at this point.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
 }
 
 /// Result of `balance.sweep`.
@@ -876,7 +878,7 @@ fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
                     totals: Some(totals_out(&ctx, &sol.totals)),
                     streams,
                     iterations: sol.iterations,
-                    warnings: sol.warnings,
+                    warnings: warnings_out(&sol.warnings),
                 });
             }
             Err(e) => {

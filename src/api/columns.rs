@@ -12,16 +12,18 @@
 //!
 //! Request header: `{"given": ["p", "T"], "rows": N, "want": ["h", "s", "phase"],
 //! "given_units"?: {"p": "barg", "T": "degC"}, "units"?, "ambient"?, "formulation"?,
-//! "prefer"?, "backward_only"?, "metastable"?}`, followed by the two `given` columns in that
-//! order, each in its unit from `given_units` (else the request's unit for it; NaN marks a
-//! missing value). `units` is the request's units (a preset or an object, as for the methods):
-//! it sets the unit of every wanted column.
+//! "prefer"?, "backward_only"?, "metastable"?, "expect"?}`, followed by the two `given` columns
+//! in that order, each in its unit from `given_units` (else the request's unit for it; NaN marks
+//! a missing value). `units` is the request's units (a preset or an object, as for the
+//! methods): it sets the unit of every wanted column.
 //! Response header: `{"columns": ["h", "s", "phase"], "rows": N, "units": {"h": "kJ/kg", ...,
 //! "preset", "ambient"?}, "legends": {"phase": ["liquid", "vapour", "wet", "supercritical"]},
-//! "failed": k, "failed_rows": [{"row", "code", "message"}, ...], "formulation"}`, followed by
-//! one column per wanted property (NaN where undefined or failed). A text column ("phase")
-//! holds the index of its text in its legend; "region" holds the IF97 region number. `units`
-//! names `ambient` (e.g. "1.01325 bar") when an input or an output column is in a gauge unit.
+//! "failed": k, "failed_rows": [{"row", "code", "message"}, ...], "flagged": j,
+//! "flagged_rows": [{"row", "phase", "message"}, ...] (rows in another phase than `expect`),
+//! "formulation"}`, followed by one column per wanted property (NaN where undefined or
+//! failed). A text column ("phase") holds the index of its text in its legend; "region" holds
+//! the IF97 region number. `units` names `ambient` (e.g. "1.01325 bar") when an input or an
+//! output column is in a gauge unit.
 //! Errors of the whole request answer a non-200 status with a JSON body `{"code", "message",
 //! "data"}` (the JSON-RPC error object).
 //!
@@ -56,6 +58,8 @@ struct Header {
     ambient: Option<vocab::Input>,
     #[serde(default)]
     formulation: Option<String>,
+    #[serde(default)]
+    expect: Option<String>,
     #[serde(flatten)]
     flags: vocab::SolveFlags,
 }
@@ -149,7 +153,21 @@ fn compute(body: &[u8], max_rows: usize) -> Result<Vec<u8>> {
         let bytes = &data[k * h.rows * 8..(k + 1) * h.rows * 8];
         cols.push(InputColumn::from_le_bytes(name, unit, ctx.ambient, bytes));
     }
-    let out = rows::compute(&ctx, &opts, Formulation::If97, &cols[0], &cols[1], &h.want)?;
+    let expect = rows::parse_expect(h.expect.as_deref())?;
+    let out = rows::compute(
+        &ctx,
+        &opts,
+        Formulation::If97,
+        &cols[0],
+        &cols[1],
+        &h.want,
+        expect,
+    )?;
+    let flagged_rows: Vec<Value> = out
+        .flagged
+        .iter()
+        .map(|(i, ph)| json!({"row": i, "phase": ph.name(), "message": rows::flag_message(*i, *ph, expect)}))
+        .collect();
     let failed_rows: Vec<Value> = out
         .failed
         .iter()
@@ -179,6 +197,8 @@ fn compute(body: &[u8], max_rows: usize) -> Result<Vec<u8>> {
         "units": units,
         "failed": failed_rows.len(),
         "failed_rows": failed_rows,
+        "flagged": flagged_rows.len(),
+        "flagged_rows": flagged_rows,
         "formulation": "IAPWS-IF97",
     });
     if !legends.is_empty() {

@@ -11,13 +11,14 @@
 //! are re-stated in the caller's units.
 
 use super::plant::{BalanceOut, Stream};
-use super::vocab::{state_result_at, Ctx, Input, StateResult, Units};
+use super::vocab::{state_result_at, warnings_out, Ctx, Input, StateResult, Units, WarningOut};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::correlations::FrictionModel;
 use crate::plant::losses::{Costing, Price, YearlyLoss};
 use crate::plant::orifice::{self as orf, Approach, Flashing, Shape};
 use crate::plant::pipe::{self, Layer, LineSpec, Surroundings, Wall};
+use crate::plant::warnings::{Code, Warning};
 use crate::plant::{Balance, CAUTION};
 use crate::units::Dim;
 use crate::water::state::State;
@@ -305,7 +306,7 @@ pub struct OrificeResult {
     /// Balance of the jet: stagnation enthalpy in; throat enthalpy plus kinetic energy out.
     pub balance: BalanceOut,
     /// Practitioner warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units of the numeric fields.
@@ -442,7 +443,7 @@ fn orifice_flow(p: OrificeParams) -> Result<OrificeResult> {
         }),
         yearly: yearly(&ctx, "yearly", &c, &y, BASIS_STEAM),
         balance: balance_out(&ctx, &r.balance),
-        warnings: r.warnings,
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
         units,
     };
@@ -708,7 +709,7 @@ pub struct PipeResult {
     /// potential energy, and the heat lost, out).
     pub balance: BalanceOut,
     /// Practitioner warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units of the numeric fields.
@@ -964,14 +965,14 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
     use crate::water::state::Phase;
     let steam = r.inlet.phase != Phase::Liquid;
     if r.max_surface_t > touch {
-        warnings.push(format!(
+        warnings.push(Warning::new(Code::SurfaceAboveTouchLimit, format!(
             "the {} surface reaches {:.1} {} above the touch limit {:.1} {}: personnel protection (insulation, guards) is needed where it can be touched (common practice; follow local codes)",
             built_name,
             o(&ctx, "surface_T", Dim::Temperature, r.max_surface_t),
             ctx.unit("surface_T", Dim::Temperature),
             o(&ctx, "touch_limit_T", Dim::Temperature, touch),
             ctx.unit("touch_limit_T", Dim::Temperature),
-        ));
+        )));
     }
     let vmax = r.max_velocity;
     let (limit, what) = if !steam {
@@ -988,31 +989,31 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
         )
     };
     if vmax > limit {
-        warnings.push(format!(
+        warnings.push(Warning::new(Code::VelocityHigh, format!(
             "the velocity reaches {:.2} {} above about {:.0} {} for {what}: expect noise, erosion and a large pressure drop (common practice, no source)",
             o(&ctx, "velocity", Dim::Speed, vmax),
             ctx.unit("velocity", Dim::Speed),
             o(&ctx, "velocity", Dim::Speed, limit),
             ctx.unit("velocity", Dim::Speed),
-        ));
+        )));
     }
     if r.transitional {
-        warnings.push("the flow is in laminar-turbulent transition (2300 < Re < 4000) somewhere along the line: the friction factor there is an interpolation and uncertain".into());
+        warnings.push(Warning::new(Code::TransitionalFlow, "the flow is in laminar-turbulent transition (2300 < Re < 4000) somewhere along the line: the friction factor there is an interpolation and uncertain"));
     }
     if !steam && r.outlet.phase == Phase::Wet {
-        warnings.push(format!(
+        warnings.push(Warning::new(Code::LineFlashing, format!(
             "the water flashes in the line (outlet quality {:.4}): the line runs two-phase, with the risk of water hammer",
             r.outlet.x.unwrap_or(0.0)
-        ));
+        )));
     }
     if steam && r.condensate.unwrap_or(0.0) > 0.0 {
-        warnings.push("condensate forms along the line: drain it with traps at low points (the calculation carries it along with the steam, homogeneously)".into());
+        warnings.push(Warning::new(Code::LineCondensate, "condensate forms along the line: drain it with traps at low points (the calculation carries it along with the steam, homogeneously)"));
     }
     if r.pressure_drop > 0.1 * r.inlet.props.p {
-        warnings.push(format!(
+        warnings.push(Warning::new(Code::PressureDropHigh, format!(
             "the pressure drop is {:.1} % of the inlet pressure: consider a larger line (common practice, no source)",
             100.0 * r.pressure_drop / r.inlet.props.p
-        ));
+        )));
     }
     if steam && r.inlet.phase == Phase::Vapour {
         let mach = r
@@ -1022,7 +1023,7 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
             .map(|pt| pt.velocity / pt.state.props.w)
             .fold(0.0, f64::max);
         if mach > 0.3 {
-            warnings.push(format!("the Mach number reaches {mach:.2}: the flow is strongly compressible; check the outlet pressure against the choking limit"));
+            warnings.push(Warning::new(Code::MachHigh, format!("the Mach number reaches {mach:.2}: the flow is strongly compressible; check the outlet pressure against the choking limit")));
         }
     }
 
@@ -1130,7 +1131,7 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
         yearly: built_yearly,
         insulation,
         balance: balance_out(&ctx, &r.balance),
-        warnings,
+        warnings: warnings_out(&warnings),
         caution: CAUTION.into(),
         units,
     };

@@ -34,6 +34,7 @@ pub mod selftest;
 pub mod server_ctx;
 pub mod server_methods;
 pub mod site;
+pub mod strict;
 pub mod validation;
 pub mod vocab;
 pub mod water;
@@ -451,7 +452,9 @@ impl MethodSpec {
 }
 
 /// Decodes a params value into `P`. Absent params (`null`) and an empty array count as `{}`;
-/// any other array is refused (params are by name). Errors name the offending field's path.
+/// any other array is refused (params are by name), and so is an array anywhere an object with
+/// named fields is expected ([`strict::Strict`]: serde would read it by position). Errors name
+/// the offending field's path.
 pub fn decode_params<P: DeserializeOwned>(params: Value) -> Result<P, ApiError> {
     let params = match params {
         Value::Null => Value::Object(Default::default()),
@@ -473,7 +476,7 @@ pub fn decode_params<P: DeserializeOwned>(params: Value) -> Result<P, ApiError> 
             ))
         }
     };
-    serde_path_to_error::deserialize(params).map_err(|e| {
+    serde_path_to_error::deserialize(strict::Strict(params)).map_err(|e| {
         let path = e.path().to_string();
         let inner = e.into_inner();
         let last = path.rsplit('.').next().unwrap_or("");

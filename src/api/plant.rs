@@ -8,7 +8,9 @@
 //!
 //! Invariant: thin wrappers; the calculations are `crate::plant`.
 
-use super::vocab::{state_key_values, state_result_at, Ctx, Input, StateResult, Units};
+use super::vocab::{
+    state_key_values, state_result_at, warnings_out, Ctx, Input, StateResult, Units, WarningOut,
+};
 use super::MethodSpec;
 use crate::error::{Error, Result};
 use crate::plant::components as c;
@@ -41,7 +43,7 @@ pub fn methods() -> Vec<MethodSpec> {
         MethodSpec::new::<PumpParams, PumpResult>(
             "pump.raise",
             "Pump: outlet state, work, power, head and NPSH available",
-            concat!("efficiency_kind \"isentropic\" (default: w = (h(p2,s1) - h1)/eta) or \"hydraulic\" (w = v1 (p2 - p1)/eta). NPSH available is (p1 - psat(T1))/(rho1 g) at the inlet (suction) state.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
+            concat!("efficiency_kind \"isentropic\" (default: w = (h(p2,s1) - h1)/eta) or \"hydraulic\" (w = v1 (p2 - p1)/eta). NPSH available is (p1 - psat(T1))/(rho1 g) at the inlet (suction) state plus `suction_head` (the liquid level above the pump inlet less the suction-line losses, when the inlet is the suction vessel's state).", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             pump_raise,
         )
         .quick(),
@@ -76,7 +78,7 @@ pub fn methods() -> Vec<MethodSpec> {
         MethodSpec::new::<ExchangerParams, ExchangerResult>(
             "exchanger.balance",
             "Two-stream counterflow heat exchanger or feedwater heater: solve the one unknown of outlets and flows",
-            concat!("Give both inlets and three of: hot outlet, cold outlet, hot flow, cold flow. An outlet may give only T (or h, or x); its pressure then defaults to its inlet's. Returns duty, LMTD, end differences, pinch, terminal temperature difference and drain-cooler approach; refuses a temperature cross.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
+            concat!("Give both inlets and three of: hot outlet, cold outlet, hot flow, cold flow. An outlet may give only T (or h, or x); its pressure then defaults to its inlet's. Returns duty, end differences, the pinch (checked at the ends, at every bubble and dew point of both streams and between them) and where it is, the zones between the phase-change points (desuperheating, condensing, drain cooling, ...) with each zone's duty, LMTD and UA, the overall UA and the effective mean temperature difference, the end-to-end LMTD where no stream changes phase inside, and, where the hot stream condenses, the terminal temperature difference and drain-cooler approach; refuses a temperature cross, naming where it happens.", " Caution: results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review."),
             exchanger_balance,
         )
         .quick(),
@@ -550,7 +552,7 @@ pub struct TurbineResult {
     /// Mass and energy balance.
     pub balance: BalanceOut,
     /// Practitioner warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units of the numeric fields.
@@ -615,7 +617,7 @@ fn expansion_out(ctx: &Ctx, ex: &c::Expansion) -> TurbineResult {
         efficiency: o(ctx, "efficiency", Dim::Dimensionless, ex.efficiency),
         moisture: o(ctx, "moisture", Dim::Dimensionless, ex.moisture),
         balance: balance(ctx, &ex.balance),
-        warnings: ex.warnings.clone(),
+        warnings: warnings_out(&ex.warnings),
         caution: CAUTION.into(),
         units: units_map(ctx, &units),
         turbine_inlet: valve.then(|| sr(ctx, "turbine_inlet", &ex.turbine_inlet)),
@@ -801,7 +803,7 @@ pub struct TrainResult {
     /// Mass and energy balance.
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -1001,7 +1003,7 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
             t.overall_efficiency,
         ),
         balance: balance(&ctx, &t.balance),
-        warnings: t.warnings,
+        warnings: warnings_out(&t.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &units),
         efficiency_basis: t.basis.name().into(),
@@ -1029,6 +1031,13 @@ pub struct PumpParams {
     /// "isentropic" (default) or "hydraulic".
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub efficiency_kind: Option<String>,
+    /// Suction head (a length of liquid): the height of the suction vessel's liquid surface
+    /// above the pump inlet less the suction-line losses, when `inlet` is the vessel's state
+    /// (e.g. saturated liquid in a deaerator tank). The NPSH available is then
+    /// (p - psat(T)) / (rho g) plus this head. Without it the NPSH available is the inlet
+    /// state's own (0 for a saturated suction, with a warning asking for this).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub suction_head: Option<Input>,
     /// Units of bare numbers and of the answer: a preset ("engineering" by default, "si", "us",
     /// "bar", "bar_th") or an object with a preset and units per dimension, field or path, e.g.
     /// {"preset": "engineering", "p": "barg", "flow": "t/h", "power": "MW"}.
@@ -1058,12 +1067,13 @@ pub struct PumpResult {
     pub efficiency_kind: String,
     /// Differential head in the inlet liquid.
     pub head: f64,
-    /// NPSH available at the inlet.
+    /// NPSH available: (p - psat(T)) / (rho g) at the inlet plus the suction head (null above
+    /// the critical temperature).
     pub npsh_available: Option<f64>,
     /// Balance.
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -1085,7 +1095,12 @@ fn pump_raise(p: PumpParams) -> Result<PumpResult> {
             )))
         }
     };
-    let r = c::pump_raise(&inlet, p2, eta, kind, flow)?;
+    let suction = p
+        .suction_head
+        .as_ref()
+        .map(|z| ctx.value("suction_head", Dim::Length, z))
+        .transpose()?;
+    let r = c::pump_raise_from(&inlet, p2, eta, kind, flow, suction)?;
     Ok(PumpResult {
         inlet: sr(&ctx, "inlet", &r.inlet),
         outlet: sr(&ctx, "outlet", &r.outlet),
@@ -1100,7 +1115,7 @@ fn pump_raise(p: PumpParams) -> Result<PumpResult> {
         head: o(&ctx, "head", Dim::Length, r.head),
         npsh_available: of(&ctx, "npsh_available", Dim::Length, r.npsh_available),
         balance: balance(&ctx, &r.balance),
-        warnings: r.warnings,
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
         units: units_map(
             &ctx,
@@ -1148,7 +1163,7 @@ pub struct ValveResult {
     /// Balance.
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -1172,7 +1187,7 @@ fn valve_throttle(p: ValveParams) -> Result<ValveResult> {
             r.temperature_drop,
         ),
         balance: balance(&ctx, &r.balance),
-        warnings: r.warnings,
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
         units: units_map(
             &ctx,
@@ -1233,7 +1248,7 @@ pub struct SprayResult {
     /// Balance.
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -1275,7 +1290,7 @@ fn desuperheater_spray(p: SprayParams) -> Result<SprayResult> {
         outlet_flow: o(&ctx, "outlet_flow", Dim::MassFlow, r.outlet_flow),
         superheat: o(&ctx, "superheat", Dim::TemperatureDifference, r.superheat),
         balance: balance(&ctx, &r.balance),
-        warnings: r.warnings,
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
         units: units_map(
             &ctx,
@@ -1328,7 +1343,7 @@ pub struct FlashResult {
     /// Balance.
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -1350,7 +1365,7 @@ fn flash_separate(p: FlashParams) -> Result<FlashResult> {
         vapour_flow: o(&ctx, "vapour_flow", Dim::MassFlow, r.vapour_flow),
         liquid_flow: o(&ctx, "liquid_flow", Dim::MassFlow, r.liquid_flow),
         balance: balance(&ctx, &r.balance),
-        warnings: r.warnings,
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
         units: units_map(
             &ctx,
@@ -1392,7 +1407,7 @@ pub struct HeaderResult {
     /// Balance.
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -1416,7 +1431,7 @@ fn header_mix(p: HeaderParams) -> Result<HeaderResult> {
         outlet: sr(&ctx, "outlet", &r.outlet),
         flow: o(&ctx, "flow", Dim::MassFlow, r.flow),
         balance: balance(&ctx, &r.balance),
-        warnings: r.warnings,
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &[("flow", Dim::MassFlow)]),
     })
@@ -1470,22 +1485,40 @@ pub struct ExchangerResult {
     pub cold_flow: f64,
     /// Duty.
     pub duty: f64,
-    /// Counterflow log-mean temperature difference.
-    pub lmtd: f64,
+    /// Counterflow log-mean temperature difference of the two ends; null where a stream
+    /// changes phase inside the exchanger (desuperheating, condensing and drain-cooling zones
+    /// of a feedwater heater), where the two ends alone do not give the mean difference:
+    /// size from `effective_mtd` or `ua` (zone by zone) instead.
+    pub lmtd: Option<f64>,
     /// Hot in - cold out.
     pub hot_end_difference: f64,
     /// Hot out - cold in.
     pub cold_end_difference: f64,
-    /// Smallest temperature difference along the exchanger.
+    /// Smallest temperature difference along the exchanger (pinch), found at the ends, at
+    /// every phase-change point (bubble and dew points) of both streams and between them.
     pub pinch: f64,
-    /// Feedwater-heater terminal temperature difference: Tsat(hot-side p) - cold out.
+    /// Where the pinch is, in words (e.g. "the hot stream's dew point").
+    pub pinch_at: String,
+    /// The zones between the phase-change points, hot end first: what each stream does
+    /// (desuperheating, condensing, drain cooling; heating, boiling, superheating), the duty,
+    /// the temperatures, the zone's LMTD and UA. One zone without a phase change.
+    pub zones: Vec<ZoneOut>,
+    /// Overall UA: the sum of the zones' (duty over temperature difference).
+    pub ua: f64,
+    /// Effective mean temperature difference duty / UA, zone by zone: the mean difference to
+    /// size the surface from (`lmtd` is the two ends' alone).
+    pub effective_mtd: f64,
+    /// Feedwater-heater terminal temperature difference: Tsat(hot-side p) - cold out; only
+    /// where the hot stream condenses (null for a single-phase exchanger, where it has no
+    /// meaning).
     pub terminal_temperature_difference: Option<f64>,
-    /// Feedwater-heater drain-cooler approach: hot out - cold in.
-    pub drain_cooler_approach: f64,
+    /// Feedwater-heater drain-cooler approach: hot out (the drain) - cold in; only where the
+    /// hot stream condenses (null otherwise).
+    pub drain_cooler_approach: Option<f64>,
     /// Balance.
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -1527,28 +1560,101 @@ fn exchanger_balance(p: ExchangerParams) -> Result<ExchangerResult> {
         cold_out: sr(&ctx, "cold_out", &r.cold_out),
         cold_flow: o(&ctx, "cold_flow", Dim::MassFlow, r.cold_flow),
         duty: o(&ctx, "duty", Dim::HeatFlow, r.duty),
-        lmtd: dt("lmtd", r.lmtd),
+        lmtd: r.lmtd.map(|x| dt("lmtd", x)),
         hot_end_difference: dt("hot_end_difference", r.hot_end_difference),
         cold_end_difference: dt("cold_end_difference", r.cold_end_difference),
         pinch: dt("pinch", r.pinch),
+        pinch_at: r.pinch_at.clone(),
+        zones: r
+            .zones
+            .iter()
+            .map(|z| ZoneOut {
+                hot: z.hot_process.into(),
+                cold: z.cold_process.into(),
+                duty: o(&ctx, "zones.duty", Dim::HeatFlow, z.duty),
+                hot_t_in: o(&ctx, "zones.T", Dim::Temperature, z.hot_t.0),
+                hot_t_out: o(&ctx, "zones.T", Dim::Temperature, z.hot_t.1),
+                cold_t_in: o(&ctx, "zones.T", Dim::Temperature, z.cold_t.1),
+                cold_t_out: o(&ctx, "zones.T", Dim::Temperature, z.cold_t.0),
+                lmtd: dt("zones.lmtd", z.lmtd),
+                ua: conductance(&ctx, "zones.ua", z.ua),
+            })
+            .collect(),
+        ua: conductance(&ctx, "ua", r.ua),
+        effective_mtd: dt("effective_mtd", r.effective_mtd),
         terminal_temperature_difference: r
             .terminal_temperature_difference
             .map(|x| dt("terminal_temperature_difference", x)),
-        drain_cooler_approach: dt("drain_cooler_approach", r.drain_cooler_approach),
+        drain_cooler_approach: r
+            .drain_cooler_approach
+            .map(|x| dt("drain_cooler_approach", x)),
         balance: balance(&ctx, &r.balance),
-        warnings: r.warnings,
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
-        units: units_map(
-            &ctx,
-            &[
-                ("hot_flow", Dim::MassFlow),
-                ("cold_flow", Dim::MassFlow),
-                ("duty", Dim::HeatFlow),
-                ("lmtd", Dim::TemperatureDifference),
-                ("pinch", Dim::TemperatureDifference),
-            ],
-        ),
+        units: {
+            let mut units = units_map(
+                &ctx,
+                &[
+                    ("hot_flow", Dim::MassFlow),
+                    ("cold_flow", Dim::MassFlow),
+                    ("duty", Dim::HeatFlow),
+                    ("lmtd", Dim::TemperatureDifference),
+                    ("pinch", Dim::TemperatureDifference),
+                    ("effective_mtd", Dim::TemperatureDifference),
+                    ("zones.duty", Dim::HeatFlow),
+                    ("zones.T", Dim::Temperature),
+                    ("zones.lmtd", Dim::TemperatureDifference),
+                ],
+            );
+            units.insert("ua".into(), conductance_unit(&ctx, "ua"));
+            units.insert("zones.ua".into(), conductance_unit(&ctx, "zones.ua"));
+            units
+        },
     })
+}
+
+/// One zone of `exchanger.balance`, between phase-change points.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct ZoneOut {
+    /// What the hot stream does: "desuperheating", "condensing", "drain cooling", "vapour
+    /// cooling", "liquid cooling" or "supercritical cooling".
+    pub hot: String,
+    /// What the cold stream does: "heating", "boiling", "superheating" or "supercritical
+    /// heating".
+    pub cold: String,
+    /// The zone's duty.
+    pub duty: f64,
+    /// Hot-stream temperature entering the zone.
+    #[serde(rename = "hot_T_in")]
+    pub hot_t_in: f64,
+    /// Hot-stream temperature leaving the zone.
+    #[serde(rename = "hot_T_out")]
+    pub hot_t_out: f64,
+    /// Cold-stream temperature entering the zone.
+    #[serde(rename = "cold_T_in")]
+    pub cold_t_in: f64,
+    /// Cold-stream temperature leaving the zone.
+    #[serde(rename = "cold_T_out")]
+    pub cold_t_out: f64,
+    /// The zone's log-mean temperature difference (straight temperature lines in the zone).
+    pub lmtd: f64,
+    /// The zone's UA = duty / LMTD.
+    pub ua: f64,
+}
+
+/// A thermal conductance UA (internal kW/K) in the preset's heat-flow unit per its
+/// temperature-difference unit (kW/K, W/K, MMBtu/h per degF).
+fn conductance(ctx: &Ctx, name: &str, ua: f64) -> f64 {
+    ctx.out(name, Dim::HeatFlow, ua) / ctx.out(name, Dim::TemperatureDifference, 1.0)
+}
+
+/// The unit of a thermal conductance, as [`conductance`] gives it.
+fn conductance_unit(ctx: &Ctx, name: &str) -> String {
+    format!(
+        "{}/{}",
+        ctx.unit(name, Dim::HeatFlow),
+        ctx.unit(name, Dim::TemperatureDifference)
+    )
 }
 
 // ---------------------------------------------------------------- boiler.fire
@@ -1605,7 +1711,7 @@ pub struct BoilerResult {
     /// Balance.
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -1647,7 +1753,7 @@ fn boiler_fire(p: BoilerParams) -> Result<BoilerResult> {
         fuel_heat_input: q("fuel_heat_input", r.fuel_heat_input),
         losses: q("losses", r.losses),
         balance: balance(&ctx, &r.balance),
-        warnings: r.warnings,
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &[]),
     })
@@ -1694,7 +1800,7 @@ pub struct DeaeratorResult {
     /// Balance.
     pub balance: BalanceOut,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -1729,7 +1835,7 @@ fn deaerator_balance(p: DeaeratorParams) -> Result<DeaeratorResult> {
         outlet_flow: m("outlet_flow", r.outlet_flow),
         vent_flow: m("vent_flow", r.vent_flow),
         balance: balance(&ctx, &r.balance),
-        warnings: r.warnings,
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &[]),
     })
@@ -2048,7 +2154,7 @@ pub struct RankineResult {
     /// First-law residual of the cycle.
     pub energy_residual: f64,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<WarningOut>,
     /// Standing caution.
     pub caution: String,
     /// Units.
@@ -2362,7 +2468,7 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
             r.exhaust_moisture,
         ),
         energy_residual: r.energy_residual,
-        warnings: r.warnings.clone(),
+        warnings: warnings_out(&r.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &units),
         mass_residual: r.mass_residual,

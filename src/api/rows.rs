@@ -213,6 +213,9 @@ pub struct Rows {
     pub values: Vec<f64>,
     /// The failed rows, in row order.
     pub failed: Vec<(usize, Error)>,
+    /// The rows solved in another phase than the batch's `expect`, with their phase, in row
+    /// order (their values are given; the flag says they are not what was expected).
+    pub flagged: Vec<(usize, Phase)>,
 }
 
 impl Rows {
@@ -326,6 +329,54 @@ pub fn check_want(want: &[String], texts: bool) -> Result<()> {
     Ok(())
 }
 
+/// The phase a batch expects (`expect`): "liquid", "vapour" (or "vapor", "steam"), "wet" or
+/// "supercritical"; None when absent.
+pub fn parse_expect(expect: Option<&str>) -> Result<Option<Phase>> {
+    Ok(match expect {
+        None => None,
+        Some("liquid") | Some("water") => Some(Phase::Liquid),
+        Some("vapour") | Some("vapor") | Some("steam") => Some(Phase::Vapour),
+        Some("wet") => Some(Phase::Wet),
+        Some("supercritical") => Some(Phase::Supercritical),
+        Some(other) => {
+            return Err(Error::invalid(format!(
+                "expect = '{other}' is not a phase; accepted: liquid (or water), vapour (or vapor, steam), wet, supercritical"
+            )))
+        }
+    })
+}
+
+/// The message of a row flagged by `expect`.
+pub fn flag_message(row: usize, phase: Phase, expect: Option<Phase>) -> String {
+    match expect {
+        Some(e) => format!(
+            "row {row}: {} where the batch expects {}; check the row's inputs (e.g. a tag's pressure or temperature) or the process state",
+            phase.name(),
+            e.name()
+        ),
+        None => format!("row {row}: {}", phase.name()),
+    }
+}
+
+/// Whether a state is in the phase `expect`: a saturated end (x = 0 or x = 1 from a (p, x) or
+/// (T, x) input) counts as liquid or vapour as well as wet.
+fn in_phase(st: &State, expect: Phase) -> bool {
+    st.phase == expect
+        || match (st.x, expect) {
+            (Some(x), Phase::Vapour) => x >= 1.0,
+            (Some(x), Phase::Liquid) => x <= 0.0,
+            _ => false,
+        }
+}
+
+/// What happened to a row other than a clean answer.
+enum Note {
+    /// The row could not be solved.
+    Failed(Error),
+    /// The row was solved in another phase than expected.
+    Unexpected(Phase),
+}
+
 /// Resolves the wanted names (already checked by `check_want`).
 fn outputs(ctx: &Ctx, want: &[String]) -> Result<Vec<Out>> {
     want.iter()
@@ -341,7 +392,8 @@ fn outputs(ctx: &Ctx, want: &[String]) -> Result<Vec<Out>> {
 
 /// Solves every row of two input columns and computes the wanted outputs, on all cores above
 /// [`PARALLEL_THRESHOLD`] rows. The pair and the wanted names are checked once, so a bad pair
-/// fails the call rather than every row.
+/// fails the call rather than every row. With `expect`, rows solved in another phase are
+/// flagged ([`Rows::flagged`]).
 pub fn compute(
     ctx: &Ctx,
     opts: &Options,
@@ -349,6 +401,7 @@ pub fn compute(
     a: &InputColumn,
     b: &InputColumn,
     want: &[String],
+    expect: Option<Phase>,
 ) -> Result<Rows> {
     let kind = PairKind::new(a.name, b.name)?;
     let outs = outputs(ctx, want)?;
@@ -377,7 +430,7 @@ pub fn compute(
             physics::solve(given, opts, f)
         }
     };
-    let fill = |i: usize, row: &mut [f64]| -> Option<(usize, Error)> {
+    let fill = |i: usize, row: &mut [f64]| -> Option<(usize, Note)> {
         match solve(i) {
             Ok(st) => {
                 for (slot, out) in row.iter_mut().zip(&outs) {
@@ -397,18 +450,27 @@ pub fn compute(
                         }
                     };
                 }
-                None
+                match expect {
+                    Some(ph) if !in_phase(&st, ph) => Some((i, Note::Unexpected(st.phase))),
+                    _ => None,
+                }
             }
             Err(e) => {
                 row.fill(f64::NAN);
-                Some((i, e))
+                Some((i, Note::Failed(e)))
             }
         }
     };
     let mut values = vec![0.0; n * k];
-    let failed: Vec<(usize, Error)> = if k == 0 {
+    let notes: Vec<(usize, Note)> = if k == 0 {
         (0..n)
-            .filter_map(|i| solve(i).err().map(|e| (i, e)))
+            .filter_map(|i| match solve(i) {
+                Err(e) => Some((i, Note::Failed(e))),
+                Ok(st) => match expect {
+                    Some(ph) if !in_phase(&st, ph) => Some((i, Note::Unexpected(st.phase))),
+                    _ => None,
+                },
+            })
             .collect()
     } else if n >= PARALLEL_THRESHOLD {
         values
@@ -432,10 +494,19 @@ pub fn compute(
             .filter_map(|(i, row)| fill(i, row))
             .collect()
     };
+    let mut failed = Vec::new();
+    let mut flagged = Vec::new();
+    for (i, note) in notes {
+        match note {
+            Note::Failed(e) => failed.push((i, e)),
+            Note::Unexpected(ph) => flagged.push((i, ph)),
+        }
+    }
     Ok(Rows {
         n,
         k,
         values,
         failed,
+        flagged,
     })
 }

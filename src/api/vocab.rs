@@ -16,6 +16,7 @@
 //! `water::Field`).
 
 use crate::error::{Error, Result};
+use crate::plant::warnings::Warning;
 use crate::units::{self, Dim, Preset, Unit, UnitSystem, AMBIENT_DEFAULT_MPA};
 use crate::water::pairs::{self, INPUTS};
 use crate::water::state::{Given, Options, Phase, State};
@@ -95,6 +96,8 @@ pub const FIELD_DIMS: &[(&str, Dim)] = {
         ("boiler_T", Temperature),
         ("cold_end_difference", TemperatureDifference),
         ("cold_flow", MassFlow),
+        ("cold_T_in", Temperature),
+        ("cold_T_out", Temperature),
         ("condensate", MassFlow),
         ("condensate_lost", MassFlow),
         ("condenser_duty", HeatFlow),
@@ -124,6 +127,7 @@ pub const FIELD_DIMS: &[(&str, Dim)] = {
         ("drain_T", Temperature),
         ("dry_efficiency", Dimensionless),
         ("duty", HeatFlow),
+        ("effective_mtd", TemperatureDifference),
         ("efficiency", Dimensionless),
         ("efficiency_with_valve", Dimensionless),
         ("elevation_change", Length),
@@ -165,6 +169,8 @@ pub const FIELD_DIMS: &[(&str, Dim)] = {
         ("heat_to_steam", HeatFlow),
         ("hot_end_difference", TemperatureDifference),
         ("hot_flow", MassFlow),
+        ("hot_T_in", Temperature),
+        ("hot_T_out", Temperature),
         ("hp_efficiency", Dimensionless),
         ("inlet_velocity", Speed),
         ("inner_diameter", Length),
@@ -228,6 +234,7 @@ pub const FIELD_DIMS: &[(&str, Dim)] = {
         ("steam_cost", PricePerMass),
         ("steam_flow", MassFlow),
         ("steam_rate", SteamRate),
+        ("suction_head", Length),
         ("surface_T", Temperature),
         ("surface_tension", SurfaceTension),
         ("surroundings_T", Temperature),
@@ -846,8 +853,10 @@ pub struct SolveFlags {
     /// equations' stated consistency).
     #[serde(default)]
     pub backward_only: bool,
-    /// Allow the IF97 metastable-vapour equation for (p,T) below the saturation temperature
-    /// (p <= 10 MPa). Refused otherwise.
+    /// Allow the IF97 metastable-vapour equation for (p,T) below the saturation temperature,
+    /// where IAPWS R7-97(2012) makes it valid: from the saturated-vapour line to the 5 %
+    /// equilibrium-moisture line, from the triple-point pressure to 10 MPa. A (p,T) below
+    /// saturation outside that range is refused (error 1001, naming the limit).
     #[serde(default)]
     pub metastable: bool,
     /// When a pair admits two states (e.g. (T,h) of a compressed liquid and a wet mixture),
@@ -937,8 +946,9 @@ pub struct StateResult {
     pub thermal_diffusivity: Option<f64>,
     /// Prandtl number mu cp / lambda, dimensionless (null for wet states).
     pub pr: Option<f64>,
-    /// Superheat above the saturation temperature at the state's pressure (vapour below the
-    /// critical pressure only; null otherwise).
+    /// T - T_sat(p), the superheat above the saturation temperature at the state's pressure:
+    /// negative for a subcooled liquid (minus its subcooling) and for a metastable vapour;
+    /// null for a wet state and at or above the critical pressure.
     pub superheat: Option<f64>,
     /// Phase: "liquid", "vapour", "wet" or "supercritical".
     pub phase: String,
@@ -1038,6 +1048,30 @@ fn state_result_in(st: &State, ctx: &Ctx, f: Formulation, prefix: &str) -> State
             .unwrap_or_else(|_| ambient_unit.from_internal(ctx.ambient, ctx.ambient)),
         formulation: f.name().to_string(),
     }
+}
+
+/// A warning on the wire: its code in the warning catalogue (README, "Warnings") and its
+/// one-line message with the values of the case and what to check.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct WarningOut {
+    /// The catalogue code: a stable snake-case name, e.g. "exhaust_moisture".
+    pub code: String,
+    /// What was found, with its values, and what to check.
+    pub message: String,
+}
+
+impl From<&Warning> for WarningOut {
+    fn from(w: &Warning) -> Self {
+        WarningOut {
+            code: w.code.name().to_string(),
+            message: w.message.clone(),
+        }
+    }
+}
+
+/// The warnings of a result, for the wire.
+pub fn warnings_out(ws: &[Warning]) -> Vec<WarningOut> {
+    ws.iter().map(WarningOut::from).collect()
 }
 
 #[cfg(test)]

@@ -35,7 +35,7 @@ pub fn methods() -> Vec<MethodSpec> {
         MethodSpec::with_ctx::<BatchParams, BatchResult>(
             "water.batch",
             "Properties for columns of states (historian data): one row per state",
-            "Give two columns in `given` (of equal length: JSON arrays of numbers in the preset's units or strings with units, or packed columns {\"f64le\": base64 of little-endian doubles}) and the properties wanted. A bad row gives null (NaN in packed columns) in its columns and an entry in `errors` (one entry per row with encoding \"json\", the failed rows only with \"f64le\"); it never fails the whole call.",
+            "Give two columns in `given` (of equal length: JSON arrays of numbers in the preset's units or strings with units, or packed columns {\"f64le\": base64 of little-endian doubles}) and the properties wanted. A bad row gives null (NaN in packed columns) in its columns and an entry in `errors` (one entry per row with encoding \"json\", the failed rows only with \"f64le\"); it never fails the whole call. With `expect` (e.g. \"vapour\" for a batch of steam tags), rows solved in another phase are listed in `flagged_rows` with their phase.",
             water_batch,
         ),
         MethodSpec::new::<SaturationParams, SaturationResult>(
@@ -193,9 +193,26 @@ pub struct BatchParams {
     /// Property formulation: "if97" (default) or "iapws95" (see `water.state`).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub formulation: Option<String>,
+    /// The phase every row is expected in: "vapour" (also "vapor", "steam"), "liquid" (also
+    /// "water"), "wet" or "supercritical". Rows solved in another phase keep their values
+    /// and are listed in `flagged_rows` (a saturated end, x = 0 or 1, counts as liquid or
+    /// vapour). Default: no expectation.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub expect: Option<String>,
     /// Solver switches.
     #[serde(flatten)]
     pub flags: SolveFlags,
+}
+
+/// A batch row solved in another phase than the batch's `expect`.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct RowFlag {
+    /// Row index, 0-based.
+    pub row: usize,
+    /// The row's phase: "liquid", "vapour", "wet" or "supercritical".
+    pub phase: String,
+    /// One-line message.
+    pub message: String,
 }
 
 /// An error of one batch row.
@@ -266,6 +283,11 @@ pub struct BatchResult {
     pub rows: usize,
     /// Number of failed rows.
     pub failed: usize,
+    /// The rows solved in another phase than `expect` (empty without `expect`), in row order;
+    /// their values are in the columns.
+    pub flagged_rows: Vec<RowFlag>,
+    /// Number of flagged rows.
+    pub flagged: usize,
     /// The unit of every numeric result column, the preset's name under "preset", and, when
     /// an input or a result column is in a gauge unit, the ambient pressure it is relative to
     /// under "ambient" (e.g. "1.01325 bar").
@@ -376,7 +398,17 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
             }
         });
     }
-    let rows = super::rows::compute(&ctx, &opts, f, &cols[0], &cols[1], &want)?;
+    let expect = super::rows::parse_expect(p.expect.as_deref())?;
+    let rows = super::rows::compute(&ctx, &opts, f, &cols[0], &cols[1], &want, expect)?;
+    let flagged_rows: Vec<RowFlag> = rows
+        .flagged
+        .iter()
+        .map(|&(i, ph)| RowFlag {
+            row: i,
+            phase: ph.name().to_string(),
+            message: super::rows::flag_message(i, ph, expect),
+        })
+        .collect();
     let n = rows.n;
     let mut columns = BTreeMap::new();
     let mut legends = BTreeMap::new();
@@ -446,6 +478,8 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
         errors,
         failed: failed_rows.len(),
         failed_rows,
+        flagged: flagged_rows.len(),
+        flagged_rows,
         rows: n,
         units: units_map,
         encoding: if packed_out { "f64le" } else { "json" }.to_string(),

@@ -202,11 +202,25 @@ fn cases() -> Vec<(&'static str, Vec<u8>, Expect)> {
             call("water.state", r#"{"given":5}"#),
             Rpc(-32602, "given"),
         ),
-        // An array fills the given fields in order (p first): one quantity only.
+        // An array is never read by position (serde would fill p, T, ... in order): refused
+        // for every params object (issue 15, reproduction 9).
         (
             "given an array",
             call("water.state", r#"{"given":["3 MPa"]}"#),
-            Rpc(1006, "exactly two"),
+            Rpc(-32602, "an array where an object with named fields"),
+        ),
+        (
+            "given an array of two numbers",
+            call("water.state", r#"{"given":[3e6, 300]}"#),
+            Rpc(-32602, "an array where an object with named fields"),
+        ),
+        (
+            "a stream as an array",
+            call(
+                "valve.throttle",
+                r#"{"inlet":["10 bar","200 degC"],"outlet_p":"1 bar"}"#,
+            ),
+            Rpc(-32602, "field `inlet`: an array where an object"),
         ),
         (
             "extra field",

@@ -692,7 +692,7 @@ fn pipe_method_insulated_and_bare_side_by_side() {
         .as_array()
         .unwrap()
         .iter()
-        .any(|w| w.as_str().unwrap().contains("touch limit")));
+        .any(|w| w["message"].as_str().unwrap().contains("touch limit")));
     assert!(
         (b["insulation"]["yearly_cost_saving"].as_f64().unwrap() - cost_saving).abs()
             < 1e-6 * cost_saving
@@ -709,7 +709,8 @@ fn pipe_velocity_warnings() {
     );
     let w = v["warnings"].as_array().unwrap();
     assert!(
-        w.iter().any(|w| w.as_str().unwrap().contains("water line")),
+        w.iter()
+            .any(|w| w["message"].as_str().unwrap().contains("water line")),
         "{w:?}"
     );
     // saturated steam at about 50 m/s
@@ -721,8 +722,10 @@ fn pipe_velocity_warnings() {
     );
     let w = v["warnings"].as_array().unwrap();
     assert!(
-        w.iter()
-            .any(|w| w.as_str().unwrap().contains("saturated or wet steam line")),
+        w.iter().any(|w| w["message"]
+            .as_str()
+            .unwrap()
+            .contains("saturated or wet steam line")),
         "{w:?}"
     );
 }

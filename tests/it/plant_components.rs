@@ -80,7 +80,7 @@ fn wet_exhaust_warns_about_moisture() {
     let ex = turbine_expand(&inlet, 0.01, TurbineSpec::Efficiency(0.85), None).unwrap();
     assert!(ex.moisture > 0.12, "moisture {}", ex.moisture);
     assert!(
-        ex.warnings.iter().any(|w| w.contains("moisture")),
+        ex.warnings.iter().any(|w| w.message.contains("moisture")),
         "{:?}",
         ex.warnings
     );

@@ -55,7 +55,7 @@ fn example_10_3_high_pressure() {
     let r = rankine(&spec(15.0, 600.0, 0.010)).unwrap();
     near("efficiency", r.thermal_efficiency, 0.430, 0.003);
     near("exhaust quality", 1.0 - r.exhaust_moisture, 0.804, 0.003);
-    assert!(r.warnings.iter().any(|w| w.contains("moisture")));
+    assert!(r.warnings.iter().any(|w| w.message.contains("moisture")));
 }
 
 /// Example 10-4: ideal reheat cycle, 15 MPa and 600 degC, reheat at 4 MPa to 600 degC,

@@ -328,10 +328,9 @@ fn leaving_loss_hand_calculation() {
     .unwrap();
     assert!(small.leaving.unwrap().velocity > 300.0);
     assert!(
-        small
-            .warnings
-            .iter()
-            .any(|w| w.contains("annulus velocity")),
+        small.warnings.iter().any(|w| w.code
+            == steamcell::plant::warnings::Code::ExhaustVelocityHigh
+            && w.message.contains("annulus velocity")),
         "{:?}",
         small.warnings
     );

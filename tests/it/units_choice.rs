@@ -1106,6 +1106,9 @@ fn every_numeric_field_is_in_the_units_vocabulary() {
         "expected",
         "tolerance",
         "K",
+        // a conductance: the unit of heat flow over the unit of temperature difference chosen
+        // for it (its units map says which, e.g. "kW/K")
+        "ua",
         // the bulk columns: each column's unit is its own (`unit`) or its property's
         "given",
         "values",

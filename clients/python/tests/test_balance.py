@@ -25,6 +25,11 @@ def test_example_site_solves_into_tables(client):
     assert "licensed engineer" in b.caution
     # Every stream's flow is finite and its state is there.
     assert b.streams["h"].notna().all()
+    # Warnings are {code, message}; the units table carries both, joined per unit.
+    for w in b.warnings:
+        assert set(w) == {"code", "message"} and w["code"] and w["message"]
+    codes = set(c for cell in b.units["warning_codes"] for c in cell.split(", ") if c)
+    assert codes == {w["code"] for w in b.warnings}
 
 
 def test_network_builder_matches_plain_dicts(client):

@@ -147,3 +147,19 @@ def test_without_numpy_the_json_path_is_used(client, monkeypatch):
     import math
     assert not math.isnan(out["h"][0]) and math.isnan(out["h"][1]), out["h"]
     assert out["errors"][0] is None and "row 1" in out["errors"][1], out["errors"]
+
+
+def test_expected_phase_flags_rows_on_both_paths(client):
+    # A batch of steam tags: the 40 bar(g), 200 degC row is liquid (T_sat 251.85 degC), flagged
+    # with its values kept; its superheat is T - T_sat, negative.
+    df = pd.DataFrame({"p": [4.101325, 4.101325], "T": [200.0, 300.0]})
+    for packed in (True, False):
+        out = client.batch(df, want=["h", "superheat"], expect="vapour", packed=packed,
+                           progress=False)
+        assert list(out.columns) == ["h", "superheat", "errors", "flagged"]
+        assert out.loc[0, "flagged"].startswith("row 0: liquid")
+        assert out.loc[1, "flagged"] is None
+        assert out.loc[0, "superheat"] < -51 and not math.isnan(out.loc[0, "h"])
+    # without expect there is no flagged column
+    out = client.batch(df, want=["h"], progress=False)
+    assert list(out.columns) == ["h", "errors"]

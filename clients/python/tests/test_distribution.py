@@ -38,7 +38,8 @@ def test_pipe_flow_wrapper(client):
     ins = r.insulation
     assert ins.saving == pytest.approx(ins.bare.heat_loss - ins.insulated.heat_loss, rel=1e-12)
     assert ins.yearly_cost_saving == pytest.approx(ins.bare.yearly.cost - ins.insulated.yearly.cost, rel=1e-9)
-    assert r.touch_safe is False and any("touch limit" in w for w in r.warnings)
+    assert r.touch_safe is False and any(
+        w["code"] == "surface_above_touch_limit" and "touch limit" in w["message"] for w in r.warnings)
     assert r.balance.energy_residual < 1e-9
     assert r.profile[0]["distance"] == 0 and r.profile[-1]["distance"] == pytest.approx(25)
 

@@ -19,7 +19,7 @@ from conftest import REPO
 CONTRACT = {
     "water.state": {"given", "units", "ambient", "formulation", "backward_only", "metastable", "prefer"},
     "water.batch": {"given", "want", "encoding", "units", "ambient", "formulation", "backward_only",
-                    "metastable", "prefer"},
+                    "metastable", "prefer", "expect"},
     "water.saturation": {"T", "p", "units", "ambient", "formulation"},
     "water.curve": {"kind", "p", "T", "s", "from", "to", "points", "units", "encoding"},
     "turbine.expand": {"inlet", "outlet_p", "efficiency", "outlet", "throttle_dp", "moisture_loss",
@@ -28,7 +28,8 @@ CONTRACT = {
     "turbine.train": {"inlet", "stages", "efficiency_basis", "throttle_dp", "moisture_loss",
                       "baumann_factor", "exhaust_area", "mechanical_efficiency", "mechanical_loss",
                       "generator_efficiency", "generator_loss", "units", "ambient"},
-    "pump.raise": {"inlet", "outlet_p", "efficiency", "efficiency_kind", "units", "ambient"},
+    "pump.raise": {"inlet", "outlet_p", "efficiency", "efficiency_kind", "suction_head", "units",
+                   "ambient"},
     "valve.throttle": {"inlet", "outlet_p", "units", "ambient"},
     "desuperheater.spray": {"steam", "water", "outlet_p", "target_T", "target_superheat", "units",
                             "ambient"},

@@ -41,7 +41,9 @@ class Balance:
 
     def __init__(self, result: Dict[str, Any]):
         self.result = result
-        self.warnings: List[str] = list(result.get("warnings", []))
+        # Each warning is {"code": ..., "message": ...}; the codes are the server's warning
+        # catalogue (README, "Warnings").
+        self.warnings: List[Dict[str, str]] = list(result.get("warnings", []))
         self.caution: str = result.get("caution", "")
         srows = []
         for name, s in result["streams"].items():
@@ -53,7 +55,8 @@ class Balance:
         for name, u in result["units"].items():
             row = {"unit": name}
             row.update({k: v for k, v in u.items() if not isinstance(v, (dict, list))})
-            row["warnings"] = "; ".join(u.get("warnings", []))
+            row["warnings"] = "; ".join(w["message"] for w in u.get("warnings", []))
+            row["warning_codes"] = ", ".join(w["code"] for w in u.get("warnings", []))
             urows.append(row)
         self.totals: Dict[str, Any] = dict(result["totals"])
         try:

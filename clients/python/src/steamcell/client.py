@@ -187,7 +187,9 @@ class Client:
 
         Returns the same kind of table as ``data`` (a dict of numpy arrays for a dict when numpy
         is installed, else of lists) with one column per ``want`` plus ``errors`` (None or the
-        row's message). A bad row gives NaN and its error; only a bad request as a whole
+        row's message); with ``expect="vapour"`` (or "liquid", "wet", "supercritical") also
+        ``flagged`` (None or the message of a row solved in another phase, whose values are
+        kept). A bad row gives NaN and its error; only a bad request as a whole
         raises. Each column's unit travels with it: ``df.attrs["units"]`` for pandas (and
         ``units`` on a dict result), field metadata ``unit`` and schema metadata ``units`` for
         pyarrow, each variable's ``attrs["units"]`` for xarray; ``unit_suffix=True`` names the
@@ -268,6 +270,7 @@ class Client:
             inputs[key] = vals
         out: Dict[str, List[Any]] = {w: [None] * n for w in want_list}
         errs: List[Optional[str]] = [None] * n
+        flags: List[Optional[str]] = [None] * n
         for i, why in bad.items():
             errs[i] = why
         good = [i for i in range(n) if i not in bad]
@@ -300,6 +303,9 @@ class Client:
                         i = rows[j]
                         msg = row_re.sub("", str(e.get("message", "")))
                         errs[i] = f"row {i}: [{e.get('code')}] {msg}"
+                for f in res.get("flagged_rows", []):
+                    i = rows[int(f["row"])]
+                    flags[i] = f"row {i}: " + row_re.sub("", str(f.get("message", "")))
                 bar.update(len(rows))
         finally:
             bar.close()
@@ -309,6 +315,8 @@ class Client:
                                  for w in want_list}
         table["errors"] = errs
         table["__units__"] = col_units
+        if "expect" in opts:
+            table["flagged"] = flags
         return table
 
     # -- packed columns (numpy present): numbers travel as raw little-endian doubles
@@ -339,6 +347,7 @@ class Client:
         out = {w: (np.empty(n, dtype=object) if w == "phase" else np.empty(n, dtype="<f8"))
                for w in want_list}
         errs: List[Optional[str]] = [None] * n
+        flags: List[Optional[str]] = [None] * n
         step = max(1, int(chunk or self.PACKED_CHUNK))
         bar = _Progress(n, enabled=progress and n > 0)
         header_base: Dict[str, Any] = dict(opts)
@@ -359,6 +368,7 @@ class Client:
                     arrays[0][start:stop], arrays[1][start:stop])
                 col_units = dict(head.get("units", {}))
                 legends = head.get("legends", {})
+                flagged = head.get("flagged_rows", [])
                 for w, c in zip(want_list, cols):
                     if w in legends:
                         out[w][start:stop] = _decode(np, c, legends[w])
@@ -368,6 +378,9 @@ class Client:
                     i = start + int(e["row"])
                     msg = re.sub(r"^row \d+:\s*", "", str(e.get("message", "")))
                     errs[i] = f"row {i}: [{e.get('code')}] {msg}"
+                for f in flagged:
+                    i = start + int(f["row"])
+                    flags[i] = f"row {i}: " + re.sub(r"^row \d+:\s*", "", str(f.get("message", "")))
                 bar.update(stop - start)
                 if n == 0:
                     break
@@ -376,6 +389,8 @@ class Client:
         table: Dict[str, Any] = dict(out)
         table["errors"] = errs
         table["__units__"] = col_units
+        if "expect" in opts:
+            table["flagged"] = flags
         return table
 
     def _packed_chunk(self, np, post, keys, col_tags, want_list, header_base, a, b):
@@ -521,7 +536,9 @@ class _Frame:
 
     def result(self, table: Dict[str, Any], want_list: List[str], unit_suffix: bool = False,
                pint: bool = False) -> Any:
-        errs = table["errors"]
+        # Text columns after the wanted ones: the row errors, and the flagged rows of an
+        # expected phase when one was given.
+        notes = [k for k in ("errors", "flagged") if k in table]
         units = {w: u for w, u in table.get("__units__", {}).items() if w in want_list}
         ambient = table.get("__units__", {}).get("ambient")
         names = {w: (f"{w} [{units[w]}]" if unit_suffix and w in units else w)
@@ -537,7 +554,8 @@ class _Frame:
                     if q is not None:
                         cols[names[w]] = q
             frame = pd.DataFrame(cols, index=self.data.index)
-            frame["errors"] = pd.Series(errs, index=self.data.index, dtype=object)
+            for k in notes:
+                frame[k] = pd.Series(table[k], index=self.data.index, dtype=object)
             frame.attrs["units"] = {names[w]: units[w] for w in want_list if w in units}
             if ambient:
                 frame.attrs["ambient"] = ambient
@@ -546,7 +564,7 @@ class _Frame:
             import polars as pl  # type: ignore
             cols = [pl.Series(names[w], table[w], dtype=pl.Utf8 if w == "phase" else pl.Float64)
                     for w in want_list]
-            cols.append(pl.Series("errors", errs, dtype=pl.Utf8))
+            cols.extend(pl.Series(k, table[k], dtype=pl.Utf8) for k in notes)
             return pl.DataFrame(cols)
         if kind == "arrow":
             import json as _json
@@ -558,8 +576,9 @@ class _Frame:
                 meta = {b"unit": units[w].encode()} if w in units else None
                 fields.append(pa.field(names[w], typ, metadata=meta))
                 arrays.append(pa.array(table[w], type=typ))
-            fields.append(pa.field("errors", pa.string()))
-            arrays.append(pa.array(errs, type=pa.string()))
+            for k in notes:
+                fields.append(pa.field(k, pa.string()))
+                arrays.append(pa.array(table[k], type=pa.string()))
             meta = {b"units": _json.dumps({names[w]: units[w] for w in want_list
                                            if w in units}).encode()}
             if ambient:
@@ -575,13 +594,15 @@ class _Frame:
                 arr = np.asarray(table[w], dtype=object if w == "phase" else "f8").reshape(shape)
                 out[names[w]] = xr.Variable(dims, arr,
                                             attrs={"units": units[w]} if w in units else {})
-            out["errors"] = (dims, np.asarray(errs, dtype=object).reshape(shape))
+            for k in notes:
+                out[k] = (dims, np.asarray(table[k], dtype=object).reshape(shape))
             ds = xr.Dataset(out, coords=first.coords)
             if ambient:
                 ds.attrs["ambient"] = ambient
             return ds
         result = Columns({names[w]: table[w] for w in want_list})
-        result["errors"] = errs
+        for k in notes:
+            result[k] = table[k]
         result.units = {names[w]: units[w] for w in want_list if w in units}
         result.ambient = ambient
         return result

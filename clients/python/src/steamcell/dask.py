@@ -242,6 +242,11 @@ def batch(ddf: Any, given: Optional[Dict[str, str]] = None,
                 f"first, e.g. ddf[{col!r}] = dd.to_numeric(ddf[{col!r}], errors='coerce') (text "
                 f"that is not a number then gives NaN and a row error)")
     want_list = list(want) if want is not None else list(DEFAULT_WANT)
+    if "expect" in opts:
+        raise errors.InvalidInput(
+            "expect: the flagged rows of an expected phase are not carried through Dask yet; "
+            "want 'superheat' (negative for liquid) or 'x' and filter on it, or run the "
+            "partitions through Client.batch")
     spec = _EngineSpec(server, server_token, binary, timeout)
     _register_plugin()
     meta = _meta(want_list, ddf._meta.index)

@@ -35,6 +35,7 @@ use super::components::{
     pump_raise, throttle_valve, DriveLoss, EfficiencyBasis, LeavingLoss, LineEnd, MoistureLoss,
     PumpEfficiencyKind, EXHAUST_VELOCITY_WARNING,
 };
+use super::warnings::{Code, Warning};
 use super::{ph, ps as ps_state, pt, sat_liquid, sat_vapour};
 use crate::error::{Bound, Error, Result};
 use crate::water::state::{self, Phase, State};
@@ -330,7 +331,7 @@ pub struct RankineResult {
     /// First-law residual |q_in - q_out - w_net| / q_in.
     pub energy_residual: f64,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<Warning>,
     /// Mass residual of the cycle: the condenser's inflows against the condensate pump's flow,
     /// and the feedwater reaching the boiler against the steam leaving it (per kg).
     pub mass_residual: f64,
@@ -1275,10 +1276,10 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
     let mass_residual = flows.mass_residual(&pumps, cond_flow);
     let moisture_e = elep.x.map(|x| 1.0 - x).unwrap_or(0.0);
     if moisture_e > super::MOISTURE_WARNING {
-        warnings.push(format!(
+        warnings.push(Warning::new(Code::ExhaustMoisture, format!(
             "turbine exhaust moisture {:.1} % exceeds about 12 % (common practice): consider reheat",
             100.0 * moisture_e
-        ));
+        )));
     }
     // Power: gross and net electrical output.
     let (power, gross_hr, net_hr) = {
@@ -1509,15 +1510,12 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
     })
 }
 
-fn velocity_warning(l: &LeavingLoss) -> Option<String> {
+fn velocity_warning(l: &LeavingLoss) -> Option<Warning> {
     if l.velocity > EXHAUST_VELOCITY_WARNING {
-        // warning code: turbine.exhaust.velocity_high
-        // meaning: the LP exhaust annulus velocity exceeds about 300 m/s, where exhaust losses
-        // climb steeply towards choking (exhaust-loss curves; from memory, common practice).
-        Some(format!(
+        Some(Warning::new(Code::ExhaustVelocityHigh, format!(
             "LP exhaust annulus velocity {:.0} m/s is above about 300 m/s: exhaust losses climb steeply towards choking there and only V^2/2 is modelled; check the exhaust area and the flow",
             l.velocity
-        ))
+        )))
     } else {
         None
     }

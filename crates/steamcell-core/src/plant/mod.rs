@@ -5,9 +5,13 @@
 //!
 //! Internal units: p MPa, T K, h kJ/kg, s kJ/(kg K), mass flow kg/s, power and heat flow kW.
 //!
-//! Invariant: this module uses only the public property API (`crate::water::state`), never the
-//! IF97 region internals; every function returns its mass and energy balance so a caller (and
-//! the tests) can check closure.
+//! Invariant: this module uses only the public property API, never the IF97 region internals;
+//! the state helpers here ([`solve`], [`ph`], [`ps`], [`pt`], [`sat_liquid`], [`sat_vapour`])
+//! go through the core's one entry point `crate::water::solve`, so component states pass the
+//! same range and validity checks as a single state or a batch row. Every function returns its
+//! mass and energy balance so a caller (and the tests) can check closure; physical feasibility
+//! (temperature crosses, the second law) is checked by [`feasibility`], and every warning comes
+//! from the one catalogue [`warnings`].
 //!
 //! Caution: results support engineering work; they are not a substitute for the governing codes,
 //! the equipment maker's data, or a licensed engineer's review.
@@ -16,12 +20,14 @@ pub mod balance;
 pub mod components;
 pub mod correlations;
 pub mod cycle;
+pub mod feasibility;
 pub mod losses;
 pub mod orifice;
 pub mod pipe;
+pub mod warnings;
 
 use crate::error::Result;
-use crate::water::state::{self, Given, Options, State};
+use crate::water::{self, Formulation, Given, Options, State};
 
 /// The standing caution attached to every component result.
 pub const CAUTION: &str = "Results support engineering work; they are not a substitute for the governing codes, the equipment maker's data or a licensed engineer's review. Follow local codes.";
@@ -55,32 +61,34 @@ impl Balance {
     }
 }
 
-/// Solves a state with the standard options.
+/// Solves a state with the standard options, through the core's one entry point
+/// (`water::solve` with IAPWS-IF97), so that every component state passes the same range and
+/// validity checks as a single state or a batch row.
 pub fn solve(given: Given) -> Result<State> {
-    state::solve(given, &Options::STANDARD)
+    water::solve(given, &Options::STANDARD, Formulation::If97)
 }
 
 /// State at (p, h).
 pub fn ph(p: f64, h: f64) -> Result<State> {
-    state::at_ph(p, h, &Options::STANDARD)
+    solve(Given::PH(p, h))
 }
 
 /// State at (p, s).
 pub fn ps(p: f64, s: f64) -> Result<State> {
-    state::at_ps(p, s, &Options::STANDARD)
+    solve(Given::PS(p, s))
 }
 
 /// State at (p, T).
 pub fn pt(p: f64, t: f64) -> Result<State> {
-    state::at_pt(p, t, &Options::STANDARD)
+    solve(Given::PT(p, t))
 }
 
 /// Saturated liquid at p.
 pub fn sat_liquid(p: f64) -> Result<State> {
-    state::at_px(p, 0.0)
+    solve(Given::PX(p, 0.0))
 }
 
 /// Saturated vapour at p.
 pub fn sat_vapour(p: f64) -> Result<State> {
-    state::at_px(p, 1.0)
+    solve(Given::PX(p, 1.0))
 }

@@ -17,6 +17,7 @@
 //! Invariant: the mass-flux maximum is found to a throat-pressure tolerance of 1e-12 relative
 //! (G to far better than 1e-9); the balance holds h0 = h_throat + V^2/2 for the jet.
 
+use super::warnings::{Code, Warning};
 use super::{ps, Balance};
 use crate::error::{Bound, Error, Result};
 use crate::water::state::{self, Options, Phase, State, P_C};
@@ -167,7 +168,7 @@ pub struct OrificeResult {
     /// Balance of the jet: stagnation enthalpy in, throat enthalpy plus kinetic energy out.
     pub balance: Balance,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<Warning>,
 }
 
 fn positive(name: &str, x: f64, what: &str) -> Result<f64> {
@@ -389,10 +390,10 @@ pub fn orifice_flow(inlet: &State, spec: &OrificeSpec) -> Result<OrificeResult> 
             }
             let beta = d / dp;
             if beta > 0.8 {
-                warnings.push(format!(
+                warnings.push(Warning::new(Code::OrificeBetaHigh, format!(
                     "the hole is {:.0} % of the pipe diameter: the jet is hardly an orifice flow; the discharge coefficient of a sharp-edged hole does not hold (common practice, no source)",
                     100.0 * beta
-                ));
+                )));
             }
             let a_pipe = std::f64::consts::PI * dp * dp / 4.0;
             let mut v = 0.0;
@@ -456,29 +457,22 @@ pub fn orifice_flow(inlet: &State, spec: &OrificeSpec) -> Result<OrificeResult> 
         None
     };
 
-    if let Some(st) = &throat {
-        if st.phase == Phase::Wet && vapour_like(&stag) {
-            warnings.push(format!(
-                "the expansion reaches the wet region in the throat (x = {:.3}); real steam may stay supercooled (metastable) in a fast expansion, which passes somewhat more flow than the equilibrium model",
-                st.x.unwrap_or(1.0)
-            ));
-        }
-    }
     if !vapour_like(&stag) && !frozen {
-        warnings.push(
-            "liquid or wet inlet: the homogeneous equilibrium model assumes the liquid flashes in equilibrium inside the opening; short openings pass more (up to the frozen limit, flashing \"frozen\"), so treat the flow as a lower estimate".into(),
-        );
+        warnings.push(Warning::new(Code::FlashingLowerEstimate,
+            "liquid or wet inlet: the homogeneous equilibrium model assumes the liquid flashes in equilibrium inside the opening; short openings pass more (up to the frozen limit, flashing \"frozen\"), so treat the flow as a lower estimate",
+        ));
     }
     if (stag.props.p / P_C - 1.0).abs() < 0.05 {
-        warnings.push(
-            "the upstream state is near the critical point, where properties change steeply".into(),
-        );
+        warnings.push(Warning::new(
+            Code::NearCritical,
+            "the upstream state is near the critical point, where properties change steeply",
+        ));
     }
     if approach_v > 0.0 && stag.props.p > inlet.props.p * 1.05 {
-        warnings.push(format!(
+        warnings.push(Warning::new(Code::ApproachVelocityHigh, format!(
             "the approach velocity adds {:.1} % to the upstream pressure (stagnation over static): check the approach velocity",
             100.0 * (stag.props.p / inlet.props.p - 1.0)
-        ));
+        )));
     }
 
     Ok(OrificeResult {

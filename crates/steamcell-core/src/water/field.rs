@@ -51,7 +51,8 @@ pub enum Field {
     KappaT,
     /// Compressibility factor p v / (R T).
     Z,
-    /// Superheat above the saturation temperature at the state's pressure.
+    /// T - T_sat(p): superheat above the saturation temperature at the state's pressure;
+    /// negative for a subcooled liquid (its subcooling) or a metastable vapour.
     Superheat,
     /// Dynamic viscosity.
     Mu,
@@ -230,7 +231,7 @@ impl Field {
     /// Why the field has no value for `st`, or None where it has one; `value` is the field's
     /// value for `st` as [`Field::value`] reads it. A wet state has no cp, cv, w, kappa, mu_jt,
     /// alpha_v, kappa_t, transport properties or superheat; a single-phase state no quality; a
-    /// state other than vapour below the critical pressure no superheat.
+    /// state at or above the critical pressure no superheat.
     pub fn undefined_reason(self, st: &State, value: f64) -> Option<&'static str> {
         if st.phase == Phase::Wet {
             return match self {
@@ -261,16 +262,25 @@ impl Field {
                     "single-phase supercritical state: the quality is defined only for wet mixtures"
                 }
             }),
-            Field::Superheat => Some("defined for vapour below the critical pressure only"),
+            Field::Superheat => Some(
+                "T - T_sat(p) is defined below the critical pressure only (no saturation temperature above it)",
+            ),
             _ => None,
         }
     }
 }
 
-/// T - T_sat(p) of a vapour below the critical pressure, with the saturation line of the
-/// state's own formulation; NaN otherwise.
+/// T - T_sat(p) of a single-phase state below the critical pressure, with the saturation line
+/// of the state's own formulation: positive for a superheated vapour, negative for a subcooled
+/// liquid (minus its subcooling) and for a metastable vapour; NaN for a wet state and at or
+/// above the critical pressure.
 fn superheat(st: &State, f: Formulation) -> f64 {
-    if st.phase == Phase::Vapour && st.props.p < state::P_C {
+    if matches!(st.phase, Phase::Vapour | Phase::Liquid) && st.props.p < state::P_C {
+        // A saturated side (`water::saturation`) is at its saturation temperature exactly,
+        // not at the round-off of T_sat(p_sat(T)).
+        if st.x.is_some() {
+            return 0.0;
+        }
         let ts = match f {
             Formulation::If97 => state::saturation_p(st.props.p).map(|r| r.0),
             Formulation::Iapws95 => iapws95::saturation_p(st.props.p).map(|s| s.t),
@@ -325,10 +335,16 @@ mod tests {
         let sh = Field::Superheat.value(&st, Formulation::If97, None);
         assert!(sh > 46.0 && sh < 48.0, "{sh}");
         assert_eq!(Field::Superheat.undefined_reason(&st, sh), None);
-        // Liquid at 1 MPa, 400 K: no superheat, and the reason says so.
+        // Liquid at 1 MPa, 400 K (T_sat = 453.03 K): superheat minus its subcooling, about
+        // -53 K, a number rather than undefined.
         let liq = state::at_pt(1.0, 400.0, &Options::STANDARD).unwrap();
         let sh = Field::Superheat.value(&liq, Formulation::If97, None);
-        assert!(Field::Superheat.undefined_reason(&liq, sh).is_some());
+        assert!(sh > -54.0 && sh < -52.0, "{sh}");
+        assert_eq!(Field::Superheat.undefined_reason(&liq, sh), None);
+        // Above the critical pressure there is no saturation temperature.
+        let sc = state::at_pt(30.0, 400.0, &Options::STANDARD).unwrap();
+        let sh = Field::Superheat.value(&sc, Formulation::If97, None);
+        assert!(sh.is_nan() && Field::Superheat.undefined_reason(&sc, sh).is_some());
     }
 
     #[test]

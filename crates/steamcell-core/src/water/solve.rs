@@ -10,7 +10,7 @@
 //! (`Field::is_first_order`), the region and the phase, and fails exactly where [`solve`] fails,
 //! with the same error.
 
-use crate::error::{Error, Result};
+use crate::error::{Bound, Error, Result};
 use crate::water::if97::regions::Region;
 use crate::water::props::Props;
 use crate::water::state::{self, Given, Options, Phase, State};
@@ -25,7 +25,7 @@ use crate::water::{iapws95, melting, state95, transport, Formulation};
 /// checks its range and ice itself.
 pub fn solve(given: Given, opts: &Options, f: Formulation) -> Result<State> {
     match f {
-        Formulation::Iapws95 => state95::solve(given, opts),
+        Formulation::Iapws95 => state95::solve(given, opts).map_err(|e| below_triple(given, e)),
         Formulation::If97 => match state::solve(given, opts) {
             Err(e @ Error::OutOfRange { .. }) => {
                 if let Given::PT(p, t) = given {
@@ -35,9 +35,59 @@ pub fn solve(given: Given, opts: &Options, f: Formulation) -> Result<State> {
                 }
                 Err(e)
             }
+            Ok(st) => check_if97(st),
             other => other,
         },
     }
+}
+
+/// An IAPWS-95 "no state" for a pressure below the triple point, with the cause named: there
+/// only vapour exists (a lower h, s or u, or a smaller v, would need liquid, a wet mixture or
+/// ice).
+fn below_triple(given: Given, e: Error) -> Error {
+    let p = match given {
+        Given::PH(p, _) | Given::PS(p, _) | Given::PU(p, _) | Given::PV(p, _) => p,
+        _ => return e,
+    };
+    match e {
+        Error::NoUniqueState { message } if p < state::P_TRIPLE => Error::no_unique(format!(
+            "{message}; below the triple-point pressure 0.000611657 MPa only vapour exists (no liquid or wet state; colder is ice)"
+        )),
+        other => other,
+    }
+}
+
+/// The validity check every IAPWS-IF97 answer passes on its way out, whatever the pair and
+/// path (single state, batch rows, packed columns, component streams): no state colder than
+/// 273.15 K (IF97's lowest temperature, R7-97(2012) Sec. 4), and no wet state below the lowest
+/// saturation pressure (611.213 Pa at 273.15 K; below the triple-point pressure 611.657 Pa
+/// only vapour and ice exist). The solvers refuse such states with their own messages
+/// (`state::at_p_q` below the triple point, the metastable range in `state::at_pt`); this is
+/// the backstop that keeps any path from returning one.
+#[inline]
+pub fn check_if97(st: State) -> Result<State> {
+    let (p, t) = (st.props.p, st.props.t);
+    if t.is_nan() || t < state::T_MIN * (1.0 - 1e-12) {
+        return Err(Error::out_of_range(
+            "T",
+            t,
+            state::T_MIN,
+            "K",
+            Bound::Below,
+            state::IF97,
+        ));
+    }
+    if st.phase == Phase::Wet && p < state::p_sat_min() {
+        return Err(Error::out_of_range(
+            "p",
+            p,
+            state::p_sat_min(),
+            "MPa",
+            Bound::Below,
+            "IAPWS-IF97's saturation line (no wet state exists below the triple-point pressure)",
+        ));
+    }
+    Ok(st)
 }
 
 /// As [`solve`], for callers that read only first-order fields, the region and the phase: an
@@ -49,7 +99,9 @@ pub fn solve_first_order(given: Given, opts: &Options, f: Formulation) -> Result
     match given {
         // On failure the full path gives the error (it adds the ice diagnosis).
         Given::PT(p, t) if f == Formulation::If97 && !opts.metastable => {
-            state::at_pt_first(p, t, opts).or_else(|_| solve(given, opts, f))
+            state::at_pt_first(p, t, opts)
+                .and_then(check_if97)
+                .or_else(|_| solve(given, opts, f))
         }
         _ => solve(given, opts, f),
     }
@@ -164,6 +216,29 @@ mod tests {
             solve(g, &O, Formulation::If97).unwrap_err(),
             solve_first_order(g, &O, Formulation::If97).unwrap_err()
         );
+    }
+
+    /// The backstop refuses what no solver may return: a state below 273.15 K, and a wet
+    /// state below the triple-point pressure (IAPWS R7-97(2012): IF97 starts at 273.15 K).
+    #[test]
+    fn the_if97_backstop_refuses_states_outside_the_formulation() {
+        let ok = solve(Given::PX(0.01, 0.5), &O, Formulation::If97).unwrap();
+        assert!(check_if97(ok).is_ok());
+        let mut cold = ok;
+        cold.props.t = 270.0;
+        assert!(matches!(check_if97(cold), Err(Error::OutOfRange { .. })));
+        let mut low = ok;
+        low.props.p = 5e-4;
+        let e = check_if97(low).unwrap_err();
+        assert!(e.to_string().contains("triple-point"), "{e}");
+        // (p, h) at 500 Pa (repro: a wet state at -2.73 degC was returned) is refused on the
+        // solver's own path, with the cause named.
+        let e = solve(Given::PH(5e-4, 2200.0), &O, Formulation::If97).unwrap_err();
+        assert!(e.to_string().contains("triple-point"), "{e}");
+        let e = solve_first_order(Given::PH(5e-4, 2200.0), &O, Formulation::If97).unwrap_err();
+        assert!(e.to_string().contains("triple-point"), "{e}");
+        let e = solve(Given::PH(5e-4, 2200.0), &O, Formulation::Iapws95).unwrap_err();
+        assert!(e.to_string().contains("triple-point"), "{e}");
     }
 
     #[test]

@@ -260,16 +260,91 @@ fn props_in(region: Region, p: f64, t: f64) -> Result<Props> {
     }
 }
 
-/// State at (p, T).
+/// Highest pressure of the metastable-vapour equation, MPa (IAPWS R7-97(2012) Sec. 6.2).
+pub const P_MAX_METASTABLE: f64 = 10.0;
+/// Triple-point pressure, MPa (IAPWS R7-97(2012) Sec. 6.2 bounds the metastable-vapour
+/// equation from below with it; the value is IAPWS's, 611.657 Pa).
+pub const P_TRIPLE: f64 = 611.657e-6;
+/// Equilibrium quality of the 5 % equilibrium-moisture line, the lower end of the
+/// metastable-vapour equation (IAPWS R7-97(2012) Sec. 6.2).
+pub const X_METASTABLE_MIN: f64 = 0.95;
+
+/// Formulation text of the metastable-vapour equation's range, for its refusals.
+const METASTABLE_RANGE: &str = "the IAPWS-IF97 metastable-vapour equation (R7-97(2012) Sec. 6.2: from the saturated-vapour line to the 5 % equilibrium-moisture line, triple-point pressure to 10 MPa)";
+
+/// The metastable-vapour state at (p, T), T below the saturation temperature, or the reason it
+/// lies outside the supplementary equation's range: IAPWS R7-97(2012) Sec. 6.2 makes it valid
+/// from the saturated-vapour line to the 5 % equilibrium-moisture line (the enthalpy of the
+/// equilibrium wet state with x = 0.95 at the same pressure, from h' and h'') for pressures
+/// from the triple point to 10 MPa.
+fn metastable_pt(p: f64, t: f64) -> Result<State> {
+    if p > P_MAX_METASTABLE {
+        return Err(Error::out_of_range(
+            "p",
+            p,
+            P_MAX_METASTABLE,
+            "MPa",
+            Bound::Above,
+            METASTABLE_RANGE,
+        ));
+    }
+    if p < P_TRIPLE {
+        return Err(Error::out_of_range(
+            "p",
+            p,
+            P_TRIPLE,
+            "MPa",
+            Bound::Below,
+            METASTABLE_RANGE,
+        ));
+    }
+    let ts = region4::tsat(p);
+    let props = region2::metastable_props(p, t);
+    let h_min = region1::props(p, ts).h
+        + X_METASTABLE_MIN * (region2::props(p, ts).h - region1::props(p, ts).h);
+    if props.h.is_nan() || props.h < h_min {
+        // Name the temperature of the 5 % line: where the metastable enthalpy meets h_min.
+        let t_min = metastable_t_at_h(p, h_min, ts);
+        return Err(Error::out_of_range(
+            "T",
+            t,
+            t_min,
+            "K",
+            Bound::Below,
+            METASTABLE_RANGE,
+        ));
+    }
+    let mut st = single(props, Region::R2, 0);
+    st.metastable = true;
+    st.phase = Phase::Vapour;
+    Ok(st)
+}
+
+/// The temperature at which the metastable-vapour enthalpy at p equals `h` (below `ts`), by
+/// bisection: h rises with T along the metastable isobar near the saturated-vapour line.
+fn metastable_t_at_h(p: f64, h: f64, ts: f64) -> f64 {
+    let (mut lo, mut hi) = ((ts - 150.0).max(T_MIN), ts);
+    if region2::metastable_props(p, lo).h >= h {
+        return lo;
+    }
+    for _ in 0..80 {
+        let mid = 0.5 * (lo + hi);
+        if region2::metastable_props(p, mid).h < h {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+/// State at (p, T). With `opts.metastable`, a (p, T) below the saturation temperature is
+/// answered by the metastable-vapour equation where it is valid and refused elsewhere.
 pub fn at_pt(p: f64, t: f64, opts: &Options) -> Result<State> {
     check_p(p)?;
     check_t(t)?;
-    if opts.metastable && p <= 10.0 && t < T_13 && t < region4::tsat(p) {
-        let props = region2::metastable_props(p, t);
-        let mut st = single(props, Region::R2, 0);
-        st.metastable = true;
-        st.phase = Phase::Vapour;
-        return Ok(st);
+    if opts.metastable && p < P_C && t < region4::tsat(p) {
+        return metastable_pt(p, t);
     }
     let region = regions::region_pt(p, t)?;
     Ok(single(props_in(region, p, t)?, region, 0))
@@ -607,6 +682,12 @@ fn limits_t_for_p(p: f64) -> f64 {
     }
 }
 
+/// Saturation pressure at 273.15 K (the lowest pressure of IF97's saturation line), MPa.
+pub fn p_sat_min() -> f64 {
+    static P: std::sync::OnceLock<f64> = std::sync::OnceLock::new();
+    *P.get_or_init(|| region4::psat(T_MIN))
+}
+
 /// Saturation pressure at 623.15 K (the lowest pressure of region 3), MPa, computed once.
 fn p_sat_13() -> f64 {
     static P: std::sync::OnceLock<f64> = std::sync::OnceLock::new();
@@ -719,6 +800,23 @@ fn liquid_or_wet(
 fn at_p_q(p: f64, q: Q, target: f64, opts: &Options) -> Result<State> {
     check_p(p)?;
     Error::check_finite(q.name(), target)?;
+    if p < p_sat_min() {
+        // Below the lowest saturation pressure of IF97 (273.15 K, 611.213 Pa; the triple
+        // point is at 611.657 Pa) no liquid or wet state exists: IF97 holds only vapour from
+        // 273.15 K up; anything colder is ice or vapour below the formulation's range.
+        let lo = q.of(&region2::props(p, T_MIN));
+        if target < lo {
+            return Err(Error::out_of_range(
+                q.name(),
+                target,
+                lo,
+                q.unit(),
+                Bound::Below,
+                &format!("IAPWS-IF97 at p = {p} MPa: below the triple-point pressure 0.000611657 MPa no liquid or wet state exists, only vapour at 273.15 K and above (colder is ice)"),
+            ));
+        }
+        return vapour_side(p, q, target, T_MIN, opts);
+    }
     if p <= p_sat_13() {
         let ts = region4::tsat(p);
         // Test the nearer side of the saturation line first (split at the critical value), so

@@ -38,6 +38,7 @@ pub use diagnosis::{
 pub use model::Model;
 pub use solve::{solve, solve_from, sweep};
 
+use super::warnings::Warning;
 use super::Balance;
 use crate::water::state::State;
 use std::collections::BTreeMap;
@@ -330,7 +331,7 @@ pub struct UnitResult {
     /// Mass and energy balance of the unit.
     pub balance: Balance,
     /// Warnings.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<Warning>,
 }
 
 /// Site totals (kW and kg/s).
@@ -433,5 +434,5 @@ pub struct Solution {
     /// Largest relative residual over all units, the flow equations and the site.
     pub residual: f64,
     /// All warnings, each prefixed with its unit or stream.
-    pub warnings: Vec<String>,
+    pub warnings: Vec<Warning>,
 }

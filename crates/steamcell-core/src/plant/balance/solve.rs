@@ -13,6 +13,7 @@ use super::model::Model;
 use super::units::{At, Boundary, Report};
 use super::*;
 use crate::error::{Error, Result};
+use crate::plant::warnings::{Code, Warning};
 use crate::plant::{ph, sat_vapour};
 use crate::water::state::P_C;
 
@@ -321,10 +322,10 @@ impl Model {
             if slot.unit.warns_negative_outlets() {
                 for &o in &slot.outs {
                     if m[o] < 0.0 {
-                        r.warnings.push(format!(
+                        r.warnings.push(Warning::new(Code::NegativeFlow, format!(
                             "stream {} leaving {nm} has a negative flow ({:.6} kg/s): the balance needs it reversed",
                             self.streams[o].name, m[o]
-                        ));
+                        )));
                     }
                 }
             }
@@ -339,7 +340,7 @@ impl Model {
             };
             slot.unit.results(self.at(u), m, st, &mut out)?;
             for x in &r.warnings {
-                all_warn.push(format!("{} {nm}: {x}", slot.kind));
+                all_warn.push(x.prefixed(&format!("{} {nm}: ", slot.kind)));
             }
             units.insert(nm.to_string(), r);
         }
@@ -400,9 +401,12 @@ impl Model {
         residual = residual.max(t.energy_residual());
         for (s, sl) in self.streams.iter().enumerate() {
             if m[s] < 0.0 && self.units[sl.from].unit.boundary() == Some(Boundary::Source) {
-                all_warn.push(format!(
-                    "stream {}: negative make-up flow: the site has a water surplus",
-                    sl.name
+                all_warn.push(Warning::new(
+                    Code::NegativeFlow,
+                    format!(
+                        "stream {}: negative make-up flow: the site has a water surplus",
+                        sl.name
+                    ),
                 ));
             }
         }

@@ -17,6 +17,7 @@ use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
 use crate::plant::sat_liquid;
+use crate::plant::warnings::Code;
 use crate::water::state::{Phase, State, P_C};
 
 /// A boiler's specification as given.
@@ -232,12 +233,12 @@ impl UnitKind for Boiler {
         out.r.balance.energy_out += out.r.energy_lost + (fuel - q);
         out.r.balance.mass_out += out.r.mass_lost;
         if sfw.props.p < ss.props.p {
-            out.warn(
+            out.warn(Code::FeedwaterPressureLow,
                 "the feedwater pressure is below the steam pressure: a feed pump is needed upstream",
             );
         }
         if ss.phase == Phase::Wet {
-            out.warn("the steam leaving is wet");
+            out.warn(Code::WetSteam, "the steam leaving is wet");
         }
         Ok(())
     }

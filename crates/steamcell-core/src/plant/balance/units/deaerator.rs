@@ -11,6 +11,7 @@ use crate::error::{Error, Result};
 use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
+use crate::plant::warnings::Code;
 use crate::plant::{sat_liquid, sat_vapour};
 use crate::water::state::State;
 
@@ -182,10 +183,13 @@ impl UnitKind for Deaerator {
             }
         }
         if m[self.steam] < 0.0 {
-            out.warn("the heating-steam flow is negative: the water entering is already hotter than saturation; lower the inflow temperatures or raise the pressure");
+            out.warn(Code::NegativeHeatingSteam, "the heating-steam flow is negative: the water entering is already hotter than saturation; lower the inflow temperatures or raise the pressure");
         }
         if st[self.steam].props.p < self.p {
-            out.warn("the heating steam pressure is below the deaerator pressure");
+            out.warn(
+                Code::HeatingSteamPressureLow,
+                "the heating steam pressure is below the deaerator pressure",
+            );
         }
         Ok(())
     }

@@ -13,6 +13,7 @@ use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
+use crate::plant::warnings::Code;
 use crate::plant::{pt, sat_vapour};
 use crate::water::state::{self, State, P_C};
 
@@ -189,13 +190,16 @@ impl UnitKind for Desuperheater {
     fn results(&self, _: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()> {
         let po = st[self.out].props.p;
         if let Aim::BelowSaturation(tt) = self.aim(po)? {
-            out.warn(format!("the target temperature {tt:.3} K is at or below saturation at {po:.4} MPa: a desuperheater cannot make wet steam; the outlet is set to saturated vapour (aim for 5 to 10 K superheat; common practice, no source)"));
+            out.warn(Code::DesuperheaterTargetSaturated, format!("the target temperature {tt:.3} K is at or below saturation at {po:.4} MPa: a desuperheater cannot make wet steam; the outlet is set to saturated vapour (aim for 5 to 10 K superheat; common practice, no source)"));
         }
         if m[self.water] < 0.0 {
-            out.warn("the spray flow is negative: the steam is already below the target");
+            out.warn(
+                Code::NegativeSpray,
+                "the spray flow is negative: the steam is already below the target",
+            );
         }
         if st[self.water].props.p < po {
-            out.warn("the spray water pressure is below the outlet pressure: it cannot enter without a pump");
+            out.warn(Code::SprayWaterPressureLow, "the spray water pressure is below the outlet pressure: it cannot enter without a pump");
         }
         Ok(())
     }

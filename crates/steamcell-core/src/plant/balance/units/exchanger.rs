@@ -13,6 +13,7 @@ use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
 use crate::plant::ph;
+use crate::plant::warnings::Code;
 use crate::water::state::State;
 
 struct Wired {
@@ -178,10 +179,13 @@ impl UnitKind for Exchanger {
         let q = m[hi] * (st[hi].props.h - st[ho].props.h);
         out.r.duty = Some(q);
         if q < 0.0 {
-            out.warn("heat flows from the cold side to the hot side: swap the sides");
+            out.warn(
+                Code::HeatFlowsBackwards,
+                "heat flows from the cold side to the hot side: swap the sides",
+            );
         }
         if st[hi].props.t <= st[co].props.t || st[ho].props.t <= st[ci].props.t {
-            out.warn("temperature cross at an end of the exchanger (second law): check the outlet temperatures");
+            out.warn(Code::TemperatureCrossAtEnd, "temperature cross at an end of the exchanger (second law): check the outlet temperatures");
         }
         Ok(())
     }

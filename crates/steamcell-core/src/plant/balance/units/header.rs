@@ -11,6 +11,7 @@ use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::ph;
+use crate::plant::warnings::Code;
 use crate::water::state::{Phase, State};
 
 struct Wired {
@@ -105,21 +106,24 @@ impl UnitKind for Header {
         let (nm, p) = (at.name(), self.p);
         for &i in at.ins() {
             if st[i].props.p < p * (1.0 - 1e-9) {
-                out.warn(format!("stream {} enters at {:.4} MPa, below the header pressure {p:.4} MPa: it cannot flow in", at.stream(i), st[i].props.p));
+                out.warn(Code::InletBelowHeaderPressure, format!("stream {} enters at {:.4} MPa, below the header pressure {p:.4} MPa: it cannot flow in", at.stream(i), st[i].props.p));
             }
         }
         for &o in at.outs() {
             let to = at.model.streams[o].to;
             if m[o] < 0.0 && at.boundary_of(to) == Some(Boundary::Sink) {
-                out.warn(format!("header {nm} is short of steam by {:.6} kg/s: its vent stream {} would have to run backwards; send more steam into {nm} (let-down, extraction) or lower its demand", -m[o], at.stream(o)));
+                out.warn(Code::HeaderShortOfSteam, format!("header {nm} is short of steam by {:.6} kg/s: its vent stream {} would have to run backwards; send more steam into {nm} (let-down, extraction) or lower its demand", -m[o], at.stream(o)));
             }
         }
         if let Some(&o) = at.outs().first() {
             if st[o].phase == Phase::Wet {
-                out.warn(format!(
-                    "the header steam is wet (x = {:.4}): provide drainage and traps",
-                    st[o].x.unwrap_or(0.0)
-                ));
+                out.warn(
+                    Code::WetSteam,
+                    format!(
+                        "the header steam is wet (x = {:.4}): provide drainage and traps",
+                        st[o].x.unwrap_or(0.0)
+                    ),
+                );
             }
         }
         Ok(())

@@ -17,6 +17,7 @@ use super::dof::{Of, Row};
 use super::model::{Findings, Model, Refused, Wiring};
 use super::{FixedState, SankeyLink, Totals, Unit, UnitResult};
 use crate::error::{Error, Result};
+use crate::plant::warnings::{Code, Warning};
 use crate::water::state::{self, State};
 use std::fmt;
 
@@ -266,9 +267,9 @@ impl Report<'_> {
             mass,
         });
     }
-    /// Adds a warning to the unit's result.
-    pub fn warn(&mut self, w: impl Into<String>) {
-        self.r.warnings.push(w.into());
+    /// Adds a warning of catalogue code `code` to the unit's result.
+    pub fn warn(&mut self, code: Code, w: impl Into<String>) {
+        self.r.warnings.push(Warning::new(code, w));
     }
 }
 

@@ -11,6 +11,7 @@ use crate::error::{Error, Result};
 use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
+use crate::plant::warnings::Code;
 use crate::plant::{ph, ps};
 use crate::water::state::State;
 
@@ -134,7 +135,7 @@ impl UnitKind for Pump {
         out.link("power", at.name(), pw, 0.0);
         out.r.efficiency = Some(self.efficiency);
         if st[self.inlet].x.is_some_and(|x| x > 1e-9) {
-            out.warn("the pump inlet is not liquid");
+            out.warn(Code::PumpInletNotLiquid, "the pump inlet is not liquid");
         }
         Ok(())
     }

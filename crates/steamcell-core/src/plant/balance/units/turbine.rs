@@ -14,6 +14,7 @@ use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
 use crate::plant::components::{self as c, moisture, TurbineSpec};
+use crate::plant::warnings::Code;
 use crate::plant::{ps, MOISTURE_WARNING};
 use crate::water::state::{Phase, State};
 
@@ -200,7 +201,7 @@ impl UnitKind for Turbine {
         for o in &self.outlets {
             let mo = moisture(&st[o.stream]);
             if mo > MOISTURE_WARNING {
-                out.warn(format!(
+                out.warn(Code::ExhaustMoisture, format!(
                     "outlet {} moisture {:.1} % exceeds about 12 % (common practice): expect blade erosion",
                     at.stream(o.stream),
                     100.0 * mo
@@ -208,13 +209,16 @@ impl UnitKind for Turbine {
             }
         }
         if sin.phase != Phase::Vapour && sin.phase != Phase::Supercritical {
-            out.warn(format!(
-                "the inlet is {} (not superheated steam)",
-                sin.phase.name()
-            ));
+            out.warn(
+                Code::TurbineInletNotSuperheated,
+                format!("the inlet is {} (not superheated steam)", sin.phase.name()),
+            );
         }
         if pw < 0.0 {
-            out.warn("the turbine power is negative: check the flows");
+            out.warn(
+                Code::NegativePower,
+                "the turbine power is negative: check the flows",
+            );
         }
         Ok(())
     }

@@ -13,6 +13,7 @@ use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
 use crate::plant::pt;
+use crate::plant::warnings::Code;
 use crate::water::state::{Phase, State};
 
 struct Wired {
@@ -219,14 +220,20 @@ impl UnitKind for User {
             // Saturated liquid (x = 0) is condensate too.
             let saturated_liquid = st[stream].x.is_some_and(|x| x <= 0.0);
             if st[stream].phase != Phase::Liquid && !saturated_liquid {
-                out.warn(format!(
-                    "the condensate stream {} is not liquid at its pressure",
-                    at.stream(stream)
-                ));
+                out.warn(
+                    Code::CondensateNotLiquid,
+                    format!(
+                        "the condensate stream {} is not liquid at its pressure",
+                        at.stream(stream)
+                    ),
+                );
             }
         }
         if st[inlet].phase == Phase::Liquid {
-            out.warn("the user receives liquid, not steam");
+            out.warn(
+                Code::UserReceivesLiquid,
+                "the user receives liquid, not steam",
+            );
         }
         Ok(())
     }

@@ -11,6 +11,7 @@ use crate::plant::balance::diagnosis::{ClashHint, FlowHint};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::ph;
+use crate::plant::warnings::Code;
 use crate::water::state::State;
 
 struct Wired {
@@ -92,7 +93,7 @@ impl UnitKind for Valve {
     fn results(&self, _: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()> {
         let (si, so) = (st[self.inlet], st[self.out]);
         if si.props.p < so.props.p || m[self.inlet] < 0.0 {
-            out.warn(format!(
+            out.warn(Code::ValveRunsBackwards, format!(
                 "the let-down valve runs backwards (flow {:.6} kg/s from {:.4} MPa to {:.4} MPa): steam would have to flow from the low-pressure side; the header it feeds has a surplus — vent it or cut an extraction",
                 m[self.inlet], si.props.p, so.props.p
             ));

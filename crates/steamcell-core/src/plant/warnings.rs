@@ -1,0 +1,410 @@
+//! The one catalogue of warnings: every warning a component, the cycle, a distribution
+//! calculation or the site balance gives is a [`Warning`] with a [`Code`] from [`CATALOGUE`],
+//! which says what the code means, what to check and where the threshold comes from (a
+//! published source, or "common practice, no source").
+//!
+//! A warning is for a result that is physically possible but needs the engineer's attention
+//! (wet steam where steam is expected, a small pinch, a high velocity); an impossible result is
+//! refused with an error instead, never warned. No warning fires on a nominal case (the README's
+//! examples, the demo and the audit's leaks: `feasibility.rs::nominal_examples_give_no_warnings`).
+//!
+//! Units: messages carry their values in internal units (p MPa, T K, ...) unless the caller
+//! re-states them (the distribution methods speak the caller's preset).
+//!
+//! Invariant: [`CATALOGUE`] lists every [`Code`] exactly once, in the order of [`Code::ALL`]
+//! (a test checks it), and codes are stable wire names: rename none, only add.
+
+use std::fmt;
+
+/// A warning: its code in the catalogue and a one-line message with the values of the case.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Warning {
+    /// The catalogue code.
+    pub code: Code,
+    /// One line: what was found, with its values, and what to check.
+    pub message: String,
+}
+
+impl Warning {
+    /// A warning of `code` with its message.
+    pub fn new(code: Code, message: impl Into<String>) -> Warning {
+        Warning {
+            code,
+            message: message.into(),
+        }
+    }
+
+    /// The same warning with its message prefixed (e.g. "stage 2: ", "turbine BPT: ").
+    pub fn prefixed(&self, prefix: &str) -> Warning {
+        Warning {
+            code: self.code,
+            message: format!("{prefix}{}", self.message),
+        }
+    }
+}
+
+impl fmt::Display for Warning {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "[{}] {}", self.code.name(), self.message)
+    }
+}
+
+/// One entry of the catalogue.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Entry {
+    /// The code.
+    pub code: Code,
+    /// What the warning means.
+    pub meaning: &'static str,
+    /// What to check or do.
+    pub check: &'static str,
+    /// Where its threshold or rule comes from: a published source, or "common practice, no
+    /// source" (or a physical fact, named as such).
+    pub source: &'static str,
+}
+
+macro_rules! codes {
+    ($($variant:ident => $name:literal,)*) => {
+        /// A warning's code. Wire name: [`Code::name`].
+        #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+        pub enum Code {
+            $(
+                #[doc = concat!("`", $name, "`: see [`CATALOGUE`].")]
+                $variant,
+            )*
+        }
+
+        impl Code {
+            /// Every code, in catalogue order.
+            pub const ALL: &'static [Code] = &[$(Code::$variant,)*];
+
+            /// The code's stable wire name (snake case).
+            pub fn name(self) -> &'static str {
+                match self {
+                    $(Code::$variant => $name,)*
+                }
+            }
+        }
+    };
+}
+
+codes! {
+    ExhaustMoisture => "exhaust_moisture",
+    NearCritical => "near_critical",
+    TurbineInletNotSuperheated => "turbine_inlet_not_superheated",
+    NpshLow => "npsh_low",
+    NpshStateOnly => "npsh_state_only",
+    ValveFlashing => "valve_flashing",
+    ValveOutletWet => "valve_outlet_wet",
+    SprayWaterPressureLow => "spray_water_pressure_low",
+    SmallSuperheat => "small_superheat",
+    NoFlash => "no_flash",
+    FlashInletSuperheated => "flash_inlet_superheated",
+    InletBelowHeaderPressure => "inlet_below_header_pressure",
+    WetSteam => "wet_steam",
+    SmallPinch => "small_pinch",
+    FeedwaterPressureLow => "feedwater_pressure_low",
+    HeatingSteamPressureLow => "heating_steam_pressure_low",
+    OrificeBetaHigh => "orifice_beta_high",
+    FlashingLowerEstimate => "flashing_lower_estimate",
+    ApproachVelocityHigh => "approach_velocity_high",
+    SurfaceAboveTouchLimit => "surface_above_touch_limit",
+    VelocityHigh => "velocity_high",
+    TransitionalFlow => "transitional_flow",
+    LineFlashing => "line_flashing",
+    LineCondensate => "line_condensate",
+    PressureDropHigh => "pressure_drop_high",
+    MachHigh => "mach_high",
+    NegativeFlow => "negative_flow",
+    ValveRunsBackwards => "valve_runs_backwards",
+    NegativePower => "negative_power",
+    HeaderShortOfSteam => "header_short_of_steam",
+    NegativeHeatingSteam => "negative_heating_steam",
+    DesuperheaterTargetSaturated => "desuperheater_target_saturated",
+    NegativeSpray => "negative_spray",
+    CondensateNotLiquid => "condensate_not_liquid",
+    UserReceivesLiquid => "user_receives_liquid",
+    HeatFlowsBackwards => "heat_flows_backwards",
+    TemperatureCrossAtEnd => "temperature_cross_at_end",
+    PumpInletNotLiquid => "pump_inlet_not_liquid",
+    ExhaustVelocityHigh => "exhaust_velocity_high",
+    MeasuredOutletNearSaturation => "measured_outlet_near_saturation",
+}
+
+const NO_SOURCE: &str = "common practice, no source";
+
+/// The catalogue: one entry per [`Code`], in the order of [`Code::ALL`].
+pub const CATALOGUE: &[Entry] = &[
+    Entry {
+        code: Code::ExhaustMoisture,
+        meaning: "the steam leaving a turbine or a turbine section holds more than about 12 % liquid",
+        check: "expect blade erosion; consider reheat, a higher exhaust pressure or moisture removal",
+        source: "common practice, no source (limits of 10 to 15 % are usual in the trade)",
+    },
+    Entry {
+        code: Code::NearCritical,
+        meaning: "a state lies within a few percent of the critical point (IF97 region 3), where properties change steeply",
+        check: "small input changes move the answer a lot; check the inputs' accuracy and the margin to the critical point",
+        source: "physical fact (IAPWS R7-97(2012): region 3 around the critical point 22.064 MPa, 647.096 K)",
+    },
+    Entry {
+        code: Code::TurbineInletNotSuperheated,
+        meaning: "the turbine inlet is wet or liquid, not superheated steam",
+        check: "check the inlet state: a turbine is normally fed superheated or at least dry saturated steam",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::NpshLow,
+        meaning: "the net positive suction head available is below 3 m",
+        check: "compare with the pump maker's NPSH required plus a margin; raise the suction level or subcool the suction",
+        source: "common practice, no source (3 m is a screening value; the maker's NPSH required governs)",
+    },
+    Entry {
+        code: Code::NpshStateOnly,
+        meaning: "the suction is saturated liquid and no suction_head was given, so the NPSH available from the state alone is zero",
+        check: "give suction_head: the liquid level above the pump inlet less the suction-line losses; that is the NPSH available of a saturated suction",
+        source: "physical fact (the vapour pressure of saturated liquid equals its pressure)",
+    },
+    Entry {
+        code: Code::ValveFlashing,
+        meaning: "liquid (or saturated liquid) flashes in a valve: part of it leaves as steam",
+        check: "consider a flash vessel downstream and erosion-resistant trim; size the outlet line for two-phase flow",
+        source: "physical fact (throttling is isenthalpic)",
+    },
+    Entry {
+        code: Code::ValveOutletWet,
+        meaning: "steam leaves a let-down valve wet: throttling saturated steam from above about 3 MPa makes it wetter",
+        check: "provide drainage or a separator after the valve, or superheat the steam before letting it down",
+        source: "physical fact: the saturated-vapour enthalpy has its maximum near 3 MPa (IAPWS-IF97)",
+    },
+    Entry {
+        code: Code::SprayWaterPressureLow,
+        meaning: "the spray water is at a lower pressure than the desuperheater outlet",
+        check: "the water cannot enter without a pump: check the spray-water supply pressure",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::SmallSuperheat,
+        meaning: "the desuperheater outlet has less than 5 K of superheat",
+        check: "the spray may not evaporate fully; aim for 5 to 10 K of superheat",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::NoFlash,
+        meaning: "the flash-vessel inlet is too cold to flash at the vessel pressure",
+        check: "no flash steam is made: check the vessel pressure and the inlet temperature",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::FlashInletSuperheated,
+        meaning: "the flash-vessel inlet is superheated at the vessel pressure: all of it leaves as vapour",
+        check: "check the inlet state: a flash vessel is fed hot condensate",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::InletBelowHeaderPressure,
+        meaning: "an inlet stream is at a lower pressure than the header it feeds",
+        check: "it cannot flow in: check the stream and header pressures",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::WetSteam,
+        meaning: "steam where steam is expected (a header, a boiler outlet) is wet",
+        check: "provide drainage and traps, or check the states that feed it",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::SmallPinch,
+        meaning: "the smallest temperature difference inside an exchanger is below 3 K",
+        check: "a very large surface would be needed: check the outlet temperatures and the flows",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::FeedwaterPressureLow,
+        meaning: "the boiler feedwater is at a lower pressure than the steam",
+        check: "a feed pump is needed upstream: check the feedwater pressure",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::HeatingSteamPressureLow,
+        meaning: "the deaerator's heating steam is at a lower pressure than the deaerator",
+        check: "it cannot flow in: check the heating-steam supply pressure",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::OrificeBetaHigh,
+        meaning: "the hole is more than 80 % of the pipe diameter",
+        check: "the jet is hardly an orifice flow and the discharge coefficient of a sharp-edged hole does not hold: give your own",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::FlashingLowerEstimate,
+        meaning: "a liquid or wet inlet is computed with homogeneous equilibrium flashing",
+        check: "short openings pass more (up to the frozen limit, flashing \"frozen\"): treat the flow as a lower estimate",
+        source: "homogeneous equilibrium model (common practice, no source)",
+    },
+    Entry {
+        code: Code::ApproachVelocityHigh,
+        meaning: "the approach velocity adds more than 5 % to the upstream pressure",
+        check: "check the approach velocity (stagnation over static pressure)",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::SurfaceAboveTouchLimit,
+        meaning: "a pipe surface is hotter than the touch limit",
+        check: "personnel protection (insulation, guards) is needed where it can be touched; follow local codes",
+        source: "common practice, no source (60 degC by default; standards relate it to contact time and material)",
+    },
+    Entry {
+        code: Code::VelocityHigh,
+        meaning: "the velocity in a line is above about 40 m/s (saturated or wet steam), 60 m/s (superheated steam) or 3 m/s (water)",
+        check: "expect noise, erosion and a large pressure drop: consider a larger line",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::TransitionalFlow,
+        meaning: "the flow is in laminar-turbulent transition (2300 < Re < 4000) somewhere along a line",
+        check: "the friction factor there is an interpolation and uncertain",
+        source: "Moody chart transition range (common practice, no source)",
+    },
+    Entry {
+        code: Code::LineFlashing,
+        meaning: "water flashes in a line: the line runs two-phase",
+        check: "risk of water hammer: check the line pressure and temperature",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::LineCondensate,
+        meaning: "condensate forms along a steam line",
+        check: "drain it with traps at low points",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::PressureDropHigh,
+        meaning: "the pressure drop of a line is above 10 % of its inlet pressure",
+        check: "consider a larger line",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::MachHigh,
+        meaning: "the Mach number in a steam line is above 0.3",
+        check: "the flow is strongly compressible: check the outlet pressure against the choking limit",
+        source: "common practice, no source (0.3 is the usual incompressibility limit)",
+    },
+    Entry {
+        code: Code::NegativeFlow,
+        meaning: "a stream of a solved site balance has a negative flow",
+        check: "the balance needs that stream reversed: change the specifications (demands, fixed flows) so that it runs forward",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::ValveRunsBackwards,
+        meaning: "a let-down valve of a site balance would have to pass steam from its low-pressure side",
+        check: "the header it feeds has a surplus: vent it or cut an extraction",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::NegativePower,
+        meaning: "a turbine of a site balance has negative power",
+        check: "check the flows through the turbine",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::HeaderShortOfSteam,
+        meaning: "a header of a site balance is short of steam: its vent would run backwards",
+        check: "send more steam into the header (let-down, extraction) or lower its demand",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::NegativeHeatingSteam,
+        meaning: "a deaerator of a site balance needs a negative heating-steam flow",
+        check: "the water entering is already hotter than saturation: lower the inflow temperatures or raise the pressure",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::DesuperheaterTargetSaturated,
+        meaning: "a desuperheater's target is at or below saturation; the outlet is set to saturated vapour",
+        check: "a desuperheater cannot make wet steam: aim for 5 to 10 K of superheat",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::NegativeSpray,
+        meaning: "a desuperheater of a site balance needs a negative spray flow",
+        check: "the steam is already below the target: check the target and the steam state",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::CondensateNotLiquid,
+        meaning: "a condensate stream is not liquid at its pressure",
+        check: "check the condensate temperature and pressure",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::UserReceivesLiquid,
+        meaning: "a process steam user receives liquid, not steam",
+        check: "check the state of the stream that feeds it",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::HeatFlowsBackwards,
+        meaning: "heat flows from the cold side to the hot side of a site-balance exchanger",
+        check: "swap the sides",
+        source: "second law",
+    },
+    Entry {
+        code: Code::TemperatureCrossAtEnd,
+        meaning: "a site-balance exchanger has a temperature cross at one of its ends",
+        check: "check the outlet temperatures (second law)",
+        source: "second law",
+    },
+    Entry {
+        code: Code::PumpInletNotLiquid,
+        meaning: "a pump of a site balance receives vapour or a wet mixture",
+        check: "check the state of the pump's inlet stream",
+        source: "physical fact",
+    },
+    Entry {
+        code: Code::ExhaustVelocityHigh,
+        meaning: "the turbine's exhaust annulus velocity is above about 300 m/s",
+        check: "exhaust losses climb steeply towards choking there and only V^2/2 is modelled; check the exhaust area and the flow against the maker's exhaust-loss curve",
+        source: "common practice, no source (exhaust-loss curves of large condensing turbines, from memory)",
+    },
+    Entry {
+        code: Code::MeasuredOutletNearSaturation,
+        meaning: "a measured turbine exhaust temperature is within 2 K of saturation",
+        check: "within a thermocouple's uncertainty (about 1 K) the exhaust may be wet, where a temperature cannot fix the state; confirm with the exhaust quality or a heat balance",
+        source: "common practice, no source",
+    },
+];
+
+impl Code {
+    /// The code's catalogue entry.
+    pub fn entry(self) -> &'static Entry {
+        // The catalogue is in `Code::ALL` order (checked by a test), so the index is the
+        // variant's position.
+        let i = Code::ALL.iter().position(|c| *c == self).unwrap_or(0);
+        &CATALOGUE[i]
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_catalogue_lists_every_code_once_in_order() {
+        assert_eq!(CATALOGUE.len(), Code::ALL.len());
+        for (e, c) in CATALOGUE.iter().zip(Code::ALL) {
+            assert_eq!(e.code, *c, "{}", c.name());
+            assert!(!e.meaning.is_empty() && !e.check.is_empty() && !e.source.is_empty());
+            assert_eq!(c.entry().code, *c);
+        }
+        for (i, c) in Code::ALL.iter().enumerate() {
+            assert!(Code::ALL[..i].iter().all(|d| d.name() != c.name()));
+            assert!(c
+                .name()
+                .chars()
+                .all(|ch| ch.is_ascii_lowercase() || ch == '_'));
+        }
+    }
+}
