@@ -46,7 +46,7 @@ pub fn methods() -> Vec<MethodSpec> {
 // ---------------------------------------------------------------- shared: costing, errors
 
 /// Re-states a calculation error that names a quantity in an internal unit in the caller's unit.
-fn restate(ctx: &Ctx, e: Error) -> Error {
+pub(super) fn restate(ctx: &Ctx, e: Error) -> Error {
     match e {
         Error::OutOfRange {
             quantity,

@@ -173,12 +173,17 @@ fn solve(network: &Value, pairs: &[(String, String)]) -> Result<Value, ApiError>
             top.insert(k.clone(), value);
         } else if k.starts_with("units.") || k.starts_with("streams.") {
             set_path(&mut net, k, wire_value(v))?;
+        } else if k.starts_with("costing.") {
+            if net.get("costing").is_none() {
+                net["costing"] = Value::Object(Map::new());
+            }
+            set_path(&mut net, k, wire_value(v))?;
         } else {
             return Err(ApiError::invalid_params(
                 k,
                 format!(
-                    "'{k}' is not a specification path such as units.NAME.FIELD or \
-                     streams.NAME.FIELD, nor one of: {}",
+                    "'{k}' is not a specification path such as units.NAME.FIELD, \
+                     streams.NAME.FIELD or costing.FIELD, nor one of: {}",
                     RESERVED.join(", ")
                 ),
             ));
