@@ -25,6 +25,6 @@ with steamcell.connect() as c:
     print(site.units[site.units["warnings"] != ""][["kind", "warnings"]])
     balance.plot_energy_flows(site).savefig("site-flows.png", dpi=100)
     user = next(n for n, u in network["units"].items() if u["kind"] == "user")
-    table = balance.sweep(c, network, f"units.{user}.demand", 1.0, 10.0, points=10)
+    table = balance.sweep(c, network, f"units.{user}.demand", 8.0, 14.0, points=7)
     print(table[["value", "ok", "fuel_heat_input", "net_power"]])
     balance.plot_sweep(table, xlabel=f"{user} demand").savefig("site-sweep.png", dpi=100)

@@ -762,7 +762,8 @@ pub struct StreamOut {
     pub from: String,
     /// Destination unit.
     pub to: String,
-    /// Mass flow (negative when the balance needs it reversed; see the warnings).
+    /// Mass flow (never negative: a balance that needs a stream reversed is refused with the
+    /// specifications that would fix it).
     pub flow: f64,
     /// Enthalpy flow m h (IAPWS-IF97 reference).
     pub energy_flow: f64,

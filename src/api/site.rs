@@ -6,8 +6,9 @@
 //! read and solved once then, so a broken file stops the start with its reason. A request
 //! solves the registered network after applying its query pairs: `units` and `ambient` are the
 //! method's own params; every other name is a dotted path into the network, as the `path` of
-//! `balance.sweep` (`units.LP_users.demand=40 t/h`, `streams.hp_to_bpt.flow=30`); the value is a
-//! number in the request's preset or a text with its unit. The answer is the number at
+//! `balance.sweep` (`units.LP_users.demand=40 t/h`, `streams.hp_to_bpt.flow=30`,
+//! `costing.fuel_cost=35 /MWh`); the value is a number in the request's preset or a text with
+//! its unit. The answer is the number at
 //! `quantity` in the result: a bare name is a site total (`net_power`, `fuel_heat_input`, ...),
 //! a dotted path reaches anything else (`units.BPT.power`, `streams.ds1_out.state.T`).
 //!

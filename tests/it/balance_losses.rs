@@ -748,3 +748,24 @@ fn a_trap_on_a_stream_that_is_not_condensate_is_refused() {
         e.message
     );
 }
+
+#[test]
+fn a_line_that_cannot_carry_its_flow_is_refused_with_the_length_reached() {
+    // a 2-inch line cannot carry 1 kg/s of 10 bar steam over 400 m (about 90 m/s at the inlet:
+    // its pressure is used up on the way)
+    let mut v = drained_line();
+    v["units"]["L"]["inner_diameter"] = json!("52.5 mm");
+    v["units"]["L"]["wall_thickness"] = json!("3.9 mm");
+    let e = refused(&v);
+    assert!(
+        e.message
+            .contains("units.L.length = 400 m is above the highest value"),
+        "{}",
+        e.message
+    );
+    assert!(
+        e.message.contains("its pressure is used up"),
+        "{}",
+        e.message
+    );
+}

@@ -47,7 +47,10 @@ def test_sweep_and_charts(client, tmp_path):
     demand = net["units"][first]["demand"]
     assert isinstance(demand, (int, float)) or isinstance(demand, str)
     stream = next(n for n, st in net["streams"].items() if st["to"] == first)
-    table = balance.sweep(client, net, f"units.{first}.demand", 1.0, 6.0, points=4,
+    # (from 8 kg/s: below about 7.1 kg/s the medium-pressure header gets more from the
+    # back-pressure turbine than it sends on, and the balance, which would need a let-down
+    # running backwards, is refused point by point)
+    table = balance.sweep(client, net, f"units.{first}.demand", 8.0, 13.0, points=4,
                           streams=[stream])
     assert len(table) == 4 and "fuel_heat_input" in table.columns
     # The chosen stream's values per point: its flow follows the swept demand (in the

@@ -478,7 +478,7 @@ pub struct StreamResult {
     pub from: String,
     /// Destination unit.
     pub to: String,
-    /// Mass flow, kg/s (negative: the balance needs it to run backwards; see the warnings).
+    /// Mass flow, kg/s (never negative: a balance that needs a stream reversed is refused).
     pub flow: f64,
     /// State.
     pub state: State,

@@ -1,11 +1,14 @@
 //! The site solver over a validated [`Model`]: successive substitution between the stream
 //! states (each unit sets its outlets from its inlets) and the linear flow system (every
 //! unit's balances and specifications, every fixed flow), with the count of the flow
-//! equations before the first solve; then results, totals and the energy-flow summary.
+//! equations before the first solve; the refusal of a balance that needs negative flows (with
+//! the specifications that fix it, found by solving again); then results, totals, the costing
+//! of the losses and the energy-flow summary.
 //!
 //! Units: internal (MPa, K, kJ/kg, kg/s, kW).
 //!
-//! Invariant: a returned [`Solution`] closes every unit and the site to [`TOLERANCE`].
+//! Invariant: a returned [`Solution`] closes every unit and the site to [`TOLERANCE`], and no
+//! flow in it is negative (beyond 1e-9 of the largest).
 
 use super::diagnosis::{ClashHint, Equation, Finding, Owner};
 use super::dof::{self, Of, Row};
@@ -330,7 +333,7 @@ impl Model {
             let target = 1e-6 * scale;
             let (mut d0, mut f0) = (0.0, least(m) - target);
             let mut d1 = by;
-            for _ in 0..8 {
+            for _ in 0..5 {
                 let mut trial = it.clone();
                 if self.converge(&mut trial, Some((kept[j], d1))).is_err() {
                     break;

@@ -246,7 +246,10 @@ impl UnitKind for Line {
             return Ok(false);
         };
         let mi = m[self.inlet];
-        let r = self.march(at, &si, mi)?;
+        // While the flows settle the line may be asked to carry a flow it cannot (the first
+        // guess of every flow is 1 kg/s): it then loses nothing for this pass; at the solved
+        // flow the result step marches it again and refuses a line that cannot carry it.
+        let r = self.march(at, &si, mi).unwrap_or(None);
         let (q, cr) = r.map_or((0.0, 0.0), |r| (r.q, r.condensate_ratio));
         *aux = cr;
         let mut h_main = if mi > 0.0 {
