@@ -22,6 +22,9 @@ use crate::water::state::P_C;
 
 const MAX_ITER: usize = 200;
 
+/// Atmospheric pressure, MPa: the least pressure of the make-up water in the costing.
+const P_ATM: f64 = 0.101_325;
+
 /// The unknowns of the successive substitution: flows, stream states, the units' own unknowns,
 /// and the flow equations left out as redundant.
 #[derive(Clone)]
@@ -499,10 +502,13 @@ impl Model {
         for &(u, l) in losses {
             let slot = &self.units[u];
             let tag = |e: Error| self.at(u).tag()(e);
+            // the make-up water is taken at the loss's pressure, or at the atmospheric one
+            // below it (make-up water is liquid there; its enthalpy hardly depends on p)
+            let p = l.p.max(P_ATM);
             let y: YearlyLoss = match l.kind {
-                LossKind::Line => c.heat_loss(l.heat, l.h, l.p).map_err(tag)?,
+                LossKind::Line => c.heat_loss(l.heat, l.h, p).map_err(tag)?,
                 LossKind::Leak | LossKind::Trap | LossKind::Vented { .. } => {
-                    c.steam_loss(l.steam, l.h, l.p).map_err(tag)?
+                    c.steam_loss(l.steam, l.h, p).map_err(tag)?
                 }
             };
             let makeup_heat = l.heat + l.steam * (l.h - y.makeup_h).max(0.0);
