@@ -6,9 +6,10 @@
 //! read and solved once then, so a broken file stops the start with its reason. A request
 //! solves the registered network after applying its query pairs: `units` and `ambient` are the
 //! method's own params; every other name is a dotted path into the network, as the `path` of
-//! `balance.sweep` (`units.LP_users.demand=40 t/h`, `streams.hp_to_bpt.flow=30`); the value is a
-//! number in the request's units or a text with its unit; `unit` sets the unit of the answered
-//! quantity (as a `units` key of its field name). The answer is the number at
+//! `balance.sweep` (`units.LP_users.demand=40 t/h`, `streams.hp_to_bpt.flow=30`,
+//! `costing.fuel_cost=35 /MWh`); the value is a number in the request's units or a text with
+//! its unit; `unit` sets the unit of the answered quantity (as a `units` key of its field
+//! name). The answer is the number at
 //! `quantity` in the result: a bare name is a site total (`net_power`, `fuel_heat_input`, ...),
 //! a dotted path reaches anything else (`units.BPT.power`, `streams.ds1_out.state.T`).
 //!
@@ -197,12 +198,17 @@ fn solve(network: &Value, pairs: &[(String, String)], quantity: &str) -> Result<
             top.insert(k.clone(), value);
         } else if k.starts_with("units.") || k.starts_with("streams.") {
             set_path(&mut net, k, wire_value(v))?;
+        } else if k.starts_with("costing.") {
+            if net.get("costing").is_none() {
+                net["costing"] = Value::Object(Map::new());
+            }
+            set_path(&mut net, k, wire_value(v))?;
         } else {
             return Err(ApiError::invalid_params(
                 k,
                 format!(
-                    "'{k}' is not a specification path such as units.NAME.FIELD or \
-                     streams.NAME.FIELD, nor one of: {}",
+                    "'{k}' is not a specification path such as units.NAME.FIELD, \
+                     streams.NAME.FIELD or costing.FIELD, nor one of: {}",
                     RESERVED.join(", ")
                 ),
             ));

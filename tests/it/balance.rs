@@ -14,6 +14,7 @@ use steamcell::api::vocab::Ctx;
 use steamcell::api::{self};
 use steamcell::plant::balance::{self as b, Network, Solution};
 use steamcell::plant::components as c;
+use steamcell::plant::warnings::Code;
 use steamcell::plant::{ph, pt, sat_liquid};
 
 const SITE: &str = include_str!("../../examples/site/site.json");
@@ -132,9 +133,13 @@ fn example_site_solves_and_every_balance_closes() {
     assert!(rel(sol.streams["da_out"].state.props.h, sl.props.h) < 1e-12);
     // process steam = sum of demands = 10 + 12 + 6 + 2 kg/s
     assert!(rel(sol.totals.process_steam, 30.0) < 1e-12);
-    // every flow is forward in this site
+    // every flow is forward in this site, the LLP vent closed (it opens only on upsets)
     for (n, s) in &sol.streams {
-        assert!(s.flow > 0.0, "{n}: {}", s.flow);
+        if n == "llp_vent" {
+            assert_eq!(s.flow, 0.0);
+        } else {
+            assert!(s.flow > 0.0, "{n}: {}", s.flow);
+        }
     }
 }
 
@@ -351,32 +356,64 @@ fn small_site(demand: f64, vent_flow: Option<f64>, valve_flow: Option<f64>) -> V
     v
 }
 
-#[test]
-fn a_let_down_valve_running_backwards_is_warned_about() {
-    // 5 kg/s through the turbine into LP but only 1 kg/s of demand: the let-down would have to
-    // carry steam back up to the HP header
-    let net = network(&small_site(1.0, Some(0.2), None));
-    let sol = b::solve(&net).unwrap();
-    check_closure(&sol, &net);
-    assert!(sol.streams["lv_lp"].flow < 0.0);
-    assert!(sol.units["LV"]
-        .warnings
-        .iter()
-        .any(|w| w.message.contains("runs backwards")));
+/// (name or path, value) pairs.
+type Named = Vec<(String, f64)>;
+
+/// The reversed streams and the suggested changes of a refusal by negative flows.
+fn reversed(net: &Network) -> (Named, Named) {
+    match b::solve(net) {
+        Err(steamcell::error::Error::Specification { diagnosis }) => {
+            match &diagnosis.findings[..] {
+                [b::Finding::NegativeFlows { flows, changes }] => (
+                    flows
+                        .iter()
+                        .map(|r| (r.stream.clone(), r.flow.value))
+                        .collect(),
+                    changes
+                        .iter()
+                        .map(|c| (c.path.clone(), c.by.value))
+                        .collect(),
+                ),
+                other => panic!("{other:?}"),
+            }
+        }
+        other => panic!("not refused by negative flows: {other:?}"),
+    }
 }
 
 #[test]
-fn a_header_short_of_steam_is_warned_about() {
+fn a_let_down_valve_needed_backwards_is_refused() {
+    // 5 kg/s through the turbine into LP but only 1 kg/s of demand: the let-down would have to
+    // carry steam back up to the HP header (issue 15: once a warning beside a plain result)
+    let (flows, changes) = reversed(&network(&small_site(1.0, Some(0.2), None)));
+    let names: Vec<&str> = flows.iter().map(|(n, _)| n.as_str()).collect();
+    assert_eq!(names, ["hp_lv", "lv_lp"]);
+    assert!(flows.iter().all(|(_, f)| *f < 0.0));
+    // the usual ways out: more demand, less turbine flow, more vented
+    let paths: Vec<&str> = changes.iter().map(|(p, _)| p.as_str()).collect();
+    assert_eq!(
+        paths,
+        ["units.U.demand", "streams.hp_t.flow", "streams.lp_vt.flow"]
+    );
+    assert!(changes[0].1 > 0.0 && changes[1].1 < 0.0 && changes[2].1 > 0.0);
+    // each suggested change is enough (found by solving the site again with it): the demand
+    // raised by it, rounded as printed, solves with the let-down just forward
+    let by: f64 = format!("{:.5e}", changes[0].1).parse().unwrap();
+    let sol = b::solve(&network(&small_site(1.0 + by, Some(0.2), None))).unwrap();
+    let f = sol.streams["lv_lp"].flow;
+    assert!((0.0..1e-4).contains(&f), "{f}");
+}
+
+#[test]
+fn a_header_short_of_steam_is_refused() {
     // the let-down is closed (0 flow) and the vent closes the LP balance: 10 kg/s demand with
-    // 5 kg/s from the turbine leaves the header short
-    let net = network(&small_site(10.0, None, Some(0.0)));
-    let sol = b::solve(&net).unwrap();
-    check_closure(&sol, &net);
-    assert!(sol.streams["lp_vt"].flow < 0.0);
-    assert!(sol.units["LP"]
-        .warnings
+    // 5 kg/s from the turbine leaves the header short; its vent would run backwards
+    let (flows, changes) = reversed(&network(&small_site(10.0, None, Some(0.0))));
+    assert_eq!(flows[0].0, "lp_vt");
+    assert!(flows[0].1 < 0.0);
+    assert!(changes
         .iter()
-        .any(|w| w.message.contains("short of steam")));
+        .any(|(p, by)| p == "streams.lv_lp.flow" && *by > 0.0));
 }
 
 #[test]
@@ -402,7 +439,7 @@ fn a_sweep_reports_every_point_and_keeps_failures() {
         json!({
             "network": v,
             "path": "units.LP_users.demand",
-            "from": 6, "to": 18, "points": 5,
+            "from": 12, "to": 18, "points": 5,
             "streams": ["llp_vent", "b2_steam"]
         }),
     )
@@ -615,4 +652,127 @@ fn the_balance_solver_has_no_fallbacks() {
         }
     }
     assert!(bad.is_empty(), "{}", bad.join("\n"));
+}
+
+// ---- issue 15, reproduction 6: negative flows and continuous venting
+
+/// The example site as it was first written (the condensing turbine's extraction to the LLP
+/// header fixed, the LLP vent taking the rest) with the extraction at `ct_to_llp` kg/s. At
+/// 10 kg/s it vents about 3.15 kg/s for ever; at 5 kg/s the vent stream would have to run
+/// backwards (-1.505 kg/s; with the deaerator's own vent, `vented_steam` was -1.48 kg/s), which
+/// was answered as a plain number.
+fn venting_site(ct_to_llp: f64) -> Value {
+    let mut v: Value = serde_json::from_str(SITE).unwrap();
+    if let Some(s) = v["streams"]["llp_vent"].as_object_mut() {
+        s.remove("flow");
+    }
+    v["streams"]["ct_to_llp"]["flow"] = json!(format!("{ct_to_llp} kg/s"));
+    v
+}
+
+/// Every bare number of a mass flow in `v` written as a text in kg/s, so that the network means
+/// the same in any preset.
+fn flows_in_kg_s(mut v: Value) -> Value {
+    for (_, u) in v["units"].as_object_mut().unwrap() {
+        for f in ["demand", "steam_flow"] {
+            if let Some(x) = u.get(f).and_then(Value::as_f64) {
+                u[f] = json!(format!("{x} kg/s"));
+            }
+        }
+    }
+    for (_, s) in v["streams"].as_object_mut().unwrap() {
+        if let Some(x) = s.get("flow").and_then(Value::as_f64) {
+            s["flow"] = json!(format!("{x} kg/s"));
+        }
+    }
+    v
+}
+
+#[test]
+fn negative_flows_are_refused_with_the_streams_and_what_to_change() {
+    // in the us preset: the flow and the change are in lb/h
+    let e = api::call(
+        "balance.solve",
+        json!({ "network": flows_in_kg_s(venting_site(5.0)), "units": "us" }),
+    )
+    .unwrap_err();
+    let m = &e.message;
+    assert!(m.contains("llp_vent"), "{m}");
+    assert!(m.contains("lb/h"), "{m}");
+    assert!(!m.contains("kg/s"), "{m}");
+    // the flow: about -1.505 kg/s = -11,944 lb/h (1 kg/s = 7936.64 lb/h)
+    assert!(m.contains("-1194"), "{m}");
+    // what to change: more extraction into LLP
+    assert!(m.contains("streams.ct_to_llp.flow"), "{m}");
+    assert!(!m.contains('\n'), "one line: {m}");
+    let over = &e.data["diagnosis"]["over"];
+    assert_eq!(over[0]["code"], "negative_flows", "{over}");
+    assert_eq!(over[0]["streams"], json!(["llp_vent"]), "{over}");
+    // the same network in the engineering preset speaks kg/s
+    let e = api::call("balance.solve", json!({ "network": venting_site(5.0) })).unwrap_err();
+    assert!(
+        e.message.contains("-1.50") && e.message.contains("kg/s"),
+        "{}",
+        e.message
+    );
+}
+
+#[test]
+fn a_sweep_marks_points_with_negative_flows_not_ok() {
+    let r = api::call(
+        "balance.sweep",
+        json!({
+            "network": venting_site(10.0),
+            "path": "streams.ct_to_llp.flow",
+            "from": 4, "to": 10, "points": 4,
+            "streams": ["llp_vent"]
+        }),
+    )
+    .unwrap();
+    let pts = r["points"].as_array().unwrap();
+    // the LLP header balances at about 6.6 kg/s: 4 and 6 would need the vent reversed
+    assert_eq!(r["failed"], 2, "{r}");
+    for p in &pts[..2] {
+        assert_eq!(p["ok"], false);
+        let e = p["error"].as_str().unwrap();
+        assert!(e.contains("llp_vent") && e.contains("negative"), "{e}");
+        assert!(p["totals"].is_null());
+    }
+    for p in &pts[2..] {
+        assert_eq!(p["ok"], true);
+        assert!(p["streams"]["llp_vent"]["flow"].as_f64().unwrap() > 0.0);
+    }
+}
+
+#[test]
+fn a_header_venting_steam_continuously_is_warned_about() {
+    let net = network(&venting_site(10.0));
+    let sol = b::solve(&net).unwrap();
+    check_closure(&sol, &net);
+    let vent = sol.streams["llp_vent"].flow;
+    assert!((vent - 3.15).abs() < 0.05, "{vent}");
+    let w: Vec<_> = sol.units["LLP"]
+        .warnings
+        .iter()
+        .filter(|w| w.code == Code::SteamVented && w.message.contains("llp_vent"))
+        .collect();
+    assert_eq!(w.len(), 1, "{:?}", sol.units["LLP"].warnings);
+    assert!(w[0].message.contains("t/yr"), "{}", w[0]);
+}
+
+#[test]
+fn the_example_site_does_not_vent_steam() {
+    let v: Value = serde_json::from_str(SITE).unwrap();
+    let net = network(&v);
+    let sol = b::solve(&net).unwrap();
+    // the LLP vent is closed in normal operation; the extraction follows the LLP demand
+    assert_eq!(sol.streams["llp_vent"].flow, 0.0);
+    assert!(sol.streams["ct_to_llp"].flow > 0.0);
+    // what is vented is the deaerator's purge only: 0.5 % of its heating steam
+    assert!(rel(sol.totals.vented, 0.005 * sol.streams["llp_to_da"].flow) < 1e-12);
+    assert!(
+        !sol.warnings.iter().any(|w| w.code == Code::SteamVented),
+        "{:?}",
+        sol.warnings
+    );
 }

@@ -225,8 +225,49 @@ fn under_and_over_specified_networks_are_refused_with_a_precise_message() {
             },
             vec!["under-specified", "over-specified", "turbine T (power)"],
         ),
+        (
+            "a leak without its diameter",
+            |n| {
+                set(n, "units.L", json!({ "kind": "leak" }));
+                set(n, "streams.hp_l", json!({ "from": "HP", "to": "L" }));
+            },
+            vec!["under-specified", "leak L: give diameter, the diameter of the hole"],
+        ),
+        (
+            "a leak whose flow is given too",
+            |n| {
+                set(n, "units.L", json!({ "kind": "leak", "diameter": "3 mm" }));
+                set(n, "streams.hp_l", json!({ "from": "HP", "to": "L", "flow": 0.1 }));
+            },
+            vec![
+                "over-specified",
+                "stream hp_l: its flow is set by leak L (the flow through the hole)",
+            ],
+        ),
+        (
+            "a failed trap without its live steam",
+            |n| {
+                set(n, "units.TR", json!({ "kind": "trap", "state": "failed_open", "diameter": "5 mm" }));
+                set(n, "units.U.return_fraction", json!(0.5));
+                set(n, "streams.u_da", json!({ "from": "U", "to": "TR" }));
+                set(n, "streams.tr_da", json!({ "from": "TR", "to": "DA" }));
+            },
+            vec![
+                "under-specified",
+                "trap TR: a trap failed_open passes live steam: name the stream that brings it with `steam`",
+            ],
+        ),
+        (
+            "a line without its geometry",
+            |n| {
+                set(n, "units.LN", json!({ "kind": "line", "length": "100 m" }));
+                set(n, "streams.lp_u", json!({ "from": "LP", "to": "LN" }));
+                set(n, "streams.ln_u", json!({ "from": "LN", "to": "U" }));
+            },
+            vec!["under-specified", "line LN: give its inner_diameter, wall_thickness"],
+        ),
     ];
-    assert!(table.len() >= 12);
+    assert!(table.len() >= 16);
     for (case, edit, want) in table {
         let mut n = base();
         edit(&mut n);

@@ -14,6 +14,7 @@ mod api_props95;
 mod bad_input;
 mod balance;
 mod balance_dof;
+mod balance_losses;
 mod columns_route;
 mod demo_site;
 mod distribution;

@@ -187,3 +187,39 @@ fn the_command_line_gives_the_same_numbers() {
     assert_eq!(out.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&out.stderr).contains("nothing_here"));
 }
+
+/// Issue 15, reproduction 6: a site whose balance needs a stream reversed answers no number,
+/// over GET and on the command line. The site is the example as it was first written (its LLP
+/// vent free, the turbine's extraction to LLP fixed); with that extraction cut to 5 kg/s the
+/// vent would have to run backwards (-1.48 kg/s).
+#[test]
+fn a_reversed_flow_gives_no_number() {
+    let dir = std::env::temp_dir().join(format!("steamcell-site-rev-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let file = dir.join("venting.json");
+    let mut net = site();
+    if let Some(s) = net["streams"]["llp_vent"].as_object_mut() {
+        s.remove("flow");
+    }
+    net["streams"]["ct_to_llp"]["flow"] = json!(10);
+    std::fs::write(&file, net.to_string()).unwrap();
+    let s = start(&["--site", &format!("mill={}", file.display())], &[]);
+    let (st, body) = get(&s.addr, "/site/mill/vented_steam?streams.ct_to_llp.flow=5");
+    assert_eq!(st, 400, "{body}");
+    assert!(
+        body.contains("llp_vent") && body.contains("streams.ct_to_llp.flow"),
+        "{body}"
+    );
+    let (st, _) = get(&s.addr, "/site/mill/vented_steam");
+    assert_eq!(st, 200);
+    let out = Command::new(BIN)
+        .arg("site")
+        .arg(&file)
+        .args(["vented_steam", "streams.ct_to_llp.flow=5"])
+        .output()
+        .unwrap();
+    assert!(!out.status.success());
+    assert!(out.stdout.is_empty(), "no number on stdout");
+    let err = String::from_utf8_lossy(&out.stderr);
+    assert!(err.contains("llp_vent"), "{err}");
+}

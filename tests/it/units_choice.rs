@@ -1086,6 +1086,7 @@ fn every_numeric_field_is_in_the_units_vocabulary() {
     // amounts, and the self-test's own numbers.
     const FIXED: &[&str] = &[
         "cost",
+        "loss_cost_per_year",
         "yearly_cost_saving",
         "hours_per_year",
         "heat_rate_kj_per_kwh",

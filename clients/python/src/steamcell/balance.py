@@ -1,6 +1,9 @@
 """Site steam balances from Python: build a network from plain dicts, solve it with
 ``balance.solve`` / ``balance.sweep``, get tables (DataFrames when pandas is installed), and
-draw the site's energy flows and a sweep with matplotlib.
+draw the site's energy flows and a sweep with matplotlib. Leaks, steam traps and lines are units
+like the others (kinds ``leak``, ``trap``, ``line``); what each loses and costs is in the
+``losses`` table and the site totals (``steam_lost``, ``line_heat_loss``, ``loss_heat``,
+``loss_fuel``, ``loss_cost_per_year``, ...), priced with the network's ``costing``.
 
 Balance results feed operating and design decisions: they are only as good as the
 specifications (efficiencies, losses, which come from the plant's own test data), and are not a
@@ -19,6 +22,7 @@ class Network:
     def __init__(self) -> None:
         self.units: Dict[str, Dict[str, Any]] = {}
         self.streams: Dict[str, Dict[str, Any]] = {}
+        self.costing_: Optional[Dict[str, Any]] = None
 
     def unit(self, name: str, kind: str, **spec: Any) -> "Network":
         self.units[name] = dict(spec, kind=kind)
@@ -28,16 +32,31 @@ class Network:
         self.streams[name] = dict(fixed, **{"from": from_, "to": to})
         return self
 
+    def costing(self, **basis: Any) -> "Network":
+        """How the losses are priced: ``hours_per_year``, ``fuel_cost`` ("30 EUR/MWh") or
+        ``steam_cost`` ("25 /t"), ``boiler_efficiency``, ``makeup_T`` (all optional)."""
+        self.costing_ = dict(basis)
+        return self
+
     def as_dict(self) -> Dict[str, Any]:
-        return {"units": self.units, "streams": self.streams}
+        d: Dict[str, Any] = {"units": self.units, "streams": self.streams}
+        if self.costing_ is not None:
+            d["costing"] = self.costing_
+        return d
 
 
 def _network(net: Any) -> Dict[str, Any]:
     return net.as_dict() if isinstance(net, Network) else dict(net)
 
 
+_LOSS_FIELDS = ("steam", "heat", "condensate", "makeup_heat", "fuel", "choked", "pressure_drop",
+                "velocity", "surface_T")
+
+
 class Balance:
-    """A solved site: ``streams``, ``units`` and ``totals`` tables, the raw ``result``."""
+    """A solved site: ``streams``, ``units``, ``losses`` (one row per leak, trap and line:
+    what it loses, the boiler heat and fuel to make it good, and its yearly steam, heat, fuel
+    and cost) and ``totals`` tables, the raw ``result``."""
 
     def __init__(self, result: Dict[str, Any]):
         self.result = result
@@ -52,21 +71,34 @@ class Balance:
                           "p": st.get("p"), "T": st.get("T"), "h": st.get("h"), "x": st.get("x"),
                           "energy_flow": s.get("energy_flow")})
         urows = []
+        lrows = []
         for name, u in result["units"].items():
             row = {"unit": name}
             row.update({k: v for k, v in u.items() if not isinstance(v, (dict, list))})
             row["warnings"] = "; ".join(w["message"] for w in u.get("warnings", []))
             row["warning_codes"] = ", ".join(w["code"] for w in u.get("warnings", []))
             urows.append(row)
+            loss = u.get("loss")
+            if loss:
+                lrow = {"unit": name, "kind": u["kind"]}
+                lrow.update({k: loss.get(k) for k in _LOSS_FIELDS})
+                yearly = loss.get("yearly") or {}
+                for k in ("steam", "heat", "fuel", "cost"):
+                    lrow[f"{k}_per_year"] = yearly.get(k)
+                lrows.append(lrow)
         self.totals: Dict[str, Any] = dict(result["totals"])
+        self.costing: Dict[str, Any] = dict(result.get("costing") or {})
         try:
             import pandas as pd  # type: ignore
             self.streams = pd.DataFrame(srows).set_index("stream")
             self.units = pd.DataFrame(urows).set_index("unit")
+            self.losses = (pd.DataFrame(lrows).set_index("unit") if lrows else
+                           pd.DataFrame(columns=["kind", *_LOSS_FIELDS]))
             self.totals_frame = pd.Series(self.totals, name="total").to_frame()
         except ImportError:
             self.streams = srows
             self.units = urows
+            self.losses = lrows
             self.totals_frame = self.totals
 
     def __repr__(self) -> str:
@@ -123,6 +155,14 @@ def sweep(c, network: Any, path: str, from_: Any, to: Any, points: int = 11,
 def _total_unit(name: str, used: Dict[str, str]) -> str:
     if name.endswith("_residual") or name in ("efficiency",) or "fraction" in name:
         return ""
+    if name == "hours_per_year":
+        return "h"
+    if name.endswith("_per_year"):
+        if "cost" in name:
+            return "per year"
+        return used.get("mass", "") if "steam" in name else used.get("energy_per_year", "")
+    if name == "loss_discharged":
+        return used.get("flow", "")
     if "power" in name:
         return used.get("power", "")
     if any(k in name for k in ("heat", "duty", "fuel", "loss", "cooling", "energy")):

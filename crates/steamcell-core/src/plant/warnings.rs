@@ -129,6 +129,9 @@ codes! {
     PumpInletNotLiquid => "pump_inlet_not_liquid",
     ExhaustVelocityHigh => "exhaust_velocity_high",
     MeasuredOutletNearSaturation => "measured_outlet_near_saturation",
+    SteamVented => "steam_vented",
+    LineNoFlow => "line_no_flow",
+    LineDropExceedsAvailable => "line_drop_exceeds_available",
 }
 
 const NO_SOURCE: &str = "common practice, no source";
@@ -374,6 +377,24 @@ pub const CATALOGUE: &[Entry] = &[
         meaning: "a measured turbine exhaust temperature is within 2 K of saturation",
         check: "within a thermocouple's uncertainty (about 1 K) the exhaust may be wet, where a temperature cannot fix the state; confirm with the exhaust quality or a heat balance",
         source: "common practice, no source",
+    },
+    Entry {
+        code: Code::SteamVented,
+        meaning: "a header of a site balance sends steam to a vent continuously: a priced loss",
+        check: "a surplus in a normal balance: lower the steam sent into the header (an extraction, a let-down) or find a user for it; a vent that opens only on upsets has flow 0",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::LineNoFlow,
+        meaning: "a line of a site balance carries no flow; the heat a line holding pressure loses without flow is not counted",
+        check: "if the line stays under pressure, count its standing loss with pipe.flow at a small flow",
+        source: NO_SOURCE,
+    },
+    Entry {
+        code: Code::LineDropExceedsAvailable,
+        meaning: "a line of a site balance needs a larger pressure drop at its flow than the pressures at its ends allow",
+        check: "the pressure downstream cannot be held at this flow: a larger line, or a higher pressure upstream",
+        source: "Darcy-Weisbach march of pipe.flow (physical fact)",
     },
 ];
 

@@ -10,6 +10,7 @@
 //! rendering of a [`Diagnosis`] is the one-line message of the refusal (the under-specified
 //! findings, then the over-specified ones, each in the order found).
 
+use crate::units::Dim;
 use crate::water::state::P_C;
 use std::fmt;
 
@@ -35,6 +36,107 @@ impl UnitRef {
 impl fmt::Display for UnitRef {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(f, "{} {}", self.kind, self.name)
+    }
+}
+
+/// A quantity of a finding with its unit: internal units (MPa, kg/s, kW) until
+/// [`Diagnosis::restate`] puts it in the caller's.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Amount {
+    /// The value, in `unit`.
+    pub value: f64,
+    /// Its dimension.
+    pub dim: Dim,
+    /// The unit symbol of `value`.
+    pub unit: &'static str,
+}
+
+impl Amount {
+    /// A pressure in MPa.
+    pub fn pressure(value: f64) -> Amount {
+        Amount {
+            value,
+            dim: Dim::Pressure,
+            unit: "MPa",
+        }
+    }
+    /// A mass flow in kg/s.
+    pub fn mass_flow(value: f64) -> Amount {
+        Amount {
+            value,
+            dim: Dim::MassFlow,
+            unit: "kg/s",
+        }
+    }
+    /// A shaft power in kW.
+    pub fn power(value: f64) -> Amount {
+        Amount {
+            value,
+            dim: Dim::Power,
+            unit: "kW",
+        }
+    }
+}
+
+/// At most six significant digits, trailing zeros dropped.
+fn sig6(x: f64) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    let mag = x.abs().log10().floor() as i32;
+    let decimals = (5 - mag).clamp(0, 12) as usize;
+    let s = format!("{x:.decimals$}");
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+impl fmt::Display for Amount {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{} {}", sig6(self.value), self.unit)
+    }
+}
+
+/// A stream the balance needs to run backwards.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ReversedFlow {
+    /// Stream name.
+    pub stream: String,
+    /// Its source unit.
+    pub from: UnitRef,
+    /// Its destination unit.
+    pub to: UnitRef,
+    /// Its flow (negative).
+    pub flow: Amount,
+}
+
+/// One specification changed alone that brings every reversed flow to zero (just above),
+/// found by solving the site again with the change.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpecChange {
+    /// Dotted path of the specification, as the `path` of `balance.sweep`
+    /// (`streams.NAME.flow`, `units.NAME.demand`, ...).
+    pub path: String,
+    /// Its value now.
+    pub now: Amount,
+    /// The change (positive: raise it).
+    pub by: Amount,
+}
+
+impl fmt::Display for SpecChange {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let word = if self.by.value > 0.0 {
+            "raise"
+        } else {
+            "lower"
+        };
+        let by = Amount {
+            value: self.by.value.abs(),
+            ..self.by
+        };
+        write!(f, "{word} {} (now {}) by about {by}", self.path, self.now)
     }
 }
 
@@ -455,6 +557,58 @@ pub enum Finding {
         /// The outlet stream.
         stream: String,
     },
+    // ---- loss units (leaks, traps, lines) ----
+    /// A leak or trap without the diameter of its hole.
+    MissingHole {
+        /// The leak or trap.
+        unit: UnitRef,
+        /// The field to give: "diameter" or "leak_diameter".
+        quantity: &'static str,
+        /// What the hole is, e.g. "the trap's orifice (maker's data)".
+        what: &'static str,
+    },
+    /// A failed or leaking trap with no stream bringing the live steam it passes.
+    MissingTrapSteam {
+        /// The trap.
+        unit: UnitRef,
+        /// Its state: "failed_open" or "leaking".
+        state: &'static str,
+    },
+    /// A line without its length, inner diameter or wall thickness.
+    MissingLineGeometry {
+        /// The line.
+        unit: UnitRef,
+        /// The fields to give.
+        missing: Vec<&'static str>,
+    },
+    /// A stream's flow given though a unit fixes it (the flow through a hole, a line's drain).
+    FlowSetByUnit {
+        /// Stream name.
+        stream: String,
+        /// The unit.
+        unit: UnitRef,
+        /// How the unit fixes it.
+        by: &'static str,
+    },
+    /// A leak, trap or line whose downstream pressure is not below its upstream pressure.
+    NoPressureDrop {
+        /// The unit.
+        unit: UnitRef,
+        /// Upstream pressure.
+        upstream: Amount,
+        /// Downstream pressure.
+        downstream: Amount,
+    },
+    // ---- the solved flows ----
+    /// The balance holds only with streams running backwards (from their destination to their
+    /// source): the specifications ask for more than the sources give, or less than they must
+    /// take.
+    NegativeFlows {
+        /// The reversed streams.
+        flows: Vec<ReversedFlow>,
+        /// Single specifications that would bring them all to zero (at most five).
+        changes: Vec<SpecChange>,
+    },
     // ---- the flow equations ----
     /// The flow equations leave flows free.
     FlowsNotFixed {
@@ -492,6 +646,9 @@ impl Finding {
             | MissingLostCondensateTemperature { .. }
             | MissingReturnTemperature { .. }
             | MissingMakeupTemperature { .. }
+            | MissingHole { .. }
+            | MissingTrapSteam { .. }
+            | MissingLineGeometry { .. }
             | FlowsNotFixed { .. } => Side::Under,
             OutOfRange { .. }
             | NegativeDemand { .. }
@@ -509,6 +666,9 @@ impl Finding {
             | ReturnTemperatureTwice { .. }
             | ReturnWithoutStream { .. }
             | MakeupTemperatureTwice { .. }
+            | FlowSetByUnit { .. }
+            | NoPressureDrop { .. }
+            | NegativeFlows { .. }
             | EquationsClash { .. } => Side::Over,
         }
     }
@@ -544,6 +704,12 @@ impl Finding {
             ReturnTemperatureTwice { .. } => "return_temperature_twice",
             ReturnWithoutStream { .. } => "return_without_stream",
             MakeupTemperatureTwice { .. } => "makeup_temperature_twice",
+            MissingHole { .. } => "missing_hole",
+            MissingTrapSteam { .. } => "missing_trap_steam",
+            MissingLineGeometry { .. } => "missing_line_geometry",
+            FlowSetByUnit { .. } => "flow_set_by_unit",
+            NoPressureDrop { .. } => "no_pressure_drop",
+            NegativeFlows { .. } => "negative_flows",
             FlowsNotFixed { .. } => "flows_not_fixed",
             EquationsClash { .. } => "equations_clash",
         }
@@ -578,7 +744,14 @@ impl Finding {
             | MissingReturnTemperature { .. }
             | ReturnTemperatureTwice { .. } => Some("return_T"),
             ReturnWithoutStream { .. } => Some("return_fraction"),
-            FlowsNotFixed { .. } | EquationsClash { .. } => Some("flow"),
+            MissingHole { quantity, .. } => Some(quantity),
+            MissingTrapSteam { .. } => Some("steam"),
+            MissingLineGeometry { missing, .. } => missing.first().copied(),
+            NoPressureDrop { .. } => Some("p"),
+            FlowsNotFixed { .. }
+            | EquationsClash { .. }
+            | FlowSetByUnit { .. }
+            | NegativeFlows { .. } => Some("flow"),
         }
     }
 
@@ -598,6 +771,12 @@ impl Finding {
             ReturnWithoutStream {
                 return_fraction, ..
             } => Some((*return_fraction, "")),
+            NoPressureDrop { downstream, .. } => Some((downstream.value, downstream.unit)),
+            NegativeFlows { flows, .. } => flows.first().map(|r| (r.flow.value, r.flow.unit)),
+            MissingHole { .. }
+            | MissingTrapSteam { .. }
+            | MissingLineGeometry { .. }
+            | FlowSetByUnit { .. } => None,
             StateSetBySource { .. }
             | PressureNotFixed { .. }
             | MissingSteamTemperature { .. }
@@ -645,7 +824,23 @@ impl Finding {
             | DemandTwice { unit, .. }
             | ReturnTemperatureTwice { unit, .. }
             | ReturnWithoutStream { unit, .. }
-            | MakeupTemperatureTwice { unit, .. } => vec![unit],
+            | MakeupTemperatureTwice { unit, .. }
+            | MissingHole { unit, .. }
+            | MissingTrapSteam { unit, .. }
+            | MissingLineGeometry { unit, .. }
+            | FlowSetByUnit { unit, .. }
+            | NoPressureDrop { unit, .. } => vec![unit],
+            NegativeFlows { flows, .. } => {
+                let mut v: Vec<&UnitRef> = Vec::new();
+                for r in flows {
+                    for u in [&r.from, &r.to] {
+                        if !v.contains(&u) {
+                            v.push(u);
+                        }
+                    }
+                }
+                v
+            }
             PressureNotFixed { from, to, .. } => vec![from, to],
             PumpDoesNotRaise { unit, .. } | DesuperheaterAboveCritical { unit, .. } => vec![unit],
             PressureNotPositive { .. }
@@ -685,7 +880,9 @@ impl Finding {
             | DesuperheaterTargetTwice { stream, .. }
             | DemandTwice { stream, .. }
             | ReturnTemperatureTwice { stream, .. }
-            | MakeupTemperatureTwice { stream, .. } => vec![stream.as_str()],
+            | MakeupTemperatureTwice { stream, .. }
+            | FlowSetByUnit { stream, .. } => vec![stream.as_str()],
+            NegativeFlows { flows, .. } => flows.iter().map(|r| r.stream.as_str()).collect(),
             MissingTurbineEfficiency { outlets, .. } => {
                 outlets.iter().map(String::as_str).collect()
             }
@@ -708,7 +905,11 @@ impl Finding {
             | MissingLostCondensateTemperature { .. }
             | ReturnWithoutStream { .. }
             | PumpDoesNotRaise { .. }
-            | DesuperheaterAboveCritical { .. } => Vec::new(),
+            | DesuperheaterAboveCritical { .. }
+            | MissingHole { .. }
+            | MissingTrapSteam { .. }
+            | MissingLineGeometry { .. }
+            | NoPressureDrop { .. } => Vec::new(),
         }
     }
 }
@@ -861,6 +1062,53 @@ impl fmt::Display for Finding {
                 f,
                 "{unit}: the water temperature is given both as T of the make-up and on stream {stream}; keep one"
             ),
+            MissingHole {
+                unit,
+                quantity,
+                what,
+            } => write!(
+                f,
+                "{unit}: give {quantity}, the diameter of {what} (0: no hole)"
+            ),
+            MissingTrapSteam { unit, state } => write!(
+                f,
+                "{unit}: a trap {state} passes live steam: name the stream that brings it with `steam` (a stream from the header the trap drains), or set state healthy"
+            ),
+            MissingLineGeometry { unit, missing } => {
+                write!(f, "{unit}: give its {}", missing.join(", "))
+            }
+            FlowSetByUnit { stream, unit, by } => write!(
+                f,
+                "stream {stream}: its flow is set by {unit} ({by}); remove flow from the stream"
+            ),
+            NoPressureDrop {
+                unit,
+                upstream,
+                downstream,
+            } => write!(
+                f,
+                "{unit}: the downstream pressure {downstream} is not below the upstream pressure {upstream}: nothing flows through it"
+            ),
+            NegativeFlows { flows, changes } => {
+                let list: Vec<String> = flows
+                    .iter()
+                    .map(|r| format!("stream {} ({} -> {}) {}", r.stream, r.from, r.to, r.flow))
+                    .collect();
+                write!(
+                    f,
+                    "the balance needs negative flows, which no stream can carry (steam and water run from a stream's source to its destination): {}; ",
+                    list.join(", ")
+                )?;
+                if changes.is_empty() {
+                    f.write_str("no single fixed flow, demand or power brings them to zero: check the specifications around these streams (a header short of steam needs a source, one with a surplus a vent or a user)")
+                } else {
+                    write!(
+                        f,
+                        "change one specification, e.g. {} (each alone; found by solving the site again with it)",
+                        join(changes, ", or ")
+                    )
+                }
+            }
             FlowsNotFixed {
                 missing,
                 undetermined,
@@ -943,6 +1191,70 @@ pub struct Diagnosis {
 }
 
 impl Diagnosis {
+    /// Puts every [`Amount`] of the findings in the caller's units: `to` gives the value and
+    /// unit symbol of an internal value of a dimension.
+    pub fn restate(&mut self, to: impl Fn(Dim, f64) -> (f64, &'static str)) {
+        let one = |a: &mut Amount| {
+            let (value, unit) = to(a.dim, a.value);
+            a.value = value;
+            a.unit = unit;
+        };
+        for f in &mut self.findings {
+            match f {
+                Finding::NoPressureDrop {
+                    upstream,
+                    downstream,
+                    ..
+                } => {
+                    one(upstream);
+                    one(downstream);
+                }
+                Finding::NegativeFlows { flows, changes } => {
+                    for r in flows {
+                        one(&mut r.flow);
+                    }
+                    for c in changes {
+                        one(&mut c.now);
+                        one(&mut c.by);
+                    }
+                }
+                Finding::OutOfRange { .. }
+                | Finding::NegativeDemand { .. }
+                | Finding::StateSetBySource { .. }
+                | Finding::PressureSetBySource { .. }
+                | Finding::PressureNotFixed { .. }
+                | Finding::PressureNotPositive { .. }
+                | Finding::StateGivenTwice { .. }
+                | Finding::QualityOutOfRange { .. }
+                | Finding::PumpDoesNotRaise { .. }
+                | Finding::DesuperheaterAboveCritical { .. }
+                | Finding::MissingSteamTemperature { .. }
+                | Finding::MissingBoilerEfficiency { .. }
+                | Finding::MissingTurbineEfficiency { .. }
+                | Finding::MissingPumpEfficiency { .. }
+                | Finding::MissingDesuperheaterTarget { .. }
+                | Finding::MissingPressure { .. }
+                | Finding::MissingExchangerOutlet { .. }
+                | Finding::MissingLostCondensateTemperature { .. }
+                | Finding::MissingReturnTemperature { .. }
+                | Finding::MissingMakeupTemperature { .. }
+                | Finding::SteamTemperatureTwice { .. }
+                | Finding::SteamPressureConflict { .. }
+                | Finding::DesuperheaterTargetTwice { .. }
+                | Finding::DemandTwice { .. }
+                | Finding::ReturnTemperatureTwice { .. }
+                | Finding::ReturnWithoutStream { .. }
+                | Finding::MakeupTemperatureTwice { .. }
+                | Finding::MissingHole { .. }
+                | Finding::MissingTrapSteam { .. }
+                | Finding::MissingLineGeometry { .. }
+                | Finding::FlowSetByUnit { .. }
+                | Finding::FlowsNotFixed { .. }
+                | Finding::EquationsClash { .. } => {}
+            }
+        }
+    }
+
     /// The under-specified findings, in order.
     pub fn under(&self) -> impl Iterator<Item = &Finding> {
         self.findings.iter().filter(|f| f.side() == Side::Under)

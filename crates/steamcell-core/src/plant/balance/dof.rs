@@ -8,6 +8,11 @@
 
 #![allow(clippy::needless_range_loop)] // dense elimination reads clearer with indices
 
+use super::diagnosis::Amount;
+
+/// Makes the amount of a value of a specification (e.g. [`Amount::mass_flow`]).
+pub type AmountOf = fn(f64) -> Amount;
+
 /// Who owns an equation: a unit or a stream (by index).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Of {
@@ -30,6 +35,13 @@ pub struct Row {
     pub what: &'static str,
     /// A specification (fixed flow, demand, power...) rather than a unit balance.
     pub spec: bool,
+    /// A flow the unit computes (through a hole): the solved flow is set to it exactly once
+    /// the iteration has converged (`rhs`, the row's one coefficient being 1).
+    pub exact: bool,
+    /// For a specification of a value (its right-hand side): the field that gives it and the
+    /// amount of a value of it (internal units), e.g. ("demand", Amount::mass_flow); None for
+    /// balances and ratios.
+    pub field: Option<(&'static str, AmountOf)>,
 }
 
 impl Row {
@@ -40,12 +52,31 @@ impl Row {
             owner,
             what,
             spec: false,
+            exact: false,
+            field: None,
         }
+    }
+    /// The flow of stream `s` fixed to `value` computed by the unit: the solution takes it
+    /// exactly.
+    pub fn flow(owner: Of, what: &'static str, s: usize, value: f64) -> Row {
+        let mut r = Row::new(owner, what);
+        r.add(s, 1.0);
+        r.rhs = value;
+        r.exact = true;
+        r
     }
     pub fn spec(owner: Of, what: &'static str) -> Row {
         Row {
             spec: true,
             ..Row::new(owner, what)
+        }
+    }
+    /// A specification of a value: `field` (an amount as `amount` makes it) is its right-hand
+    /// side.
+    pub fn value(owner: Of, what: &'static str, field: &'static str, amount: AmountOf) -> Row {
+        Row {
+            field: Some((field, amount)),
+            ..Row::spec(owner, what)
         }
     }
     pub fn add(&mut self, i: usize, c: f64) {
@@ -246,6 +277,18 @@ fn solve_plain(rows: &[Row], n: usize, rhs: &[f64]) -> Option<Vec<f64>> {
         x[i] = (b[i] - s) / a[i][i];
     }
     Some(x)
+}
+
+/// How the solution of the square system `rows` moves per unit change of the right-hand side
+/// of row `r` (its column of the inverse): None if singular.
+pub fn sensitivity(rows: &[Row], n: usize, r: usize) -> Option<Vec<f64>> {
+    let mut rhs = vec![0.0; rows.len()];
+    let s = rows[r]
+        .coefs
+        .iter()
+        .fold(0.0f64, |m, &(_, c)| m.max(c.abs()));
+    rhs[r] = if s > 0.0 { 1.0 / s } else { 1.0 };
+    solve_plain(rows, n, &rhs)
 }
 
 /// Largest relative residual of the rows at `x`: |a.x - b| / max(|a_i x_i|, |b|).

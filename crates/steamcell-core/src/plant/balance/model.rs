@@ -16,14 +16,18 @@
 
 use super::diagnosis::{Diagnosis, Finding, FlowStatus, Side, Source, StreamStatus, UnitStatus};
 use super::units::{self, Draft, UnitKind};
-use super::{FixedState, Network, StreamSpec, UnitRef};
+use super::{FixedState, Network, SiteCosting, StreamSpec, UnitRef};
+use super::{HOURS_PER_YEAR_DEFAULT, MAKEUP_T_DEFAULT};
 use crate::error::{Error, Result};
+use crate::plant::losses::{Costing, Price};
 
 /// A site network checked and resolved, ready to solve.
 #[derive(Debug)]
 pub struct Model {
     pub(super) units: Vec<UnitSlot>,
     pub(super) streams: Vec<StreamSlot>,
+    /// How the losses are priced (checked).
+    pub(super) costing: SiteCosting,
 }
 
 /// A validated unit: its name, kind, streams and behaviour.
@@ -132,6 +136,7 @@ impl Model {
         if network.streams.is_empty() {
             return Err(Error::invalid("the network has no streams"));
         }
+        check_costing(&network.costing)?;
         let (mut w, twice) = wire(network)?;
         let raw: Vec<_> = network.units.values().collect();
         let mut drafts: Vec<Box<dyn Draft>> = Vec::with_capacity(raw.len());
@@ -213,7 +218,11 @@ impl Model {
                 unit,
             })
             .collect();
-        Ok(Model { units, streams })
+        Ok(Model {
+            units,
+            streams,
+            costing: network.costing,
+        })
     }
 
     /// The refusal of this model by the count of its flow equations (`free`: the streams
@@ -271,6 +280,46 @@ fn specification(
             streams,
         }),
     }
+}
+
+/// Checks the network's costing (hours per year, price, boiler efficiency, make-up water
+/// temperature), naming its fields as `costing.FIELD`.
+fn check_costing(c: &SiteCosting) -> Result<()> {
+    let probe = Costing {
+        hours_per_year: c.hours_per_year.unwrap_or(HOURS_PER_YEAR_DEFAULT),
+        price: c.price,
+        boiler_efficiency: Some(c.boiler_efficiency.unwrap_or(1.0)),
+        makeup_t: c.makeup_t.unwrap_or(MAKEUP_T_DEFAULT),
+    };
+    let field = |q: &str| -> String {
+        let name = match (q, c.price) {
+            ("price", Some(Price::PerSteamMass(_))) => "steam_cost",
+            ("price", Some(Price::PerFuelEnergy(_)) | None) => "fuel_cost",
+            (other, _) => other,
+        };
+        format!("costing.{name}")
+    };
+    probe.check().map_err(|e| match e {
+        Error::OutOfRange {
+            quantity,
+            value,
+            limit,
+            unit,
+            bound,
+            formulation,
+        } => Error::OutOfRange {
+            quantity: field(&quantity),
+            value,
+            limit,
+            unit,
+            bound,
+            formulation,
+        },
+        Error::NotFinite { quantity } => Error::NotFinite {
+            quantity: field(&quantity),
+        },
+        other => other,
+    })
 }
 
 /// Stream ends and the streams' fixed values (all finite); with the streams that carry more

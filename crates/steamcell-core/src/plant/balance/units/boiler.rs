@@ -12,6 +12,7 @@ use super::{
     check_efficiency, count, find_port, fixed_state, At, Boundary, Draft, Report, UnitKind,
 };
 use crate::error::{Error, Result};
+use crate::plant::balance::diagnosis::Amount;
 use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
@@ -189,7 +190,7 @@ impl UnitKind for Boiler {
             }
         }
         if let Some(v) = self.steam_flow {
-            let mut r = at.spec_row("steam flow");
+            let mut r = at.value_row("steam flow", "steam_flow", Amount::mass_flow);
             r.add(self.steam, 1.0);
             r.rhs = v;
             spec.push(r);

@@ -5,7 +5,7 @@
 //!
 //! Invariant: the validated header holds its pressure.
 
-use super::{count, mix, At, Boundary, Draft, Report, UnitKind};
+use super::{count, mix, At, Boundary, Draft, Loss, LossKind, Report, UnitKind};
 use crate::error::Result;
 use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
 use crate::plant::balance::dof::Row;
@@ -13,6 +13,10 @@ use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::ph;
 use crate::plant::warnings::Code;
 use crate::water::state::{Phase, State};
+
+/// Steam flow to a vent above which a header is said to vent continuously, kg/s (1e-6 kg/s,
+/// 3.6 g/h: round-off of a closed vent lies far below).
+const VENTING: f64 = 1e-6;
 
 struct Wired {
     u: usize,
@@ -111,6 +115,16 @@ impl UnitKind for Header {
         }
         for &o in at.outs() {
             let to = at.model.streams[o].to;
+            if m[o] > VENTING
+                && at.boundary_of(to) == Some(Boundary::Sink)
+                && st[o].phase != Phase::Liquid
+            {
+                // priced and warned about with the site costing (`Code::SteamVented`)
+                out.lose(
+                    at.u,
+                    Loss::steam(LossKind::Vented { stream: o }, m[o], st[o].props.h, p),
+                );
+            }
             if m[o] < 0.0 && at.boundary_of(to) == Some(Boundary::Sink) {
                 out.warn(Code::HeaderShortOfSteam, format!("header {nm} is short of steam by {:.6} kg/s: its vent stream {} would have to run backwards; send more steam into {nm} (let-down, extraction) or lower its demand", -m[o], at.stream(o)));
             }

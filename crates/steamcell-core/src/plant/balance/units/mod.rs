@@ -28,14 +28,18 @@ mod desuperheater;
 mod exchanger;
 mod flash;
 mod header;
+mod leak;
+mod line;
 mod makeup;
 mod pump;
+mod trap;
 mod turbine;
 mod user;
 mod valve;
 mod vent;
 
-/// Pressure assumed for make-up water with no other pressure (atmospheric, 0.101325 MPa).
+/// Pressure assumed for make-up water with no other pressure, and outside a leak or trap
+/// without an outlet stream (atmospheric, 0.101325 MPa).
 const P_ATM: f64 = 0.101_325;
 
 /// Wires unit `u` of the network to its streams; a structural error (port counts, named
@@ -89,6 +93,31 @@ pub(super) fn draft(unit: &Unit, u: usize, w: &Wiring) -> Result<Box<dyn Draft>>
         } => user::draft(w, u, *demand, *return_fraction, *return_t)?,
         Unit::Vent => vent::draft(w, u)?,
         Unit::Makeup { t } => makeup::draft(w, u, *t)?,
+        Unit::Leak {
+            diameter,
+            discharge_coefficient,
+            downstream_p,
+        } => leak::draft(w, u, *diameter, *discharge_coefficient, *downstream_p)?,
+        Unit::Trap {
+            state,
+            diameter,
+            leak_diameter,
+            discharge_coefficient,
+            steam,
+            downstream_p,
+        } => trap::draft(
+            w,
+            u,
+            trap::Given {
+                state: *state,
+                diameter: *diameter,
+                leak_diameter: *leak_diameter,
+                cd: *discharge_coefficient,
+                steam: steam.as_deref(),
+                downstream_p: *downstream_p,
+            },
+        )?,
+        Unit::Line(l) => line::draft(w, u, l)?,
     })
 }
 
@@ -209,9 +238,24 @@ impl<'a> At<'a> {
     pub fn row(self, what: &'static str) -> Row {
         Row::new(Of::Unit(self.u), what)
     }
+    /// The flow of stream `s` fixed to `value` by this unit (the flow through a hole): the
+    /// solution takes it exactly.
+    pub fn flow_row(self, what: &'static str, s: usize, value: f64) -> Row {
+        Row::flow(Of::Unit(self.u), what, s, value)
+    }
     /// A specification equation of this unit.
     pub fn spec_row(self, what: &'static str) -> Row {
         Row::spec(Of::Unit(self.u), what)
+    }
+    /// A specification of a value of this unit: its field `field` (an amount as `amount`
+    /// makes it) is the right-hand side.
+    pub fn value_row(
+        self,
+        what: &'static str,
+        field: &'static str,
+        amount: super::dof::AmountOf,
+    ) -> Row {
+        Row::value(Of::Unit(self.u), what, field, amount)
     }
     /// Mass in - mass out (+ `extra` terms) = 0.
     pub fn mass_balance(self, extra: &[(usize, f64)]) -> Row {
@@ -240,12 +284,165 @@ impl<'a> At<'a> {
     }
 }
 
+/// What a leak, trap, line or venting header loses, for the costing after every unit's
+/// result (internal units).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) struct Loss {
+    /// What it is.
+    pub kind: LossKind,
+    /// Steam (or water) lost, kg/s.
+    pub steam: f64,
+    /// Heat lost, kW.
+    pub heat: f64,
+    /// Condensate formed, kg/s.
+    pub condensate: f64,
+    /// Specific enthalpy of what is lost (or of the line's inlet), kJ/kg.
+    pub h: f64,
+    /// Its pressure, MPa.
+    pub p: f64,
+    /// Whether the flow through a hole is choked.
+    pub choked: Option<bool>,
+    /// A line's computed pressure drop, MPa.
+    pub pressure_drop: Option<f64>,
+    /// A line's highest velocity, m/s.
+    pub velocity: Option<f64>,
+    /// A line's highest surface temperature, K.
+    pub surface_t: Option<f64>,
+}
+
+/// The kinds of loss.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub(super) enum LossKind {
+    /// Through a leak.
+    Leak,
+    /// Live steam through a trap.
+    Trap,
+    /// Heat from a line.
+    Line,
+    /// Steam a header sends to a vent (a surplus): warned about, not in the loss totals.
+    Vented {
+        /// The vent stream.
+        stream: usize,
+    },
+}
+
+impl Loss {
+    /// A loss of `steam` kg/s of enthalpy `h` at `p`.
+    pub fn steam(kind: LossKind, steam: f64, h: f64, p: f64) -> Loss {
+        Loss {
+            kind,
+            steam,
+            heat: 0.0,
+            condensate: 0.0,
+            h,
+            p,
+            choked: None,
+            pressure_drop: None,
+            velocity: None,
+            surface_t: None,
+        }
+    }
+}
+
+/// The last answer of an expensive calculation (a flow through a hole, a line march) and the
+/// inputs it was computed for: the solver asks again with the same inputs while the other
+/// states settle.
+#[derive(Debug, Default)]
+pub(super) struct Memo<T> {
+    last: std::sync::Mutex<Option<([u64; 3], T)>>,
+}
+
+impl<T: Clone> Memo<T> {
+    /// The answer for `key` (compared bit for bit), computed by `f` when it is new.
+    pub fn get(&self, key: [f64; 3], f: impl FnOnce() -> Result<T>) -> Result<T> {
+        let bits = key.map(f64::to_bits);
+        if let Ok(g) = self.last.lock() {
+            if let Some((k, v)) = g.as_ref() {
+                if *k == bits {
+                    return Ok(v.clone());
+                }
+            }
+        }
+        let v = f()?;
+        if let Ok(mut g) = self.last.lock() {
+            *g = Some((bits, v.clone()));
+        }
+        Ok(v)
+    }
+}
+
+/// Checks a hole's diameter (>= 0: 0 is no hole) and discharge coefficient (0 < cd <= 1), at
+/// once, naming the unit's field.
+fn check_hole(w: &Wiring, u: usize, field: &str, d: Option<f64>, cd: Option<f64>) -> Result<()> {
+    let q = |f: &str| format!("units.{}.{f}", w.un[u]);
+    if let Some(d) = d {
+        Error::check_finite(&q(field), d)?;
+        if d < 0.0 {
+            return Err(Error::out_of_range(
+                &q(field),
+                d,
+                0.0,
+                "m",
+                crate::error::Bound::Below,
+                "a hole (a diameter cannot be negative; 0 is no hole)",
+            ));
+        }
+    }
+    if let Some(cd) = cd {
+        Error::check_finite(&q("discharge_coefficient"), cd)?;
+        if cd <= 0.0 || cd > 1.0 {
+            let (limit, bound) = if cd <= 0.0 {
+                (0.0, crate::error::Bound::Below)
+            } else {
+                (1.0, crate::error::Bound::Above)
+            };
+            return Err(Error::out_of_range(
+                &q("discharge_coefficient"),
+                cd,
+                limit,
+                "1",
+                bound,
+                "a discharge coefficient (0 < cd <= 1)",
+            ));
+        }
+    }
+    Ok(())
+}
+
+/// Prefixes the quantity of an out-of-range or non-finite error with the unit's path
+/// (`units.NAME.`), and tags the other input and feasibility errors with "kind name: ".
+fn tag_field(at: At<'_>, e: Error) -> Error {
+    match e {
+        Error::OutOfRange {
+            quantity,
+            value,
+            limit,
+            unit,
+            bound,
+            formulation,
+        } => Error::OutOfRange {
+            quantity: format!("units.{}.{quantity}", at.name()),
+            value,
+            limit,
+            unit,
+            bound,
+            formulation,
+        },
+        Error::NotFinite { quantity } => Error::NotFinite {
+            quantity: format!("units.{}.{quantity}", at.name()),
+        },
+        other => at.tag()(other),
+    }
+}
+
 /// What a unit's result step writes: its result, the site totals and the energy-flow links;
 /// with its stream mass and enthalpy flows in and out.
 pub(super) struct Report<'a> {
     pub r: &'a mut UnitResult,
     pub t: &'a mut Totals,
     pub links: &'a mut Vec<SankeyLink>,
+    /// Losses for the costing.
+    pub losses: &'a mut Vec<(usize, Loss)>,
     /// Mass in, kg/s.
     pub mi: f64,
     /// Enthalpy flow in, kW.
@@ -270,6 +467,10 @@ impl Report<'_> {
     /// Adds a warning of catalogue code `code` to the unit's result.
     pub fn warn(&mut self, code: Code, w: impl Into<String>) {
         self.r.warnings.push(Warning::new(code, w));
+    }
+    /// Records a loss of unit `u` for the costing.
+    pub fn lose(&mut self, u: usize, l: Loss) {
+        self.losses.push((u, l));
     }
 }
 

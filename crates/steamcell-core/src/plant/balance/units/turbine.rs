@@ -9,6 +9,7 @@
 
 use super::{check_efficiency, count, fixed_state, h, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
+use crate::plant::balance::diagnosis::Amount;
 use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
@@ -164,7 +165,7 @@ impl UnitKind for Turbine {
     ) {
         bal.push(at.mass_balance(&[]));
         if let Some(pw) = self.power {
-            let mut r = at.spec_row("power");
+            let mut r = at.value_row("power", "power", Amount::power);
             r.add(self.inlet, h(st, self.inlet));
             for o in &self.outlets {
                 r.add(o.stream, -h(st, o.stream));

@@ -8,6 +8,7 @@
 
 use super::{count, fixed_state, At, Boundary, Draft, Report, UnitKind};
 use crate::error::Result;
+use crate::plant::balance::diagnosis::Amount;
 use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
@@ -179,7 +180,7 @@ impl UnitKind for User {
             bal.push(r);
         }
         if let Some(d) = self.demand {
-            let mut r = at.spec_row("steam demand");
+            let mut r = at.value_row("steam demand", "demand", Amount::mass_flow);
             r.add(self.inlet, 1.0);
             r.rhs = d;
             spec.push(r);
