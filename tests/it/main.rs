@@ -43,3 +43,4 @@ mod sweep_units;
 mod textbook_cogeneration;
 mod textbook_rankine;
 mod transports;
+mod uncertainty;
