@@ -129,13 +129,38 @@ pub struct UncertaintyParams {
     /// (-1 to 1; uncorrelated unless given).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub correlations: Option<Vec<Correlation>>,
-    /// Result fields to report, by dotted path or its start (`["efficiency", "outlet"]`;
-    /// default every numeric field).
+    /// Result fields to report, by dotted path or its start: a list (`["efficiency",
+    /// "outlet"]`) or one text, comma-separated (`"efficiency, outlet"`); default every numeric
+    /// field.
     #[serde(default, skip_serializing_if = "Option::is_none")]
-    pub outputs: Option<Vec<String>>,
+    pub outputs: Option<Outputs>,
     /// The inputs: dotted path (or nested object) to standard uncertainty.
     #[serde(flatten)]
     pub inputs: BTreeMap<String, Value>,
+}
+
+/// The `outputs` option: a list of paths, or one comma-separated text.
+#[derive(Debug, Clone, PartialEq, Deserialize, Serialize, JsonSchema)]
+#[serde(untagged)]
+pub enum Outputs {
+    /// A list of dotted paths.
+    List(Vec<String>),
+    /// One text, paths separated by commas.
+    Text(String),
+}
+
+impl Outputs {
+    /// The paths.
+    pub fn paths(&self) -> Vec<String> {
+        match self {
+            Outputs::List(l) => l.clone(),
+            Outputs::Text(t) => t
+                .split(',')
+                .map(|p| p.trim().to_string())
+                .filter(|p| !p.is_empty())
+                .collect(),
+        }
+    }
 }
 
 /// A correlation coefficient between two inputs.
@@ -470,7 +495,9 @@ fn join(prefix: &str, key: &str) -> String {
     }
 }
 
-/// The inputs of the `uncertainty` object, nested objects flattened to dotted paths.
+/// The inputs of the `uncertainty` object, nested objects and lists flattened to dotted paths
+/// (a list element's index is a segment, as the spreadsheet functions build it); null leaves
+/// are no input.
 fn flatten(prefix: &str, v: &Value, out: &mut Vec<(String, Value)>) {
     match v {
         Value::Object(o) => {
@@ -478,6 +505,12 @@ fn flatten(prefix: &str, v: &Value, out: &mut Vec<(String, Value)>) {
                 flatten(&join(prefix, k), x, out);
             }
         }
+        Value::Array(a) => {
+            for (i, x) in a.iter().enumerate() {
+                flatten(&join(prefix, &i.to_string()), x, out);
+            }
+        }
+        Value::Null => {}
         other => out.push((prefix.to_string(), other.clone())),
     }
 }
@@ -671,6 +704,15 @@ fn read_input(
     })
 }
 
+/// Whether an uncertainty as given is zero ("0 K", 0, "0 %").
+fn is_zero(given: &Value) -> bool {
+    match given {
+        Value::Number(n) => n.as_f64() == Some(0.0),
+        Value::String(s) => split_value(s).is_some_and(|(v, _)| v == 0.0),
+        _ => false,
+    }
+}
+
 /// The standard uncertainty `given` for the input at `path` (value `x` in `unit`), in `unit`.
 fn standard_uncertainty(
     path: &str,
@@ -708,11 +750,6 @@ fn standard_uncertainty(
     if v < 0.0 {
         return Err(invalid(format!(
             "{quantity} = {given} is negative; a standard uncertainty is positive"
-        )));
-    }
-    if v == 0.0 {
-        return Err(invalid(format!(
-            "{quantity} = {given} is zero; give a positive standard uncertainty or leave the input out"
         )));
     }
     let u = if u_text == "%" {
@@ -1148,6 +1185,11 @@ fn propagate(m: &Method, params: Value, req: Value) -> Result<Value, ApiError> {
     let preset = preset_of(&params);
     let mut inputs = Vec::with_capacity(given.len());
     for (path, g) in &given {
+        if is_zero(g) {
+            // A zero uncertainty contributes nothing: the input is left out (a spreadsheet
+            // names list elements from 0 without gaps, so it may give 0 for one it skips).
+            continue;
+        }
         inputs.push(read_input(
             m,
             &params,
@@ -1157,6 +1199,11 @@ fn propagate(m: &Method, params: Value, req: Value) -> Result<Value, ApiError> {
             g,
             &mut evaluations,
         )?);
+    }
+    if inputs.is_empty() {
+        return Err(invalid(
+            "uncertainty: every input given has a zero uncertainty; give at least one positive standard uncertainty".to_string(),
+        ));
     }
     let correlations = req.correlations.clone().unwrap_or_default();
     let r = correlation_matrix(&inputs, &correlations)?;
@@ -1173,8 +1220,9 @@ fn propagate(m: &Method, params: Value, req: Value) -> Result<Value, ApiError> {
 
     let mut fields = Vec::new();
     float_leaves(&nominal, "", &mut fields);
-    fields.retain(|(p, _)| wanted(p, &req.outputs) && !is_residual(p));
-    if let Some(outs) = &req.outputs {
+    let outputs = req.outputs.as_ref().map(Outputs::paths);
+    fields.retain(|(p, _)| wanted(p, &outputs) && !is_residual(p));
+    if let Some(outs) = &outputs {
         for o in outs {
             if !fields
                 .iter()

@@ -940,3 +940,42 @@ fn every_method_propagates() {
     );
     assert!(e.message.contains("takes no unit"), "{}", e.message);
 }
+
+/// The shapes a spreadsheet builds from dotted names: list elements (`uncertainty.inlets.1.h`
+/// makes a list), a zero for an element it skips (left out), correlations as a list of objects
+/// and `outputs` as one comma-separated text.
+#[test]
+fn spreadsheet_shapes() {
+    let r = call(
+        "header.mix",
+        header(json!({
+            "inlets": [{"h": 0}, {"h": "3 kJ/kg", "flow": "0.2 kg/s"}],
+            "outputs": "outlet.h, flow",
+        })),
+    );
+    let inputs = r["uncertainty_basis"]["inputs"].as_array().unwrap();
+    let names: Vec<&str> = inputs
+        .iter()
+        .map(|i| i["input"].as_str().unwrap())
+        .collect();
+    assert_eq!(names, ["inlets.1.flow", "inlets.1.h"]);
+    close(
+        f(&r, "uncertainty.outlet.h.contributions.1.sensitivity"),
+        0.6,
+        1e-7,
+        "c2",
+    );
+    let fields: Vec<&String> = r["uncertainty"].as_object().unwrap().keys().collect();
+    assert_eq!(fields, ["flow", "outlet"]);
+    let corr = call(
+        "header.mix",
+        header(json!({
+            "inlets": [{"h": "2 kJ/kg"}, {"h": "3 kJ/kg"}],
+            "correlations": [{"inputs": ["inlets.0.h", "inlets.1.h"], "r": 1}],
+            "outputs": ["outlet.h"],
+        })),
+    );
+    close(f(&corr, "uncertainty.outlet.h.u"), 0.8 + 1.8, 1e-6, "r = 1");
+    let e = err("header.mix", header(json!({"inlets.0.h": "0 kJ/kg"})));
+    assert!(e.message.contains("zero"), "{}", e.message);
+}
