@@ -113,3 +113,14 @@ def test_property_uncertainty_of_a_state(client):
     assert pu["rho"]["components"][0]["name"] == "IAPWS-95"
     assert "0.0001%" in pu["rho"]["components"][0]["source"]
     assert pu["rho"]["U"] == pytest.approx(2 * pu["rho"]["u"])
+
+
+def test_batch_property_uncertainty_columns(client):
+    import pandas as pd
+    df = pd.DataFrame({"p": [0.1, 5.0], "T": [20.0, 300.0]})
+    out = client.batch(df, want=["rho"], property_uncertainty=True, progress=False)
+    assert list(out.columns) == ["rho", "u_rho", "u_w", "u_cp", "u_p_sat", "errors"]
+    st = client.state(p=0.1, T=20, property_uncertainty=True)
+    assert out["u_rho"][0] == st["property_uncertainty"]["rho"]["u"]
+    assert out["u_cp"][1] == client.state(p=5, T=300, property_uncertainty=True)[
+        "property_uncertainty"]["cp"]["u"]

@@ -210,12 +210,15 @@ class Client:
             raise errors.InvalidInput("the input columns differ in length")
         frame.n = lengths.pop()
         want_list = list(want) if want is not None else list(DEFAULT_WANT)
+        # property_uncertainty=True: the columns u_rho, u_w, u_cp, u_p_sat come back too (JSON)
+        extra = list(PROPERTY_U_COLUMNS) if opts.get("property_uncertainty") else []
         table = None
-        if packed is not False:
+        if packed is not False and not extra:
             table = self._batch_packed(frame, given, units, want_list, chunk, progress, opts)
         if table is None:
-            table = self._batch_json(frame, given, units, want_list, chunk, progress, opts)
-        return frame.result(table, want_list)
+            table = self._batch_json(frame, given, units, want_list, chunk, progress, opts,
+                                     extra)
+        return frame.result(table, want_list + extra)
 
     def _dask_engine(self) -> Dict[str, Any]:
         """Where Dask workers compute: this client's server when it was given by URL, else
@@ -225,7 +228,7 @@ class Client:
             return {"binary": tr.binary}
         return {"server": self.url, "server_token": getattr(tr, "token", None)}
 
-    def _batch_json(self, frame, given, units, want_list, chunk, progress, opts):
+    def _batch_json(self, frame, given, units, want_list, chunk, progress, opts, extra=()):
         chunk = chunk or 50000
         inputs: Dict[str, List[Any]] = {}
         bad: Dict[int, str] = {}
@@ -239,7 +242,7 @@ class Client:
                     bad.setdefault(i, f"row {i}: {key} ({col_name}) {why}")
                 vals.append(item)
             inputs[key] = vals
-        out: Dict[str, List[Any]] = {w: [None] * n for w in want_list}
+        out: Dict[str, List[Any]] = {w: [None] * n for w in list(want_list) + list(extra)}
         errs: List[Optional[str]] = [None] * n
         for i, why in bad.items():
             errs[i] = why
@@ -258,7 +261,7 @@ class Client:
                 params["given"] = {k: [inputs[k][i] for i in rows] for k in inputs}
                 res = self.call_raw("water.batch", params)
                 cols = res.get("columns", {})
-                for w in want_list:
+                for w in list(want_list) + list(extra):
                     values = cols.get(w, [])
                     dest = out[w]
                     for j, i in enumerate(rows):
@@ -274,7 +277,7 @@ class Client:
         nan = float("nan")
         table: Dict[str, Any] = {w: (out[w] if w == "phase" else
                                      [nan if v is None else v for v in out[w]])
-                                 for w in want_list}
+                                 for w in list(want_list) + list(extra)}
         table["errors"] = errs
         return table
 
@@ -363,6 +366,10 @@ class Client:
         cols = [np.frombuffer(base64.b64decode(res["columns"][w]["f64le"]), dtype="<f8")
                 for w in want_list]
         return cols, res.get("failed_rows", [])
+
+
+# The standard-uncertainty columns water.batch adds with property_uncertainty=True.
+PROPERTY_U_COLUMNS = ("u_rho", "u_w", "u_cp", "u_p_sat")
 
 
 def _is_dask(data: Any) -> bool:
