@@ -71,11 +71,8 @@ pub const MAX_INPUTS: usize = 50;
 pub const DEFAULT_SAMPLES: u64 = 10_000;
 /// Fewest Monte Carlo samples.
 pub const MIN_SAMPLES: u64 = 100;
-/// Most Monte Carlo samples of a method that runs on the blocking pool.
+/// Most Monte Carlo samples.
 pub const MAX_SAMPLES: u64 = 100_000;
-/// Most Monte Carlo samples of a quick method: it answers on the connection's worker, which
-/// a long Monte Carlo would hold (about 20,000 evaluations of a component take half a second).
-pub const MAX_SAMPLES_QUICK: u64 = 20_000;
 /// Most values a Monte Carlo keeps (samples times result fields) for its coverage intervals;
 /// name fewer fields with `outputs` beyond it.
 pub const MAX_MC_VALUES: u64 = 20_000_000;
@@ -118,8 +115,7 @@ pub struct UncertaintyParams {
     /// for every field, a Monte Carlo mean, u and coverage interval, JCGM 101:2008).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub method: Option<String>,
-    /// Monte Carlo samples (100 to 100,000, 20,000 for the single-component methods; default
-    /// 10,000).
+    /// Monte Carlo samples (100 to 100,000; default 10,000).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub samples: Option<u64>,
     /// Seed of the Monte Carlo generator (default 1): the same seed gives the same draws.
@@ -369,16 +365,31 @@ impl MethodSpec {
                 Some(req) => {
                     let method = Method {
                         name,
-                        quick,
                         ctx,
                         call: &inner,
                     };
-                    propagate(&method, params, req)
+                    busy(quick, || propagate(&method, params, req))
                 }
             }
         });
         self.call = call;
         self
+    }
+}
+
+/// Runs `f`, a propagation of a quick method. A quick method answers on a connection's worker
+/// of the server's multi-threaded runtime; a propagation takes many evaluations (a Monte Carlo
+/// seconds), so the runtime is told first that this thread will be busy and moves the worker's
+/// other tasks to another thread (`block_in_place`). Anywhere else (a method on the blocking
+/// pool, a current-thread runtime, no runtime: the command line and tests) `f` runs as is.
+fn busy<R>(quick: bool, f: impl FnOnce() -> R) -> R {
+    use tokio::runtime::{Handle, RuntimeFlavor};
+    let on_worker = quick
+        && Handle::try_current().is_ok_and(|h| h.runtime_flavor() == RuntimeFlavor::MultiThread);
+    if on_worker {
+        tokio::task::block_in_place(f)
+    } else {
+        f()
     }
 }
 
@@ -401,7 +412,6 @@ fn described<T: JsonSchema>(g: &mut SchemaGenerator, description: &str) -> Schem
 /// The method being propagated through.
 struct Method<'a> {
     name: &'static str,
-    quick: bool,
     ctx: &'a ServerCtx,
     call: &'a CallFn,
 }
@@ -1142,16 +1152,11 @@ fn propagate(m: &Method, params: Value, req: Value) -> Result<Value, ApiError> {
             "uncertainty.samples and uncertainty.seed are for method monte_carlo; add \"method\": \"monte_carlo\" or leave them out".to_string(),
         ));
     }
-    let max_samples = if m.quick {
-        MAX_SAMPLES_QUICK
-    } else {
-        MAX_SAMPLES
-    };
-    let samples = req.samples.unwrap_or(DEFAULT_SAMPLES.min(max_samples));
-    if monte_carlo && !(MIN_SAMPLES..=max_samples).contains(&samples) {
+    let samples = req.samples.unwrap_or(DEFAULT_SAMPLES);
+    if monte_carlo && !(MIN_SAMPLES..=MAX_SAMPLES).contains(&samples) {
         return Err(Error::LimitExceeded {
-            what: format!("Monte Carlo samples of {} (at least {MIN_SAMPLES})", m.name),
-            limit: max_samples as f64,
+            what: format!("Monte Carlo samples (at least {MIN_SAMPLES})"),
+            limit: MAX_SAMPLES as f64,
             value: samples as f64,
         }
         .into());

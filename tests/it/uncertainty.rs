@@ -477,7 +477,7 @@ fn bad_input() {
     assert_eq!(e.code, codes::LIMIT_EXCEEDED, "{}", e.message);
     let e = t(json!({"inlet.T": "1 K", "method": "monte_carlo", "samples": 1_000_000}));
     assert_eq!(e.code, codes::LIMIT_EXCEEDED, "{}", e.message);
-    assert_eq!(e.data["limit"], json!(unc::MAX_SAMPLES_QUICK as f64));
+    assert_eq!(e.data["limit"], json!(unc::MAX_SAMPLES as f64));
     let e = t(json!({"inlet.T": "1 K", "samples": 1000}));
     assert!(e.message.contains("monte_carlo"), "{}", e.message);
     let e = t(json!({"inlet.T": "1 K", "method": "bayes"}));
@@ -978,4 +978,48 @@ fn spreadsheet_shapes() {
     close(f(&corr, "uncertainty.outlet.h.u"), 0.8 + 1.8, 1e-6, "r = 1");
     let e = err("header.mix", header(json!({"inlets.0.h": "0 kJ/kg"})));
     assert!(e.message.contains("zero"), "{}", e.message);
+}
+
+/// A quick method answers on a connection's worker; its propagation (here a Monte Carlo of
+/// several seconds) tells the runtime first, so the worker's other connections keep being
+/// answered. With one worker thread (TOKIO_WORKER_THREADS=1) a plain state call on a second
+/// connection answers while the Monte Carlo is still running.
+#[test]
+fn a_long_propagation_does_not_hold_the_worker() {
+    use crate::common;
+    use std::sync::atomic::{AtomicBool, Ordering};
+    use std::sync::Arc;
+    let server = common::start(&[], &[("TOKIO_WORKER_THREADS", "1")]);
+    let addr = server.addr.clone();
+    let done = Arc::new(AtomicBool::new(false));
+    let long = {
+        let (addr, done) = (addr.clone(), done.clone());
+        std::thread::spawn(move || {
+            let body = json!({"jsonrpc": "2.0", "id": 1, "method": "turbine.expand",
+                "params": turbine(Some(json!({"inlet.T": "1 K", "outlet.T": "1 K",
+                    "method": "monte_carlo", "samples": 30_000, "outputs": "efficiency"})))});
+            let r = common::post(
+                &addr,
+                &["Content-Type: application/json"],
+                body.to_string().as_bytes(),
+            );
+            done.store(true, Ordering::SeqCst);
+            r
+        })
+    };
+    std::thread::sleep(std::time::Duration::from_millis(300));
+    let body = json!({"jsonrpc": "2.0", "id": 2, "method": "water.state",
+        "params": {"given": {"p": "1 bar", "T": "20 degC"}}});
+    let r = common::post(
+        &addr,
+        &["Content-Type: application/json"],
+        body.to_string().as_bytes(),
+    );
+    assert!(r.json()["result"]["h"].is_f64(), "{}", r.text());
+    assert!(
+        !done.load(Ordering::SeqCst),
+        "the state call waited for the Monte Carlo to end"
+    );
+    let mc = long.join().unwrap();
+    assert!(mc.json()["result"]["uncertainty"]["efficiency"]["monte_carlo"].is_object());
 }
