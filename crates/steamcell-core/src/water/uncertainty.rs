@@ -191,7 +191,7 @@ pub const CRITICAL_REGION: CriticalRegion = CriticalRegion {
 };
 
 const SUMMARY: &str = "IAPWS R6-95(2018), section on the estimates of uncertainty and its figures, as summarised in the NIST Chemistry WebBook (SRD 69), notes on the water equation of state (Wagner and Pruss 2002)";
-const FIGURE: &str = "IAPWS R6-95(2018), section on the estimates of uncertainty, figure for";
+const FIGURE: &str = "IAPWS R6-95(2018), section on the estimates of uncertainty, its figure by region of the phase diagram, read from the plot from memory";
 const ABSTRACT: &str =
     "Wagner and Pruss, J. Phys. Chem. Ref. Data 31 (2002) 387, abstract (IAPWS-95)";
 
