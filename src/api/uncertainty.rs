@@ -614,7 +614,6 @@ fn probe_dim(
     )))
 }
 
-#[allow(clippy::too_many_arguments)]
 fn read_input(
     m: &Method,
     params: &Value,
