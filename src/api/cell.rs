@@ -75,12 +75,18 @@ pub fn known_quantities() -> &'static [String] {
             .iter()
             .map(|(k, v)| (k.clone(), serde_json::to_value(v).unwrap_or(Value::Null)))
             .collect();
-        let resolved = match schema.get("$ref").and_then(Value::as_str) {
+        // The method's own result: its `$ref`, or the first part of an `allOf` (the
+        // `uncertainty` fields a method may add are not quantities of a cell).
+        let own = schema
+            .get("allOf")
+            .and_then(|a| a.get(0))
+            .unwrap_or(&schema);
+        let resolved = match own.get("$ref").and_then(Value::as_str) {
             Some(r) => defs
                 .get(r.rsplit('/').next().unwrap_or(""))
                 .cloned()
                 .unwrap_or(Value::Null),
-            None => schema,
+            None => own.clone(),
         };
         resolved
             .get("properties")

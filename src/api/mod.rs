@@ -35,6 +35,7 @@ pub mod server_ctx;
 pub mod server_methods;
 pub mod site;
 pub mod strict;
+pub mod uncertainty;
 pub mod validation;
 pub mod vocab;
 pub mod water;
@@ -503,7 +504,8 @@ fn type_name(v: &Value) -> &'static str {
 static REGISTRY: OnceLock<Vec<MethodSpec>> = OnceLock::new();
 
 /// All methods, in documentation order: the water methods, the component methods, then the
-/// server methods.
+/// server methods; every method with numeric inputs but the bulk ones takes the `uncertainty`
+/// param ([`uncertainty::takes_uncertainty`]).
 pub fn registry() -> &'static [MethodSpec] {
     REGISTRY.get_or_init(|| {
         let mut all = water::methods();
@@ -512,7 +514,15 @@ pub fn registry() -> &'static [MethodSpec] {
         all.extend(balance::methods());
         all.extend(server_methods::methods());
         all.extend(selftest::methods());
-        all
+        all.into_iter()
+            .map(|m| {
+                if uncertainty::takes_uncertainty(m.name) {
+                    m.with_uncertainty()
+                } else {
+                    m
+                }
+            })
+            .collect()
     })
 }
 

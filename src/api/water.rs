@@ -25,7 +25,7 @@ use std::collections::BTreeMap;
 /// The methods of this module, for the registry.
 pub fn methods() -> Vec<MethodSpec> {
     vec![
-        MethodSpec::new::<StateParams, StateResult>(
+        MethodSpec::new::<StateParams, StateAnswer>(
             "water.state",
             "Every property of one state of water or steam from two properties that fix it",
             "Give two of p, T, h, s, u, v, rho, x in `given` (numbers in the `units` preset, or strings with a unit such as \"42 barg\" or \"410 degC\"). Returns p, T, rho, v, u, h, s, cp, cv, w, x and derived properties in the preset's units, with the phase and the IAPWS-IF97 region. Properties that are not defined for the state (cp, cv, w of a wet mixture) are null and `undefined` says why.",
@@ -76,14 +76,36 @@ pub struct StateParams {
     /// Solver switches.
     #[serde(flatten)]
     pub flags: SolveFlags,
+    /// Add `property_uncertainty`: the uncertainty of rho, w, cp and the vapour pressure at
+    /// this state by the IAPWS-95 release's figures, with IF97's deviation from IAPWS-95 as a
+    /// further component for an IF97 state.
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
+    pub property_uncertainty: bool,
 }
 
-fn water_state(p: StateParams) -> Result<StateResult> {
+/// Result of `water.state`: the state, and on request its property uncertainties.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize, JsonSchema)]
+pub struct StateAnswer {
+    /// The state.
+    #[serde(flatten)]
+    pub state: StateResult,
+    /// With `property_uncertainty`: the uncertainty of rho, w, cp and p_sat (value, u, U, k
+    /// and its components with their sources), and why a property has none.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub property_uncertainty: Option<super::uncertainty::PropertyUncertainty>,
+}
+
+fn water_state(p: StateParams) -> Result<StateAnswer> {
     let f = parse_formulation(p.formulation.as_deref())?;
     let ctx = Ctx::new(p.units.as_ref(), p.ambient.as_ref())?;
     let given = p.given.to_given(&ctx)?;
     let st = physics::solve(given, &p.flags.options()?, f)?;
-    Ok(state_result_with(&st, &ctx, f))
+    Ok(StateAnswer {
+        state: state_result_with(&st, &ctx, f),
+        property_uncertainty: p
+            .property_uncertainty
+            .then(|| super::uncertainty::property_uncertainty(&st, f, &ctx)),
+    })
 }
 
 /// A column of inputs: a JSON array, a JSON array with the column's unit, or a packed column of
@@ -202,6 +224,11 @@ pub struct BatchParams {
     /// Solver switches.
     #[serde(flatten)]
     pub flags: SolveFlags,
+    /// Add the columns u_rho, u_w, u_cp and u_p_sat: the standard uncertainty (k = 1, in the
+    /// property's unit) of each row's rho, w, cp and vapour pressure, as `water.state`'s
+    /// `property_uncertainty` gives it (null or NaN where the release states none).
+    #[serde(default, skip_serializing_if = "std::ops::Not::not")]
+    pub property_uncertainty: bool,
 }
 
 /// A batch row solved in another phase than the batch's `expect`.
@@ -472,6 +499,23 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
     ctx.finish_units(&mut units_map);
     if gauge_in {
         units_map.insert("ambient".into(), ctx.ambient_text());
+    }
+    if p.property_uncertainty {
+        let extra = super::uncertainty::property_columns(&ctx, &opts, f, &cols[0], &cols[1]);
+        for (name, values, unit) in extra {
+            let col = if packed_out {
+                ColumnOut::Packed(PackedColumn::pack(&values))
+            } else {
+                ColumnOut::Numbers(
+                    values
+                        .into_iter()
+                        .map(|x| x.is_finite().then_some(x))
+                        .collect(),
+                )
+            };
+            columns.insert(name.clone(), col);
+            units_map.insert(name, unit);
+        }
     }
     Ok(BatchResult {
         columns,

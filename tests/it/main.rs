@@ -48,4 +48,5 @@ mod textbook_rankine;
 mod tidy;
 mod transports;
 mod turbines_cycles;
+mod uncertainty;
 mod units_choice;

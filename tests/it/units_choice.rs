@@ -1110,6 +1110,12 @@ fn every_numeric_field_is_in_the_units_vocabulary() {
         // a conductance: the unit of heat flow over the unit of temperature difference chosen
         // for it (its units map says which, e.g. "kW/K")
         "ua",
+        // the uncertainty's numbers: coverage factor, correlation and probability are pure
+        // numbers; an input's steps are in that input's `unit` beside them
+        "k",
+        "r",
+        "coverage_probability",
+        "steps",
         // the bulk columns: each column's unit is its own (`unit`) or its property's
         "given",
         "values",

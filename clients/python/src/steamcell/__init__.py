@@ -16,11 +16,12 @@ from .errors import (Error, TransportError, WorkerEngineLost, OutOfRange, NotFin
 from .records import Record, State
 from .transport import find_binary
 from . import aio
+from . import uncertainty
 
 __version__ = "0.1.0"
 
 __all__ = [
-    "connect", "aio", "Client", "State", "Record", "methods", "find_binary",
+    "connect", "aio", "uncertainty", "Client", "State", "Record", "methods", "find_binary",
     "Error", "TransportError", "WorkerEngineLost", "OutOfRange", "NotFinite", "NoUniqueState", "UnknownUnit",
     "WrongDimension", "InvalidInput", "NotConverged", "LimitExceeded", "Infeasible",
     "ParseError", "InvalidRequest", "MethodNotFound", "InvalidParams", "InternalError",

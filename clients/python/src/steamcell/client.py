@@ -236,12 +236,15 @@ class Client:
             raise errors.InvalidInput("the input columns differ in length")
         frame.n = lengths.pop()
         want_list = list(want) if want is not None else list(DEFAULT_WANT)
+        # property_uncertainty=True: the columns u_rho, u_w, u_cp, u_p_sat come back too (JSON)
+        extra = list(PROPERTY_U_COLUMNS) if opts.get("property_uncertainty") else []
         table = None
-        if packed is not False:
+        if packed is not False and not extra:
             table = self._batch_packed(frame, given, units, want_list, chunk, progress, opts)
         if table is None:
-            table = self._batch_json(frame, given, units, want_list, chunk, progress, opts)
-        return frame.result(table, want_list, unit_suffix=unit_suffix, pint=pint)
+            table = self._batch_json(frame, given, units, want_list, chunk, progress, opts,
+                                     extra)
+        return frame.result(table, want_list + extra, unit_suffix=unit_suffix, pint=pint)
 
     def _dask_engine(self) -> Dict[str, Any]:
         """Where Dask workers compute: this client's server when it was given by URL, else
@@ -251,7 +254,7 @@ class Client:
             return {"binary": tr.binary}
         return {"server": self.url, "server_token": getattr(tr, "token", None)}
 
-    def _batch_json(self, frame, given, units, want_list, chunk, progress, opts):
+    def _batch_json(self, frame, given, units, want_list, chunk, progress, opts, extra=()):
         chunk = chunk or 50000
         inputs: Dict[str, List[Any]] = {}
         tags: Dict[str, str] = {}
@@ -268,7 +271,7 @@ class Client:
                     bad.setdefault(i, f"row {i}: {key} ({col_name}) {why}")
                 vals.append(item)
             inputs[key] = vals
-        out: Dict[str, List[Any]] = {w: [None] * n for w in want_list}
+        out: Dict[str, List[Any]] = {w: [None] * n for w in list(want_list) + list(extra)}
         errs: List[Optional[str]] = [None] * n
         flags: List[Optional[str]] = [None] * n
         for i, why in bad.items():
@@ -293,7 +296,7 @@ class Client:
                 res = self.call_raw("water.batch", params)
                 col_units = dict(res.get("units", {}))
                 cols = res.get("columns", {})
-                for w in want_list:
+                for w in list(want_list) + list(extra):
                     values = cols.get(w, [])
                     dest = out[w]
                     for j, i in enumerate(rows):
@@ -312,7 +315,7 @@ class Client:
         nan = float("nan")
         table: Dict[str, Any] = {w: (out[w] if w == "phase" else
                                      [nan if v is None else v for v in out[w]])
-                                 for w in want_list}
+                                 for w in list(want_list) + list(extra)}
         table["errors"] = errs
         table["__units__"] = col_units
         if "expect" in opts:
@@ -448,6 +451,10 @@ def _units_text(units: Any) -> str:
         import json as _json
         return _json.dumps(units)
     return str(units)
+
+
+# The standard-uncertainty columns water.batch adds with property_uncertainty=True.
+PROPERTY_U_COLUMNS = ("u_rho", "u_w", "u_cp", "u_p_sat")
 
 
 def _is_dask(data: Any) -> bool:

@@ -22,6 +22,9 @@ labels sit inside the axes. Every function returns a :class:`Chart`: it shows it
 Jupyter (a PNG, no ``%matplotlib`` magic needed), saves with ``chart.savefig("x.png")`` or
 ``"x.svg"``, and passes everything else to its matplotlib Figure (``chart.axes``,
 ``chart.figure``). ``chart.drawn`` lists what was drawn (role, label, x and y data).
+
+:func:`contributions` draws the inputs' shares of a result field's uncertainty (a result of a
+method called with the ``uncertainty`` param, see :mod:`steamcell.uncertainty`).
 """
 
 from __future__ import annotations
@@ -553,3 +556,55 @@ def hs(c, processes: Sequence[Any] = (), isobars: Optional[Iterable[Any]] = None
     them (``zoom=False``: the whole dome)."""
     return _chart(c, "s", "h", processes, isobars, isotherms, units, ax, figsize, dpi, points,
                   title, zoom, numbers)
+
+
+# ------------------------------------------------------------------------ uncertainty
+
+def contributions(result: Dict[str, Any], field: str, ax=None, figsize=(8, 4.5), dpi: int = 100,
+                  title: Optional[str] = None, monte_carlo: bool = True) -> Chart:
+    """Bar chart of the inputs' shares of the variance of one result field, from a result
+    computed with the ``uncertainty`` param (see :mod:`steamcell.uncertainty`): one horizontal
+    bar per input, largest first, labelled with its contribution (sensitivity times u) in the
+    field's unit; the title states the field as value +- U (k). With a Monte Carlo answer
+    (``monte_carlo=True``) its u is named beside the GUM u. ``chart.drawn`` lists each bar
+    (role "share", label the input, x its share, y its position)."""
+    from . import uncertainty as unc
+    f = unc.field(result, field)
+    data = sorted(unc.rows(result, field), key=lambda r: abs(r["share"]))
+    unit = f.get("unit")
+    unit_text = "" if unit in (None, "1") else f" {unit}"
+    if ax is None:
+        fig = new_figure(figsize=figsize, dpi=dpi)
+        ax = fig.add_subplot(1, 1, 1)
+    else:
+        fig = ax.figure
+    ys = list(range(len(data)))
+    shares = [100.0 * r["share"] for r in data]
+    colours = ["#1f77b4" if s >= 0 else "#d62728" for s in shares]
+    ax.barh(ys, shares, color=colours, height=0.6)
+    labels = []
+    for r in data:
+        u_unit = "" if r.get("unit") in (None, "1") else f" {r['unit']}"
+        labels.append(f"{r['input']}\n(u = {r['u']:.3g}{u_unit})")
+    ax.set_yticks(ys)
+    ax.set_yticklabels(labels)
+    top = max([abs(s) for s in shares] + [1e-12])
+    for y, s, r in zip(ys, shares, data):
+        ax.text(s + (0.01 * top if s >= 0 else -0.01 * top), y,
+                f" {s:.1f} %  ({r['contribution']:+.3g}{unit_text})",
+                va="center", ha="left" if s >= 0 else "right", fontsize=8)
+    lo = min([0.0] + shares)
+    ax.set_xlim(lo * 1.35 if lo < 0 else 0.0, top * 1.45)
+    ax.axvline(0.0, color="black", linewidth=0.8)
+    ax.set_xlabel("share of the variance [%]")
+    if title is None:
+        title = unc.statement(result, field)
+        mc = f.get("monte_carlo")
+        if monte_carlo and mc:
+            title += f"\nGUM u = {f['u']:.3g}, Monte Carlo u = {mc['u']:.3g} ({mc['samples']} samples)"
+    if title:
+        ax.set_title(title)
+    fig.tight_layout()
+    drawn = [{"role": "share", "label": r["input"], "x": 100.0 * r["share"], "y": y,
+              "contribution": r["contribution"]} for y, r in zip(ys, data)]
+    return Chart(fig, drawn, dpi=dpi)

@@ -17,6 +17,7 @@ pub mod state;
 pub mod state95;
 pub mod tables;
 pub mod transport;
+pub mod uncertainty;
 
 pub use field::Field;
 pub use pairs::{PairSpec, INPUTS, PAIRS};
