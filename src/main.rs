@@ -25,15 +25,18 @@ struct Cli {
 
 #[derive(Subcommand)]
 enum Command {
-    /// Serve JSON-RPC 2.0 over HTTP POST and WebSocket, plus GET /health, /schema,
-    /// /cell/{quantity}, /site/{name}/{quantity} and the bulk route POST /columns.
+    /// Serve JSON-RPC 2.0 over HTTP POST and WebSocket (HTTPS and WSS with --tls-cert), plus
+    /// GET /health, /schema, /metrics, /validation, /cell/{quantity}, /site/{name}/{quantity}
+    /// and the bulk route POST /columns.
     ///
     /// Security: listens on loopback by default. A non-loopback address needs tokens
     /// (--tokens-file, --token-file or STEAMCELL_TOKEN) and TLS (--tls-cert/--tls-key; or
     /// --insecure-http to serve plain HTTP anyway); with tokens every request except
     /// GET /health and /addin/ needs `Authorization: Bearer <token>` (else 401), and a token's
     /// allow-list limits its methods (else 403 or error 1010). SIGHUP reloads the tokens file
-    /// and the certificate. The built-in self-test runs first: a failing case refuses the start. The Host header must name this server
+    /// and the certificate. The built-in self-test runs first: a failing case refuses the
+    /// start. GET /metrics (Prometheus text) and GET /validation (the validation record) sit
+    /// behind the token like every route but /health. The Host header must name this server
     /// (localhost, a loopback or the listen address, or --allow-host; else 403). Requests with
     /// an Origin header are refused (403) unless --allow-origin names it; CORS headers are sent
     /// only for such origins. POST bodies must be Content-Type: application/json (else 415;
