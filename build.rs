@@ -2,8 +2,10 @@
 //! commit of the checkout (or `STEAMCELL_BUILD_COMMIT` when set, e.g. by a packager building
 //! from a source archive), the target triple, the profile and the compiler's version line.
 //!
-//! Runs again when the checkout's HEAD or the branch it names moves, and when
-//! `STEAMCELL_BUILD_COMMIT` changes; without git the commit is recorded as empty ("unknown").
+//! Release builds ask git for HEAD (the commit, not any uncommitted change) and run again when
+//! HEAD or the branch it names moves; debug builds record "not recorded in debug builds" unless
+//! `STEAMCELL_BUILD_COMMIT` is set, so that committing does not recompile the crate while
+//! developing. Without git the commit is recorded as empty ("unknown").
 
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -31,12 +33,19 @@ fn main() {
     let manifest = PathBuf::from(std::env::var("CARGO_MANIFEST_DIR").unwrap_or_default());
     println!("cargo:rerun-if-changed=build.rs");
     println!("cargo:rerun-if-env-changed=STEAMCELL_BUILD_COMMIT");
-    let commit = std::env::var("STEAMCELL_BUILD_COMMIT")
+    let profile = std::env::var("PROFILE").unwrap_or_default();
+    let given = std::env::var("STEAMCELL_BUILD_COMMIT")
         .ok()
-        .filter(|c| !c.trim().is_empty())
-        .or_else(|| git(&["rev-parse", "HEAD"]))
-        .unwrap_or_default();
-    if std::env::var_os("STEAMCELL_BUILD_COMMIT").is_none() {
+        .filter(|c| !c.trim().is_empty());
+    // Only release builds (what a team deploys) ask git: watching HEAD in debug builds would
+    // recompile the crate after every commit while developing.
+    let release = profile == "release";
+    let commit = match given {
+        Some(c) => c,
+        None if release => git(&["rev-parse", "HEAD"]).unwrap_or_default(),
+        None => "not recorded in debug builds".to_string(),
+    };
+    if release && std::env::var_os("STEAMCELL_BUILD_COMMIT").is_none() {
         watch(&manifest, "HEAD");
         if let Some(branch) = git(&["symbolic-ref", "-q", "HEAD"]) {
             watch(&manifest, &branch);
@@ -56,9 +65,6 @@ fn main() {
         "cargo:rustc-env=STEAMCELL_BUILD_TARGET={}",
         std::env::var("TARGET").unwrap_or_default()
     );
-    println!(
-        "cargo:rustc-env=STEAMCELL_BUILD_PROFILE={}",
-        std::env::var("PROFILE").unwrap_or_default()
-    );
+    println!("cargo:rustc-env=STEAMCELL_BUILD_PROFILE={profile}");
     println!("cargo:rustc-env=STEAMCELL_BUILD_RUSTC={version}");
 }
