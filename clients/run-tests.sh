@@ -26,6 +26,11 @@ if ! command -v Rscript >/dev/null 2>&1 || ! Rscript -e 'library(jsonlite)' >/de
   apt_install r-base-core r-cran-jsonlite
 fi
 
+echo "== clients: openssl (the certificates of the TLS tests of the clients)"
+if ! command -v openssl >/dev/null 2>&1; then
+  apt_install openssl
+fi
+
 echo "== clients: python package (venv .venv)"
 PY=${PYTHON:-python3}
 if ! "$PY" -c "import venv, ensurepip" >/dev/null 2>&1; then

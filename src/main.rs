@@ -1,12 +1,16 @@
 //! The `steamcell` command line: parses arguments and calls the library (`server`, `api`).
-//! Exit codes: 0 success, 1 start-up or I/O failure, 2 a method or cell error.
+//! Exit codes: 0 success, 1 start-up or I/O failure, 2 a method or cell error, 3 a validation
+//! failure (a failing case, or a digest other than the one expected).
 //!
 //! Invariant: no JSON here; `call` passes its params text to `api::call_text` and prints the
 //! text it returns.
 
-use clap::{Parser, Subcommand};
+use clap::parser::ValueSource;
+use clap::{ArgMatches, CommandFactory, FromArgMatches, Parser, Subcommand};
+use std::path::{Path, PathBuf};
 use std::process::ExitCode;
 use steamcell::api::limits;
+use steamcell::server::{config, ServeConfig, TokenSource};
 
 #[derive(Parser)]
 #[command(
@@ -21,12 +25,18 @@ struct Cli {
 
 #[derive(Subcommand)]
 enum Command {
-    /// Serve JSON-RPC 2.0 over HTTP POST and WebSocket, plus GET /health, /schema,
-    /// /cell/{quantity}, /site/{name}/{quantity} and the bulk route POST /columns.
+    /// Serve JSON-RPC 2.0 over HTTP POST and WebSocket (HTTPS and WSS with --tls-cert), plus
+    /// GET /health, /schema, /metrics, /validation, /cell/{quantity}, /site/{name}/{quantity}
+    /// and the bulk route POST /columns.
     ///
-    /// Security: listens on loopback by default. A non-loopback address needs a token
-    /// (--token-file or STEAMCELL_TOKEN); with a token every request except GET /health needs
-    /// `Authorization: Bearer <token>` (else 401). The Host header must name this server
+    /// Security: listens on loopback by default. A non-loopback address needs tokens
+    /// (--tokens-file, --token-file or STEAMCELL_TOKEN) and TLS (--tls-cert/--tls-key; or
+    /// --insecure-http to serve plain HTTP anyway); with tokens every request except
+    /// GET /health and /addin/ needs `Authorization: Bearer <token>` (else 401), and a token's
+    /// allow-list limits its methods (else 403 or error 1010). SIGHUP reloads the tokens file
+    /// and the certificate. The built-in self-test runs first: a failing case refuses the
+    /// start. GET /metrics (Prometheus text) and GET /validation (the validation record) sit
+    /// behind the token like every route but /health. The Host header must name this server
     /// (localhost, a loopback or the listen address, or --allow-host; else 403). Requests with
     /// an Origin header are refused (403) unless --allow-origin names it; CORS headers are sent
     /// only for such origins. POST bodies must be Content-Type: application/json (else 415;
@@ -39,7 +49,7 @@ enum Command {
     Serve(Box<ServeArgs>),
     /// Newline-delimited JSON-RPC 2.0 on stdin/stdout (one request or batch per line).
     Stdio,
-    /// Run one method in-process and print its JSON result.
+    /// Run one method and print its JSON result: in-process, or with --url on a server.
     Call {
         /// Method name, e.g. water.state.
         method: String,
@@ -50,6 +60,52 @@ enum Command {
         /// JSON object.
         #[arg(long, value_name = "UNITS")]
         units: Option<String>,
+        /// Call the server at this URL (http://HOST:PORT or https://HOST:PORT) instead of
+        /// computing in-process.
+        #[arg(long, value_name = "URL")]
+        url: Option<String>,
+        /// With an https:// URL: trust the certificates of this PEM file (a private CA or a
+        /// self-signed server certificate) instead of the system's trust store.
+        #[arg(long, value_name = "FILE", requires = "url")]
+        ca_file: Option<PathBuf>,
+        /// With --url: file holding the bearer token (else STEAMCELL_TOKEN).
+        #[arg(long, value_name = "FILE", requires = "url")]
+        token_file: Option<PathBuf>,
+        /// Refuse to compute unless the validation digest (server.info's; in-process, this
+        /// build's) is this one (exit code 3, both digests named).
+        #[arg(long, value_name = "DIGEST")]
+        expect_digest: Option<String>,
+    },
+    /// Write the validation record of this build on this machine: every built-in
+    /// verification case, the round-trip and IF97-vs-IAPWS-95 summaries, the digest, the build
+    /// and the machine. Prints a one-line summary; exit code 3 when anything failed.
+    Validate {
+        /// Write the record as one self-contained HTML document to FILE.
+        #[arg(long, value_name = "FILE.html")]
+        report: Option<PathBuf>,
+        /// Write the record as JSON to FILE ("-" or no value: standard output).
+        #[arg(long, value_name = "FILE", num_args = 0..=1, default_missing_value = "-")]
+        json: Option<String>,
+        /// Fail (exit code 3) unless this build's validation digest is this one.
+        #[arg(long, value_name = "DIGEST")]
+        expect_digest: Option<String>,
+    },
+    /// Mint a new token for a tokens file: prints the token (give it to its user; it is kept
+    /// nowhere) and the line to add to the --tokens-file (its SHA-256 hash and options).
+    Token {
+        /// The token's name (the user or service), as the audit file will show it.
+        name: String,
+        /// Refuse the token from this instant on (UTC): YYYY-MM-DD or YYYY-MM-DDTHH:MM[:SS].
+        #[arg(long, value_name = "WHEN")]
+        expires: Option<String>,
+        /// Allow only these methods (comma-separated; group.* for a group), e.g.
+        /// water.*,server.info.
+        #[arg(long, value_name = "LIST")]
+        methods: Option<String>,
+        /// Write the token to FILE (created with owner-only permissions) and print only the
+        /// line for the tokens file.
+        #[arg(long, value_name = "FILE")]
+        token_out: Option<PathBuf>,
     },
     /// Print one property as a bare number, e.g. `steamcell get h p=10MPa T=500degC --units si`
     /// or `steamcell get p p=42barg T=410degC --unit barg`.
@@ -97,12 +153,35 @@ enum Command {
 
 #[derive(clap::Args)]
 struct ServeArgs {
-    /// Address to listen on (port 0 picks a free port). Non-loopback needs a token.
+    /// Read the serve settings from this TOML file (every flag below has a key of the same
+    /// name, e.g. max-body-bytes = 1048576); flags given on the command line win over it.
+    #[arg(long, value_name = "FILE")]
+    config: Option<PathBuf>,
+    /// Check the settings (config file, tokens file, certificate and key, audit file, sites,
+    /// the built-in self-test) and exit without serving: 0 when the server would start.
+    #[arg(long)]
+    check_config: bool,
+    /// Address to listen on (port 0 picks a free port). Non-loopback needs tokens and TLS.
     #[arg(long, default_value = steamcell::server::DEFAULT_LISTEN)]
     listen: String,
-    /// File holding the bearer token (surrounding whitespace ignored). Overrides STEAMCELL_TOKEN.
-    #[arg(long, value_name = "PATH")]
-    token_file: Option<std::path::PathBuf>,
+    /// File holding one bearer token (surrounding whitespace ignored), named "default" in the
+    /// audit file. Overrides STEAMCELL_TOKEN.
+    #[arg(long, value_name = "PATH", conflicts_with = "tokens_file")]
+    token_file: Option<PathBuf>,
+    /// Named tokens, one line per user or service: NAME sha256:HEX [expires=WHEN]
+    /// [methods=LIST] (see `steamcell token`); reloaded on SIGHUP.
+    #[arg(long, value_name = "FILE")]
+    tokens_file: Option<PathBuf>,
+    /// PEM certificate chain: serve HTTPS and WSS on the listen port (with --tls-key).
+    #[arg(long, value_name = "FILE", requires = "tls_key")]
+    tls_cert: Option<PathBuf>,
+    /// PEM private key of --tls-cert.
+    #[arg(long, value_name = "FILE", requires = "tls_cert")]
+    tls_key: Option<PathBuf>,
+    /// Allow plain HTTP on a non-loopback address (tokens then cross the network in clear
+    /// text: only behind a TLS proxy or on a trusted network); a warning is printed at start.
+    #[arg(long)]
+    insecure_http: bool,
     /// Accept this name in the Host header besides localhost and the listen address (repeatable).
     #[arg(long, value_name = "NAME")]
     allow_host: Vec<String>,
@@ -165,52 +244,124 @@ struct ServeArgs {
     stop_on_stdin_eof: bool,
 }
 
+/// Whether the flag `id` of the serve subcommand was given on the command line.
+fn on_command_line(m: &ArgMatches, id: &str) -> bool {
+    m.value_source(id) == Some(ValueSource::CommandLine)
+}
+
 impl ServeArgs {
-    fn config(&self) -> Result<steamcell::server::ServeConfig, String> {
-        let token = match &self.token_file {
-            Some(path) => Some(
-                std::fs::read_to_string(path)
-                    .map_err(|e| format!("cannot read the token file {}: {e}", path.display()))?
-                    .trim()
-                    .to_string(),
-            ),
-            None => std::env::var("STEAMCELL_TOKEN")
-                .ok()
-                .map(|t| t.trim().to_string()),
+    /// The settings: the command line over the config file over the environment and the
+    /// defaults (see `steamcell::server::config`). Also the log level and the stdin flag.
+    fn settings(&self, m: &ArgMatches) -> Result<(ServeConfig, String, bool), String> {
+        let file = match &self.config {
+            Some(p) => config::read(p)?,
+            None => config::ConfigFile::default(),
         };
-        if token.as_deref().is_some_and(str::is_empty) {
+        let cli = |id: &str| on_command_line(m, id);
+        macro_rules! pick {
+            ($field:ident, $id:literal) => {
+                if cli($id) {
+                    self.$field.clone()
+                } else {
+                    file.$field.clone().unwrap_or_else(|| self.$field.clone())
+                }
+            };
+        }
+        let listen: String = pick!(listen, "listen");
+        let insecure_http: bool = pick!(insecure_http, "insecure_http");
+        let allow_host: Vec<String> = pick!(allow_host, "allow_host");
+        let allow_origin: Vec<String> = pick!(allow_origin, "allow_origin");
+        let request_timeout: f64 = pick!(request_timeout, "request_timeout");
+        let log_level: String = pick!(log_level, "log_level");
+        let site: Vec<String> = pick!(site, "site");
+        let stop_on_stdin_eof: bool = pick!(stop_on_stdin_eof, "stop_on_stdin_eof");
+        let audit = if cli("audit") {
+            self.audit.clone()
+        } else {
+            file.audit.clone().or_else(|| self.audit.clone())
+        };
+        let tokens = if cli("tokens_file") || cli("token_file") {
+            token_source(self.tokens_file.as_deref(), self.token_file.as_deref())?
+        } else if file.tokens_file.is_some() || file.token_file.is_some() {
+            if file.tokens_file.is_some() && file.token_file.is_some() {
+                return Err(
+                    "the config file gives both tokens-file and token-file: keep one".to_string(),
+                );
+            }
+            token_source(file.tokens_file.as_deref(), file.token_file.as_deref())?
+        } else {
+            match std::env::var("STEAMCELL_TOKEN") {
+                Ok(t) => TokenSource::Single(t.trim().to_string()),
+                Err(_) => TokenSource::None,
+            }
+        };
+        if matches!(&tokens, TokenSource::Single(t) if t.is_empty()) {
             return Err("the token is empty".to_string());
         }
-        if !(self.request_timeout.is_finite() && self.request_timeout > 0.0) {
+        let (cert, key) = if cli("tls_cert") {
+            (self.tls_cert.clone(), self.tls_key.clone())
+        } else {
+            (file.tls_cert.clone(), file.tls_key.clone())
+        };
+        let tls = match (cert, key) {
+            (Some(cert), Some(key)) => Some(steamcell::server::tls::TlsFiles { cert, key }),
+            (None, None) => None,
+            _ => {
+                return Err(
+                    "give both tls-cert and tls-key (the certificate chain and its key)"
+                        .to_string(),
+                )
+            }
+        };
+        if !(request_timeout.is_finite() && request_timeout > 0.0) {
             return Err("--request-timeout must be a positive number of seconds".to_string());
         }
-        Ok(steamcell::server::ServeConfig {
-            listen: self.listen.clone(),
-            token,
-            allow_hosts: self.allow_host.clone(),
-            allow_origins: self.allow_origin.clone(),
+        let cfg = ServeConfig {
+            listen,
+            tokens,
+            tls,
+            insecure_http,
+            allow_hosts: allow_host,
+            allow_origins: allow_origin,
             limits: limits::Settings {
-                max_request_body_bytes: self.max_body_bytes,
-                max_response_body_bytes: self.max_response_bytes,
-                max_batch_requests: self.max_batch_requests,
-                max_batch_rows: self.max_batch_rows,
-                max_json_depth: self.max_json_depth,
-                max_ws_message_bytes: self.max_ws_message_bytes,
-                max_connections: self.max_connections,
-                max_in_flight: self.max_in_flight,
-                request_timeout_ms: (self.request_timeout * 1000.0).round().max(1.0) as u64,
+                max_request_body_bytes: pick!(max_body_bytes, "max_body_bytes"),
+                max_response_body_bytes: pick!(max_response_bytes, "max_response_bytes"),
+                max_batch_requests: pick!(max_batch_requests, "max_batch_requests"),
+                max_batch_rows: pick!(max_batch_rows, "max_batch_rows"),
+                max_json_depth: pick!(max_json_depth, "max_json_depth"),
+                max_ws_message_bytes: pick!(max_ws_message_bytes, "max_ws_message_bytes"),
+                max_connections: pick!(max_connections, "max_connections"),
+                max_in_flight: pick!(max_in_flight, "max_in_flight"),
+                request_timeout_ms: (request_timeout * 1000.0).round().max(1.0) as u64,
             },
-            audit: self.audit.clone(),
-            sites: self
-                .site
+            audit,
+            sites: site
                 .iter()
                 .map(|s| {
                     s.split_once('=')
-                        .map(|(n, f)| (n.trim().to_string(), std::path::PathBuf::from(f.trim())))
+                        .map(|(n, f)| (n.trim().to_string(), PathBuf::from(f.trim())))
                         .ok_or_else(|| format!("--site {s}: write NAME=FILE"))
                 })
                 .collect::<Result<_, _>>()?,
-        })
+        };
+        Ok((cfg, log_level, stop_on_stdin_eof))
+    }
+}
+
+/// The token source of a tokens file or a one-token file.
+fn token_source(
+    tokens_file: Option<&Path>,
+    token_file: Option<&Path>,
+) -> Result<TokenSource, String> {
+    match (tokens_file, token_file) {
+        (Some(p), _) => Ok(TokenSource::File(p.to_path_buf())),
+        (None, Some(path)) => Ok(TokenSource::Single(
+            std::fs::read_to_string(path)
+                .map_err(|e| format!("cannot read the token file {}: {e}", path.display()))?
+                .trim()
+                .to_string(),
+        )),
+        (None, None) => Ok(TokenSource::None),
     }
 }
 
@@ -220,12 +371,7 @@ fn runtime() -> std::io::Result<tokio::runtime::Runtime> {
         .build()
 }
 
-fn main() -> ExitCode {
-    let cli = Cli::parse();
-    let level = match &cli.command {
-        Command::Serve(a) => a.log_level.clone(),
-        _ => "warn".to_string(),
-    };
+fn init_logs(level: &str) {
     tracing_subscriber::fmt()
         .with_writer(std::io::stderr)
         .with_env_filter(
@@ -234,16 +380,64 @@ fn main() -> ExitCode {
             }),
         )
         .init();
+}
+
+/// Debug builds only: the fault of one test (`steamcell_core::water::if97::fault`), switched on
+/// by `STEAMCELL_DEBUG_CORRUPT_COEFFICIENT`. A release build has no such switch.
+fn debug_fault() {
+    #[cfg(debug_assertions)]
+    if std::env::var_os("STEAMCELL_DEBUG_CORRUPT_COEFFICIENT").is_some() {
+        steamcell::water::if97::fault::corrupt_one_coefficient();
+    }
+}
+
+fn main() -> ExitCode {
+    debug_fault();
+    let matches = Cli::command().get_matches();
+    let cli = match Cli::from_arg_matches(&matches) {
+        Ok(c) => c,
+        Err(e) => e.exit(),
+    };
     match cli.command {
         Command::Serve(args) => {
-            let cfg = match args.config() {
+            let serve_matches = matches
+                .subcommand_matches("serve")
+                .cloned()
+                .unwrap_or_default();
+            let (cfg, level, stop_on_eof) = match args.settings(&serve_matches) {
                 Ok(c) => c,
                 Err(e) => {
                     eprintln!("steamcell: {e}");
                     return ExitCode::from(1);
                 }
             };
-            if args.stop_on_stdin_eof {
+            init_logs(&level);
+            if args.check_config {
+                return match steamcell::server::check(&cfg) {
+                    Ok(exposure) => {
+                        if let steamcell::server::Exposure::Insecure(w) = exposure {
+                            eprintln!("steamcell: {w}");
+                        }
+                        println!(
+                            "steamcell: the settings are valid: serve would listen on {} ({}, {}, {})",
+                            cfg.listen,
+                            if cfg.tls.is_some() { "HTTPS" } else { "plain HTTP" },
+                            match &cfg.tokens {
+                                TokenSource::None => "no token".to_string(),
+                                TokenSource::Single(_) => "one token".to_string(),
+                                TokenSource::File(p) => format!("tokens of {}", p.display()),
+                            },
+                            steamcell::api::validation_digest()
+                        );
+                        ExitCode::SUCCESS
+                    }
+                    Err(e) => {
+                        eprintln!("steamcell: cannot serve on {}: {e}", cfg.listen);
+                        ExitCode::from(1)
+                    }
+                };
+            }
+            if stop_on_eof {
                 stop_on_stdin_eof();
             }
             match runtime().and_then(|rt| rt.block_on(steamcell::server::serve(&cfg))) {
@@ -255,6 +449,7 @@ fn main() -> ExitCode {
             }
         }
         Command::Stdio => {
+            init_logs("warn");
             match runtime().and_then(|rt| rt.block_on(steamcell::server::stdio::serve_stdio())) {
                 Ok(()) => ExitCode::SUCCESS,
                 Err(e) => {
@@ -266,17 +461,74 @@ fn main() -> ExitCode {
         Command::Call {
             method,
             params,
+            url,
+            ca_file,
+            token_file,
+            expect_digest,
             units,
         } => {
-            match steamcell::api::call_text_with_units(
-                &method,
-                params.as_deref().unwrap_or("{}"),
-                units.as_deref(),
-            ) {
-                Ok(pretty) => print_out(&pretty),
+            init_logs("warn");
+            let params = params.as_deref().unwrap_or("{}");
+            let params = match steamcell::api::params_with_units(params, units.as_deref()) {
+                Ok(p) => p,
                 Err(e) => {
                     eprintln!("error {}: {}", e.code, e.message);
+                    return ExitCode::from(2);
+                }
+            };
+            let params = params.as_str();
+            let Some(url) = url else {
+                if let Some(want) = &expect_digest {
+                    let have = steamcell::api::validation_digest();
+                    if *want != have {
+                        eprintln!(
+                            "steamcell: refusing to compute: this build's validation digest {have} is not the expected {want}"
+                        );
+                        return ExitCode::from(3);
+                    }
+                }
+                return match steamcell::api::call_text(&method, params) {
+                    Ok(pretty) => print_out(&pretty),
+                    Err(e) => {
+                        eprintln!("error {}: {}", e.code, e.message);
+                        ExitCode::from(2)
+                    }
+                };
+            };
+            let token = match &token_file {
+                Some(p) => match std::fs::read_to_string(p) {
+                    Ok(t) => Some(t.trim().to_string()),
+                    Err(e) => {
+                        eprintln!("steamcell: cannot read the token file {}: {e}", p.display());
+                        return ExitCode::from(1);
+                    }
+                },
+                None => std::env::var("STEAMCELL_TOKEN")
+                    .ok()
+                    .map(|t| t.trim().to_string())
+                    .filter(|t| !t.is_empty()),
+            };
+            use steamcell::server::client::{call_text, ClientError};
+            match call_text(
+                &url,
+                ca_file.as_deref(),
+                token,
+                expect_digest.as_deref(),
+                &method,
+                params,
+            ) {
+                Ok(pretty) => print_out(&pretty),
+                Err(e @ ClientError::Rpc { .. }) => {
+                    eprintln!("{e}");
                     ExitCode::from(2)
+                }
+                Err(e @ ClientError::Digest { .. }) => {
+                    eprintln!("steamcell: {e}");
+                    ExitCode::from(3)
+                }
+                Err(e) => {
+                    eprintln!("steamcell: {e}");
+                    ExitCode::from(1)
                 }
             }
         }
@@ -286,6 +538,7 @@ fn main() -> ExitCode {
             units,
             unit,
         } => {
+            init_logs("warn");
             let answer = steamcell::api::cell::pairs_from_args(&with_flags(pairs, units, unit))
                 .and_then(|p| steamcell::api::cell::cell(&quantity, &p));
             match answer {
@@ -303,6 +556,7 @@ fn main() -> ExitCode {
             units,
             unit,
         } => {
+            init_logs("warn");
             match steamcell::api::site::from_file(&file, &quantity, &with_flags(pairs, units, unit))
             {
                 Ok(text) => print_out(&text),
@@ -312,7 +566,22 @@ fn main() -> ExitCode {
                 }
             }
         }
+        Command::Validate {
+            report,
+            json,
+            expect_digest,
+        } => {
+            init_logs("warn");
+            validate(report.as_deref(), json.as_deref(), expect_digest.as_deref())
+        }
+        Command::Token {
+            name,
+            expires,
+            methods,
+            token_out,
+        } => mint(&name, expires, methods, token_out.as_deref()),
         Command::Schema { out } => {
+            init_logs("warn");
             let text = steamcell::api::openrpc::document_text();
             let written = if out == "-" {
                 use std::io::Write;
@@ -340,6 +609,122 @@ fn with_flags(mut pairs: Vec<String>, units: Option<String>, unit: Option<String
     pairs.extend(units.map(|u| format!("units={u}")));
     pairs.extend(unit.map(|u| format!("unit={u}")));
     pairs
+}
+
+/// `steamcell validate`: writes the record where asked, prints the summary line.
+fn validate(report: Option<&Path>, json: Option<&str>, expect: Option<&str>) -> ExitCode {
+    use steamcell::api::record;
+    let r = record::record();
+    if let Some(path) = report {
+        if let Err(e) = std::fs::write(path, record::to_html(&r)) {
+            eprintln!("steamcell: cannot write {}: {e}", path.display());
+            return ExitCode::from(1);
+        }
+    }
+    match json {
+        Some("-") => {
+            let code = print_out(&record::to_json(&r));
+            if code != ExitCode::SUCCESS {
+                return code;
+            }
+        }
+        Some(path) => {
+            if let Err(e) = std::fs::write(path, record::to_json(&r)) {
+                eprintln!("steamcell: cannot write {path}: {e}");
+                return ExitCode::from(1);
+            }
+        }
+        None => {}
+    }
+    let failed_trips = r.round_trips.iter().filter(|t| !t.passed).count();
+    let failed_cmp = r.if97_vs_iapws95.iter().filter(|c| !c.passed).count();
+    let summary = format!(
+        "steamcell {} validation: {} of {} verification cases passed, {} of {} round-trip rows passed, {} of {} IF97-vs-IAPWS-95 rows within tolerance; digest {}",
+        r.version,
+        r.verification.passed,
+        r.verification.cases.len(),
+        r.round_trips.len() - failed_trips,
+        r.round_trips.len(),
+        r.if97_vs_iapws95.len() - failed_cmp,
+        r.if97_vs_iapws95.len(),
+        r.digest
+    );
+    // The summary goes to stderr when the JSON goes to stdout.
+    if json == Some("-") {
+        eprintln!("{summary}");
+    } else {
+        println!("{summary}");
+    }
+    if let Some(want) = expect {
+        if want != r.digest {
+            eprintln!(
+                "steamcell: this build's validation digest {} is not the expected {want}",
+                r.digest
+            );
+            return ExitCode::from(3);
+        }
+    }
+    if r.passed {
+        ExitCode::SUCCESS
+    } else {
+        eprintln!("steamcell: validation FAILED (see the record)");
+        ExitCode::from(3)
+    }
+}
+
+/// `steamcell token`: a new token and its tokens-file line.
+fn mint(
+    name: &str,
+    expires: Option<String>,
+    methods: Option<String>,
+    out: Option<&Path>,
+) -> ExitCode {
+    use steamcell::api::tokens;
+    let token = match tokens::mint() {
+        Ok(t) => t,
+        Err(e) => {
+            eprintln!("steamcell: {e}");
+            return ExitCode::from(1);
+        }
+    };
+    let mut options = Vec::new();
+    if let Some(x) = expires {
+        options.push(format!("expires={x}"));
+    }
+    if let Some(m) = methods {
+        options.push(format!("methods={m}"));
+    }
+    let line = tokens::file_line(name, &token, &options);
+    // The line must be one the server accepts.
+    if let Err(e) = tokens::Table::parse(&line) {
+        eprintln!("steamcell: {}", e.trim_start_matches("line 1: "));
+        return ExitCode::from(1);
+    }
+    match out {
+        Some(path) => {
+            if let Err(e) = write_private(path, &format!("{token}\n")) {
+                eprintln!("steamcell: cannot write {}: {e}", path.display());
+                return ExitCode::from(1);
+            }
+            print_out(&line)
+        }
+        None => print_out(&format!(
+            "token for {name} (give it to them; it is kept nowhere): {token}\ntokens file line: {line}"
+        )),
+    }
+}
+
+/// Writes `text` to a new file readable by its owner only (where permissions exist).
+fn write_private(path: &Path, text: &str) -> std::io::Result<()> {
+    use std::io::Write;
+    let mut o = std::fs::OpenOptions::new();
+    o.write(true).create_new(true);
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::OpenOptionsExt;
+        o.mode(0o600);
+    }
+    o.open(path)?.write_all(text.as_bytes())
 }
 
 /// Ends the process once standard input reaches its end (or fails): the parent that holds it

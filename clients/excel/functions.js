@@ -16,9 +16,15 @@
  * The argument rules are those of the LibreOffice add-in (clients/libreoffice/src/pythonpath/
  * steamcell_sheet/cells.py); clients/sheet-cases.json holds the cases both are tested against.
  *
- * The server: Home > steamcell settings (taskpane.html) stores its address and token in this
- * add-in's browser storage, never in a workbook. Default: the server that served this file when
- * it came from `steamcell serve` (GET /addin/...), else http://127.0.0.1:8790.
+ * The server: Home > steamcell settings (taskpane.html) stores its address, token and expected
+ * validation digest in this add-in's browser storage, never in a workbook. Default: the server
+ * that served this file when it came from `steamcell serve` (GET /addin/...), else
+ * http://127.0.0.1:8790. An https:// server's certificate is checked by the browser (Excel's
+ * web view) against the operating system's trust store; a private CA must be installed there.
+ *
+ * Pinning: with an expected digest, `server.info` is asked once (again after a settings change
+ * or a failure) before any call; a server reporting another digest computes no cell (#N/A, the
+ * message naming both digests).
  */
 (function (global) {
   "use strict";
@@ -31,6 +37,7 @@
   var CACHE_ENTRIES = 50000;
   var KEY_URL = "steamcell.serverUrl";
   var KEY_TOKEN = "steamcell.token";
+  var KEY_DIGEST = "steamcell.expectDigest";
   var NUMBER = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
   // ------------------------------------------------------------------ errors
@@ -69,21 +76,25 @@
     return null;
   }
 
-  var settings = { serverUrl: "", token: "" };
+  var settings = { serverUrl: "", token: "", expectDigest: "" };
 
   function loadSettings() {
     var s = storage();
     settings.serverUrl = ((s && s.getItem(KEY_URL)) || "").trim() || defaultServer();
     settings.token = ((s && s.getItem(KEY_TOKEN)) || "").trim();
+    settings.expectDigest = ((s && s.getItem(KEY_DIGEST)) || "").trim();
     settings.serverUrl = settings.serverUrl.replace(/\/+$/, "");
+    pinCheck = null;
   }
 
-  /** Stores the server address and token (empty address: the default) and forgets old answers. */
-  function saveSettings(serverUrl, token) {
+  /** Stores the server address, token and expected digest (empty address: the default; empty
+   *  digest: any) and forgets old answers. */
+  function saveSettings(serverUrl, token, expectDigest) {
     var s = storage();
     if (s) {
       s.setItem(KEY_URL, (serverUrl || "").trim());
       s.setItem(KEY_TOKEN, (token || "").trim());
+      s.setItem(KEY_DIGEST, (expectDigest || "").trim());
     }
     loadSettings();
     cache.clear();
@@ -359,6 +370,7 @@
   var cache = new Map();
   var stats = { requests: 0, calls: 0, batches: [] };
   var nextId = 1;
+  var pinCheck = null;
 
   function headers(json) {
     var h = { "Accept": "application/json" };
@@ -402,6 +414,25 @@
     }
   }
 
+  /** Resolves when the server may be used: no digest is expected, or `server.info` reports the
+   *  expected one (asked once per settings; a failure is asked again next time). */
+  function pin() {
+    if (!settings.expectDigest) return Promise.resolve();
+    if (!pinCheck) {
+      var want = settings.expectDigest;
+      pinCheck = (async function () {
+        var a = await post({ jsonrpc: "2.0", id: nextId++, method: "server.info" });
+        var found = a && a.result ? a.result.digest : undefined;
+        if (found !== want) {
+          throw new CellError("the steamcell server at " + settings.serverUrl + " reports the validation digest " + found +
+            ", not the expected " + want + " (Home > steamcell settings): a different or unvalidated build, so no cell is computed", "engine");
+        }
+      })();
+      pinCheck.catch(function () { pinCheck = null; });
+    }
+    return pinCheck;
+  }
+
   async function sendBatch(entries) {
     var reqs = entries.map(function (e) {
       var r = { jsonrpc: "2.0", id: nextId++, method: e.method };
@@ -413,6 +444,7 @@
     stats.batches.push(reqs.length);
     var answer;
     try {
+      await pin();
       answer = await post(reqs);
     } catch (err) {
       entries.forEach(function (e) { e.reject(err); });
@@ -465,6 +497,7 @@
     var hit = cache.get(key);
     if (hit) return hit;
     var p = (async function () {
+      await pin();
       stats.requests++;
       var resp;
       try {

@@ -497,6 +497,19 @@ def check_engines(office: Office, ref: Server) -> None:
               f"{kind} {value!r} {why}")
         check("team server in use", engine == f"team server {team.url}", engine)
         check("switching to the team server stops the embedded engine", pid is not None and gone(pid), str(pid))
+        # A pinned digest: the right one computes, another refuses every cell (#N/A) and
+        # SC.WHY names both digests.
+        digest = team.call("server.info")["digest"]
+        set_options(office, {"ExpectDigest": digest})
+        (kind, value), why, _e = one_cell(office, table5)
+        check("pinned to the team server's digest: Table 5 h", kind == "value" and close_to(value, 115.331273, 0, 5e-7),
+              f"{kind} {value!r} {why}")
+        wrong = "if97-0000000000000000-259of259"
+        set_options(office, {"ExpectDigest": wrong})
+        (kind, value), why, _e = one_cell(office, table5)
+        check("pinned to another digest: #N/A", (kind, value) == ("error", ERR_NA), f"{kind} {value}")
+        check("pinned to another digest: SC.WHY names both digests", wrong in why and digest in why, why)
+        set_options(office, {"ExpectDigest": ""})
         set_options(office, {"ServerToken": "wrong"})
         (kind, value), why, _e = one_cell(office, table5)
         check("team server, wrong token: #N/A", (kind, value) == ("error", ERR_NA), f"{kind} {value}")

@@ -24,17 +24,21 @@
 
 pub mod balance;
 pub mod cell;
+pub mod clock;
 pub mod columns;
 pub mod distribution;
 pub mod limits;
+pub mod metrics;
 pub mod openrpc;
 pub mod plant;
+pub mod record;
 pub mod rows;
 pub mod selftest;
 pub mod server_ctx;
 pub mod server_methods;
 pub mod site;
 pub mod strict;
+pub mod tokens;
 pub mod uncertainty;
 pub mod validation;
 pub mod vocab;
@@ -73,6 +77,8 @@ pub mod codes {
     pub const LIMIT_EXCEEDED: i64 = 1008;
     /// Valid inputs that violate a physical law for the requested operation.
     pub const INFEASIBLE: i64 = 1009;
+    /// The caller's token does not permit the call (method not allowed, revoked, expired).
+    pub const FORBIDDEN: i64 = 1010;
     /// JSON-RPC 2.0: the text is not valid JSON.
     pub const PARSE_ERROR: i64 = -32700;
     /// JSON-RPC 2.0: the JSON is not a valid request object.
@@ -132,6 +138,11 @@ pub const ERROR_CODES: &[(i64, &str, &str)] = &[
         codes::INFEASIBLE,
         "infeasible",
         "The inputs are valid but violate a physical law for the requested operation. data: message.",
+    ),
+    (
+        codes::FORBIDDEN,
+        "forbidden",
+        "The caller's token does not permit this call: the method is not in its allow-list, or the token was revoked or has expired since the connection was opened. data: token (its name), method, reason (\"method\", \"revoked\" or \"expired\").",
     ),
     (
         codes::PARSE_ERROR,
@@ -212,7 +223,8 @@ impl ApiError {
     /// GET routes, `/columns`, and the refusal of a whole HTTP request): 400 for bad input,
     /// 422 for a state or operation that has no answer, 404 for an unknown method, 413 for a
     /// request beyond a size limit (body, batch, nesting, rows), 408 for a body not received in
-    /// time, 503 for a busy server or an answer not ready in time, 500 otherwise. The one
+    /// time, 503 for a busy server or an answer not ready in time, 403 for a call the caller's
+    /// token does not permit, 500 otherwise. The one
     /// mapping from an error to a status.
     pub fn http_status(&self) -> u16 {
         match self.code {
@@ -233,6 +245,7 @@ impl ApiError {
             | codes::NOT_CONVERGED
             | codes::INFEASIBLE => 422,
             codes::METHOD_NOT_FOUND => 404,
+            codes::FORBIDDEN => 403,
             _ => 500,
         }
     }
@@ -553,8 +566,15 @@ pub fn call_text_with_units(
     params: &str,
     units: Option<&str>,
 ) -> Result<String, ApiError> {
+    let params = params_with_units(params, units)?;
+    call_text(name, &params)
+}
+
+/// The params text with `units` (the text of `--units`: a preset, key=unit items or a JSON
+/// object) put in as the params' `units`, replacing theirs; the params unchanged without it.
+pub fn params_with_units(params: &str, units: Option<&str>) -> Result<String, ApiError> {
     let Some(units) = units else {
-        return call_text(name, params);
+        return Ok(params.to_string());
     };
     let mut value: Value = serde_json::from_str(params).map_err(|e| ApiError {
         code: codes::PARSE_ERROR,
@@ -576,8 +596,7 @@ pub fn call_text_with_units(
             ))
         }
     }
-    let result = call(name, value)?;
-    serde_json::to_string_pretty(&result).map_err(|e| ApiError::internal(e.to_string()))
+    Ok(value.to_string())
 }
 
 /// Runs method `name` on params given as JSON text; returns the result as pretty JSON text.

@@ -59,7 +59,8 @@ pub struct SelftestResult {
     pub cases: Vec<SelftestCase>,
 }
 
-fn selftest(_: NoParams) -> crate::Result<SelftestResult> {
+/// Every built-in case with its result (the body of `server.selftest`).
+pub fn run() -> SelftestResult {
     let cases: Vec<SelftestCase> = validation::cases()
         .iter()
         .map(|c| SelftestCase {
@@ -77,13 +78,44 @@ fn selftest(_: NoParams) -> crate::Result<SelftestResult> {
         })
         .collect();
     let passed = cases.iter().filter(|c| c.passed).count();
-    Ok(SelftestResult {
+    SelftestResult {
         passed,
         failed: cases.len() - passed,
         digest: validation::digest(),
         version: env!("CARGO_PKG_VERSION").to_string(),
         cases,
-    })
+    }
+}
+
+fn selftest(_: NoParams) -> crate::Result<SelftestResult> {
+    Ok(run())
+}
+
+/// The start-up gate of `steamcell serve`: `Err` lists every failing case (id, source, printed
+/// and computed value, deviation, tolerance) when any built-in case fails, and the server
+/// must not serve.
+pub fn startup_check() -> Result<(), String> {
+    let r = run();
+    if r.failed == 0 {
+        return Ok(());
+    }
+    let list: Vec<String> = r
+        .cases
+        .iter()
+        .filter(|c| !c.passed)
+        .map(|c| {
+            format!(
+                "{} ({}): printed {}, computed {}, deviation {:.3e}, tolerance {:.3e}",
+                c.id, c.source, c.expected, c.computed, c.deviation, c.tolerance
+            )
+        })
+        .collect();
+    Err(format!(
+        "the built-in self-test failed: {} of {} verification cases do not match their printed values, so this build does not compute what the IAPWS releases print; refusing to serve. Failing cases: {}",
+        r.failed,
+        r.cases.len(),
+        list.join("; ")
+    ))
 }
 
 /// The self-test method.

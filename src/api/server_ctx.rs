@@ -1,6 +1,7 @@
 //! The state of one server: the limits in force, the counters reported by `server.info` (calls
-//! served and failed, open connections, calls in flight), the request and call id sequences, the
-//! registered site networks with their solved-results cache, and the audit file.
+//! served and failed, open connections, calls in flight) and by `GET /metrics` ([`Metrics`]),
+//! the tokens in force ([`Tokens`]), the request and call id sequences, the registered site
+//! networks with their solved-results cache, and the audit file.
 //!
 //! `steamcell serve` and `steamcell stdio` build one [`ServerCtx`] from their flags and hand it
 //! (as an `Arc`) to every transport and, through the method registry, to the methods that read it
@@ -11,7 +12,9 @@
 //! limit and cache separately. Counters are relaxed atomics and never block.
 
 use super::limits::Settings;
+use super::metrics::Metrics;
 use super::site::Sites;
+use super::tokens::Tokens;
 use std::fs::File;
 use std::sync::atomic::{AtomicU64, Ordering};
 use std::sync::{Arc, Mutex};
@@ -31,6 +34,8 @@ pub struct ServerCtx {
     next_call: AtomicU64,
     sites: Sites,
     audit: Option<Mutex<File>>,
+    metrics: std::sync::OnceLock<Metrics>,
+    tokens: Tokens,
 }
 
 impl Default for ServerCtx {
@@ -53,6 +58,8 @@ impl ServerCtx {
             next_call: AtomicU64::new(1),
             sites: Sites::default(),
             audit: None,
+            metrics: std::sync::OnceLock::new(),
+            tokens: Tokens::none(),
         }
     }
 
@@ -66,6 +73,24 @@ impl ServerCtx {
     pub fn with_audit(mut self, file: File) -> ServerCtx {
         self.audit = Some(Mutex::new(file));
         self
+    }
+
+    /// The same context requiring these tokens.
+    pub fn with_tokens(mut self, tokens: Tokens) -> ServerCtx {
+        self.tokens = tokens;
+        self
+    }
+
+    /// The counters of `GET /metrics`.
+    /// (made on first use, so that an in-process call's fresh context costs nothing for them;
+    /// their start time is the context's).
+    pub fn metrics(&self) -> &Metrics {
+        self.metrics.get_or_init(Metrics::new)
+    }
+
+    /// The tokens in force (none: every caller is served).
+    pub fn tokens(&self) -> &Tokens {
+        &self.tokens
     }
 
     /// The registered site networks and their cache.
@@ -112,6 +137,7 @@ impl ServerCtx {
     /// Counts a newly opened connection until the returned guard is dropped.
     pub fn open_connection(self: &Arc<Self>) -> Connection {
         self.connections.fetch_add(1, Ordering::Relaxed);
+        self.metrics().connection_opened();
         Connection(Arc::clone(self))
     }
 

@@ -130,18 +130,23 @@ impl JsonSchema for OpenRpcDocument {
     }
 }
 
+/// The formulations this build offers, with their releases.
+pub fn formulations() -> Vec<Formulation> {
+    FORMULATIONS
+        .iter()
+        .map(|(n, r)| Formulation {
+            name: n.to_string(),
+            release: r.to_string(),
+        })
+        .collect()
+}
+
 /// The `server.info` body.
 pub fn info(ctx: &ServerCtx, _: NoParams) -> crate::Result<ServerInfo> {
     Ok(ServerInfo {
         name: "steamcell".to_string(),
         version: env!("CARGO_PKG_VERSION").to_string(),
-        formulations: FORMULATIONS
-            .iter()
-            .map(|(n, r)| Formulation {
-                name: n.to_string(),
-                release: r.to_string(),
-            })
-            .collect(),
+        formulations: formulations(),
         unit_presets: crate::units::Preset::ALL
             .iter()
             .map(|p| UnitPreset {

@@ -78,9 +78,12 @@ fn header<'a>(req: &'a HttpRequest, name: &str) -> Option<&'a str> {
     req.headers().get(name).and_then(|v| v.to_str().ok())
 }
 
-/// The base address of the add-in's files as the client reached this server.
+/// The base address of the add-in's files as the client reached this server (https when the
+/// request came over TLS or a proxy says so with `X-Forwarded-Proto: https`).
 pub fn base_url(req: &HttpRequest) -> String {
+    let over_tls = req.extensions().get::<super::http::OverTls>().is_some();
     let scheme = match header(req, "x-forwarded-proto") {
+        _ if over_tls => "https",
         Some(p) if p.trim().eq_ignore_ascii_case("https") => "https",
         _ => "http",
     };

@@ -6,8 +6,12 @@
 //!   `--allow-host`; otherwise 403 (DNS-rebinding defence).
 //! - An `Origin` header must be one given with `--allow-origin`; otherwise 403. CORS headers
 //!   are sent only for such an origin, and only then is a preflight `OPTIONS` answered (204).
-//! - With a token, every request except `GET /health` and an allowed preflight needs
-//!   `Authorization: Bearer <token>` (compared in constant time); otherwise 401.
+//! - With tokens, every request except `GET /health`, `/addin/` files and an allowed preflight
+//!   needs `Authorization: Bearer <token>` naming a token in force and not expired (hashed and
+//!   compared in constant time, see [`crate::api::tokens`]); otherwise 401. The token's identity
+//!   travels with the request (its extensions) to every call it makes, which checks it again
+//!   ([`super::run_call`]); `GET /schema` and `GET /metrics` check the token's allow-list here
+//!   (403).
 //! - A POST must declare `Content-Type: application/json` (`/columns`: its own type);
 //!   otherwise 415.
 //! - A POST body is read under the size limit and the time limit; a JSON-RPC body is then held
@@ -21,6 +25,9 @@
 //!
 //! - `GET /health` -> `ok` (text/plain)
 //! - `GET /schema` -> the OpenRPC document (application/json)
+//! - `GET /metrics` -> the counters in the Prometheus text format ([`crate::api::metrics`])
+//! - `GET /validation` -> the validation record ([`crate::api::record`]): HTML, or JSON with
+//!   `Accept: application/json` or `?format=json`; through the call path as `GET /validation`
 //! - `GET /cell/{quantity}?{name=value...}` -> the bare number (text/plain), see
 //!   [`crate::api::cell`]: the route's `water.state` call runs through the call path.
 //! - `GET /site/{name}/{quantity}?{path=value...}` -> a number of a registered site's balance
@@ -45,9 +52,11 @@
 //! Invariant: anything else (other POSTs, WebSocket upgrades, other GET paths) passes to
 //! jsonrpsee untouched.
 
-use super::{check_request_text, refuse, run_call, CallParams};
+use super::{check_request_text, refuse, run_call, CallParams, Caller};
+use crate::api::metrics::Denied;
 use crate::api::server_ctx::Connection;
 use crate::api::site::{self, Sites};
+use crate::api::tokens::{self, Identity, Refusal};
 use crate::api::{self, cell, codes, limits, ApiError, ServerCtx};
 use http_body_util::BodyExt;
 use jsonrpsee::core::BoxError;
@@ -98,29 +107,22 @@ fn ip_of_host(host: &str) -> Option<IpAddr> {
         .ok()
 }
 
-/// What the guard enforces. Its `Debug` output never shows the token.
-#[derive(Clone)]
+/// What the guard enforces besides the tokens (which the server's context holds).
+#[derive(Debug, Clone)]
 pub struct GuardConfig {
-    /// The bearer token, when one is required.
-    pub token: Option<String>,
     /// Host names accepted besides localhost names and the listen address (lower case).
     pub allow_hosts: Vec<String>,
     /// Origins allowed for cross-origin requests (exact match, e.g. `https://a.example`).
     pub allow_origins: Vec<String>,
     /// The bound address.
     pub listen: SocketAddr,
+    /// Whether the server speaks TLS (the add-in manifest then names https).
+    pub tls: bool,
 }
 
-impl std::fmt::Debug for GuardConfig {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        f.debug_struct("GuardConfig")
-            .field("token", &self.token.as_ref().map(|_| "<redacted>"))
-            .field("allow_hosts", &self.allow_hosts)
-            .field("allow_origins", &self.allow_origins)
-            .field("listen", &self.listen)
-            .finish()
-    }
-}
+/// Marks a request that arrived over TLS.
+#[derive(Debug, Clone, Copy)]
+pub struct OverTls;
 
 impl GuardConfig {
     /// True when a `Host` value names this server.
@@ -146,22 +148,18 @@ impl GuardConfig {
                 .eq_ignore_ascii_case(origin.trim_end_matches('/'))
         })
     }
+}
 
-    fn token_ok(&self, req: &HttpRequest) -> bool {
-        let Some(expected) = &self.token else {
-            return true;
-        };
-        let given = req
-            .headers()
-            .get(http::header::AUTHORIZATION)
-            .and_then(|v| v.to_str().ok())
-            .and_then(|v| {
-                let (scheme, rest) = v.trim().split_once(' ')?;
-                scheme.eq_ignore_ascii_case("bearer").then(|| rest.trim())
-            })
-            .unwrap_or("");
-        constant_time_eq(given.as_bytes(), expected.as_bytes())
-    }
+/// The bearer token of a request ("" when there is none).
+fn bearer(req: &HttpRequest) -> &str {
+    req.headers()
+        .get(http::header::AUTHORIZATION)
+        .and_then(|v| v.to_str().ok())
+        .and_then(|v| {
+            let (scheme, rest) = v.trim().split_once(' ')?;
+            scheme.eq_ignore_ascii_case("bearer").then(|| rest.trim())
+        })
+        .unwrap_or("")
 }
 
 /// The layer that guards every request, see the module doc.
@@ -320,8 +318,19 @@ fn preflight(origin: &str) -> HttpResponse {
     r
 }
 
+/// What a request was admitted with: its allowed `Origin` (CORS headers go back to it) and its
+/// token's identity.
+struct Admitted {
+    origin: Option<String>,
+    token: Option<Identity>,
+}
+
 /// The checks that need no body: `Err` is the refusal to send.
-fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<HttpResponse>> {
+fn admit(
+    config: &GuardConfig,
+    ctx: &ServerCtx,
+    req: &HttpRequest,
+) -> Result<Admitted, Box<HttpResponse>> {
     let host = req
         .headers()
         .get(http::header::HOST)
@@ -331,13 +340,14 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
     match host {
         None => return Err(deny_b(400, "missing Host header".to_string())),
         Some(h) if !config.host_allowed(&h) => {
+            ctx.metrics().denied(Denied::Host);
             return Err(deny_b(
                 403,
                 format!(
                     "Host '{}' is not this server (add it with --allow-host)",
                     host_name(&h)
                 ),
-            ))
+            ));
         }
         Some(_) => {}
     }
@@ -348,6 +358,7 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
         Some(v) => {
             let o = v.to_str().unwrap_or("").to_string();
             if !config.origin_allowed(&o) {
+                ctx.metrics().denied(Denied::Origin);
                 return Err(deny_b(
                     403,
                     format!(
@@ -375,16 +386,52 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
         && req.uri().path() == "/health";
     // The add-in's files hold no secret and a browser loads them without a token.
     let public = health || super::addin::is_addin_request(req);
-    if !public && !config.token_ok(req) {
-        let mut r = deny(
-            401,
-            "missing or wrong token: send Authorization: Bearer <token>".to_string(),
-        );
-        // An allowed page may read the refusal (and tell its user to fix the token).
-        if let Some(o) = &origin {
-            add_cors(&mut r, o);
+    let mut token = None;
+    if !public && ctx.tokens().required() {
+        match ctx
+            .tokens()
+            .admit(bearer(req), crate::api::clock::now_unix())
+        {
+            Ok(who) => token = Some(who),
+            Err(why) => {
+                let reason = match why {
+                    Refusal::Unknown => {
+                        ctx.metrics().denied(Denied::Token);
+                        "missing or wrong token: send Authorization: Bearer <token>".to_string()
+                    }
+                    Refusal::Expired(name) => {
+                        ctx.metrics().denied(Denied::Expired);
+                        format!("the token '{name}' has expired: ask for a new one")
+                    }
+                };
+                let mut r = deny(401, reason);
+                // An allowed page may read the refusal (and tell its user to fix the token).
+                if let Some(o) = &origin {
+                    add_cors(&mut r, o);
+                }
+                return Err(Box::new(r));
+            }
         }
-        return Err(Box::new(r));
+    }
+    // The plain routes that are not calls check the token's allow-list here.
+    let is_get = req.method() == http::Method::GET || req.method() == http::Method::HEAD;
+    let permission = match req.uri().path() {
+        "/schema" if is_get => Some("server.schema"),
+        "/metrics" if is_get => Some(tokens::METRICS_PERMISSION),
+        _ => None,
+    };
+    if let (Some(p), Some(who)) = (permission, &token) {
+        if let Err(e) = ctx
+            .tokens()
+            .authorize(who, p, crate::api::clock::now_unix())
+        {
+            ctx.metrics().denied(Denied::Forbidden);
+            let mut r = deny(403, e.message);
+            if let Some(o) = &origin {
+                add_cors(&mut r, o);
+            }
+            return Err(Box::new(r));
+        }
     }
     if req.method() == http::Method::POST {
         if req.uri().path() == "/columns" {
@@ -404,7 +451,7 @@ fn admit(config: &GuardConfig, req: &HttpRequest) -> Result<Option<String>, Box<
             ));
         }
     }
-    Ok(origin)
+    Ok(Admitted { origin, token })
 }
 
 impl<S> Service<HttpRequest> for Guard<S>
@@ -425,11 +472,21 @@ where
         let id = RequestId(ctx.next_request_id());
         let span = tracing::info_span!("request", id = id.0, method = %req.method(), path = %req.uri().path());
         let _enter = span.enter();
-        let origin = match admit(&self.config, &req) {
-            Ok(o) => o,
+        let Admitted { origin, token } = match admit(&self.config, &ctx, &req) {
+            Ok(a) => a,
             Err(resp) => return Box::pin(async move { Ok(*resp) }),
         };
         req.extensions_mut().insert(id);
+        if self.config.tls {
+            req.extensions_mut().insert(OverTls);
+        }
+        let caller = Caller {
+            request: Some(id),
+            token: token.clone(),
+        };
+        if let Some(who) = token {
+            req.extensions_mut().insert(who);
+        }
         // The clone that was made ready goes into the future; a fresh clone stays.
         let clone = self.inner.clone();
         let mut inner = std::mem::replace(&mut self.inner, clone);
@@ -441,7 +498,12 @@ where
             }
         }
         let get_route = if is_get && !upgrade {
-            route(req.uri().path(), req.uri().query(), ctx.sites())
+            route(req.uri().path(), req.uri().query(), ctx.sites()).map(|r| match r {
+                Route::Validation { json: false } if wants_json(&req) => {
+                    Route::Validation { json: true }
+                }
+                r => r,
+            })
         } else {
             None
         };
@@ -458,8 +520,8 @@ where
         let fut = async move {
             let started = Instant::now();
             let mut resp = match get_route {
-                Some(r) => get_answer(ctx, r, id, started).await,
-                None => post_answer(ctx, inner, req, id, started).await?,
+                Some(r) => get_answer(ctx, r, caller, started).await,
+                None => post_answer(ctx, inner, req, caller, started).await?,
             };
             if let Some(o) = origin {
                 add_cors(&mut resp, &o);
@@ -497,7 +559,7 @@ async fn post_answer<S>(
     ctx: Arc<ServerCtx>,
     mut inner: S,
     req: HttpRequest,
-    id: RequestId,
+    caller: Caller,
     started: Instant,
 ) -> Result<HttpResponse, BoxError>
 where
@@ -546,7 +608,7 @@ where
         let answer = compute(&ctx, false, started, move || {
             let header = api::columns::header_text(&bytes);
             let logged = header.map_or(CallParams::Absent, CallParams::Text);
-            run_call(&c, "POST /columns", logged, Some(id), || {
+            run_call(&c, "POST /columns", logged, &caller, || {
                 api::columns::columns(&c, &bytes)
             })
         })
@@ -587,6 +649,10 @@ type BoxFuture<T> = Pin<Box<dyn Future<Output = T> + Send + 'static>>;
 enum Route {
     Health,
     Schema,
+    Metrics,
+    Validation {
+        json: bool,
+    },
     Cell {
         quantity: String,
         query: String,
@@ -603,6 +669,11 @@ fn route(path: &str, query: Option<&str>, sites: &Sites) -> Option<Route> {
     match path {
         "/health" => Some(Route::Health),
         "/schema" => Some(Route::Schema),
+        "/metrics" => Some(Route::Metrics),
+        "/validation" => Some(Route::Validation {
+            json: form_urlencoded::parse(query.unwrap_or("").as_bytes())
+                .any(|(k, v)| k == "format" && v == "json"),
+        }),
         p if p == "/cell" || p.starts_with("/cell/") => {
             let rest = p.strip_prefix("/cell/").unwrap_or("");
             if rest.is_empty() || rest.contains('/') {
@@ -677,16 +748,75 @@ fn cell_text(answer: Result<String, cell::CellError>) -> HttpResponse {
     }
 }
 
-/// Answers a GET route; `/cell` and `/site` run their computation through the call path.
+/// Whether a request asks for JSON (`Accept: application/json` before any HTML).
+fn wants_json(req: &HttpRequest) -> bool {
+    req.headers()
+        .get(http::header::ACCEPT)
+        .and_then(|v| v.to_str().ok())
+        .is_some_and(|a| {
+            let json = a.find("application/json");
+            let html = a.find("text/html");
+            matches!((json, html), (Some(j), h) if h.is_none_or(|h| j < h))
+        })
+}
+
+fn with_type(status: u16, content_type: &str, body: String) -> HttpResponse {
+    http::Response::builder()
+        .status(status)
+        .header(http::header::CONTENT_TYPE, content_type)
+        .body(HttpBody::from(body))
+        .unwrap_or_else(|_| http::Response::new(HttpBody::from("internal error")))
+}
+
+/// Answers a GET route; `/cell`, `/site` and `/validation` run their computation through the
+/// call path.
 async fn get_answer(
     ctx: Arc<ServerCtx>,
     route: Route,
-    id: RequestId,
+    caller: Caller,
     started: Instant,
 ) -> HttpResponse {
     match route {
         Route::Health => text(200, "ok".to_string()),
         Route::Schema => json_body(api::openrpc::document_text()),
+        Route::Metrics => with_type(
+            200,
+            api::metrics::CONTENT_TYPE,
+            api::metrics::exposition(&ctx),
+        ),
+        Route::Validation { json } => {
+            let c = Arc::clone(&ctx);
+            let answer = compute(&ctx, false, started, move || {
+                let logged = serde_json::json!({ "format": if json { "json" } else { "html" } });
+                run_call(
+                    &c,
+                    "GET /validation",
+                    CallParams::Json(&logged),
+                    &caller,
+                    || {
+                        let r = api::record::record();
+                        Ok(if json {
+                            api::record::to_json(&r).into_bytes()
+                        } else {
+                            api::record::to_html(&r).into_bytes()
+                        })
+                    },
+                )
+            })
+            .await;
+            match answer {
+                Ok(body) => with_type(
+                    200,
+                    if json {
+                        "application/json; charset=utf-8"
+                    } else {
+                        "text/html; charset=utf-8"
+                    },
+                    String::from_utf8(body).unwrap_or_default(),
+                ),
+                Err(e) => text(e.http_status(), e.message),
+            }
+        }
         Route::NotFound(reason) => text(404, reason),
         Route::Cell { quantity, query } => {
             let pairs = cell::pairs_from_query(&query);
@@ -702,7 +832,7 @@ async fn get_answer(
             };
             let c = Arc::clone(&ctx);
             let result = compute(&ctx, spec.quick, started, move || {
-                run_call(&c, spec.name, CallParams::Json(&params), Some(id), || {
+                run_call(&c, spec.name, CallParams::Json(&params), &caller, || {
                     spec.run(&c, params.clone())
                 })
             })
@@ -738,7 +868,7 @@ async fn get_answer(
             let c = Arc::clone(&ctx);
             let asked = quantity.clone();
             let result = compute(&ctx, false, started, move || {
-                run_call(&c, &method, CallParams::Json(&logged), Some(id), || {
+                run_call(&c, &method, CallParams::Json(&logged), &caller, || {
                     c.sites().solved_for(&name, &asked, &pairs)
                 })
             })
@@ -790,10 +920,10 @@ mod tests {
         assert_eq!(host_name("[::1]:80"), "[::1]");
         assert_eq!(host_name("example.com."), "example.com");
         let cfg = GuardConfig {
-            token: None,
             allow_hosts: vec!["calc.plant.example".into()],
             allow_origins: vec![],
             listen: "127.0.0.1:8790".parse().unwrap(),
+            tls: false,
         };
         assert!(cfg.host_allowed("localhost:8790"));
         assert!(cfg.host_allowed("127.0.0.1:8790"));
@@ -801,11 +931,6 @@ mod tests {
         assert!(cfg.host_allowed("calc.plant.example:8790"));
         assert!(!cfg.host_allowed("evil.example:8790"));
         assert!(!cfg.host_allowed("10.0.0.1:8790"));
-        let with = GuardConfig {
-            token: Some("s3cret-value".into()),
-            ..cfg
-        };
-        assert!(!format!("{with:?}").contains("s3cret-value"));
     }
 
     /// A refusal answers the mapped status; a GET route the error's one-line message.

@@ -65,6 +65,8 @@ fn token_from_file_on_remote_bind() {
             "0.0.0.0:0",
             "--token-file",
             tf.to_str().unwrap(),
+            // Plain HTTP off loopback needs saying so (TLS: tests/it/tls.rs).
+            "--insecure-http",
         ],
         &[],
     );

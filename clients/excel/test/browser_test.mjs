@@ -178,9 +178,9 @@ const PAGE_HELPERS = () => {
   };
 };
 
-async function openHarness(context, origin, server, token = "") {
+async function openHarness(context, origin, server, token = "", digest = "") {
   const page = await context.newPage();
-  await page.goto(`${origin}/test/harness.html?server=${encodeURIComponent(server.url)}&token=${encodeURIComponent(token)}`);
+  await page.goto(`${origin}/test/harness.html?server=${encodeURIComponent(server.url)}&token=${encodeURIComponent(token)}&digest=${encodeURIComponent(digest)}`);
   await page.evaluate(PAGE_HELPERS);
   return page;
 }
@@ -340,6 +340,18 @@ async function checkCors(context, origin, server) {
     page = await openHarness(context, origin, team, "wrong");
     ({ values } = await page.evaluate(() => window.recalc([["PROP", ["h", "p", "3 MPa", "T", "300 K"]]])));
     check("token: a wrong one gives #N/A saying so", values[0] && values[0].error === "#N/A" && values[0].message.includes("refused the token"), JSON.stringify(values[0]));
+    await page.close();
+    // A pinned validation digest: the server's own computes, another refuses every cell.
+    const digest = (await rpc(team, "server.info", {})).digest;
+    page = await openHarness(context, origin, team, token, digest);
+    ({ values } = await page.evaluate(() => window.recalc([["PROP", ["h", "p", "3 MPa", "T", "300 K"]], ["SAT", ["T", "p", "1 bar"]]])));
+    check("pinned to the server's digest: Table 5 h", closeTo(values[0], 115.331273, 0, 5e-7), JSON.stringify(values[0]));
+    await page.close();
+    const wrong = "if97-0000000000000000-259of259";
+    page = await openHarness(context, origin, team, token, wrong);
+    ({ values } = await page.evaluate(() => window.recalc([["PROP", ["h", "p", "3 MPa", "T", "300 K"]], ["SITE", ["mill", "net_power"]]])));
+    check("pinned to another digest: #N/A in every cell, the message naming both digests",
+      values.every((v) => v && v.error === "#N/A" && v.message.includes(wrong) && v.message.includes(digest)), JSON.stringify(values));
     await page.close();
   } finally {
     team.proc.kill();

@@ -8,7 +8,8 @@
   either is what =SC.WHY(...) shows.
 - `org.steamcell.calc.OptionsHandler`: the page Tools > Options > LibreOffice Calc > steamcell
   (dialogs/Options.xdl), reading and writing the add-in's options (Settings.xcs: EngineBinary,
-  ServerUrl, ServerToken, Sites) in the user profile, never in a workbook.
+  ServerUrl, ServerToken, ServerCaFile, ExpectDigest, Sites) in the user profile, never in a
+  workbook.
 
 The engine (the steamcell program started as a child, or a team server) starts on the first
 call, restarts when the options change, and stops when LibreOffice terminates.
@@ -31,7 +32,7 @@ from steamcell_sheet.functions import Sheet
 from steamcell_sheet.table import FUNCTIONS, IMPLEMENTATION
 
 SETTINGS_NODE = "/org.steamcell.calc.Settings/Engine"
-SETTING_NAMES = ("EngineBinary", "ServerUrl", "ServerToken", "Sites")
+SETTING_NAMES = ("EngineBinary", "ServerUrl", "ServerToken", "ServerCaFile", "ExpectDigest", "Sites")
 OPTIONS_IMPLEMENTATION = "org.steamcell.calc.OptionsHandler"
 ADDIN_SERVICE = "com.sun.star.sheet.AddIn"
 

@@ -3,6 +3,8 @@
 //! std `TcpStream`; start `steamcell stdio` and speak lines.
 #![allow(dead_code)]
 
+pub mod team;
+
 use std::io::{BufRead, BufReader, Write};
 use std::net::TcpStream;
 use std::process::{Child, Command, Stdio};
@@ -42,8 +44,9 @@ pub fn start(args: &[&str], env: &[(&str, &str)]) -> Server {
     let stdout = child.stdout.take().unwrap();
     let mut line = String::new();
     BufReader::new(stdout).read_line(&mut line).unwrap();
+    // http:// or, with TLS, https://
     let addr = line
-        .split("http://")
+        .split("://")
         .nth(1)
         .and_then(|s| s.split_whitespace().next())
         .unwrap_or_else(|| panic!("no address in {line:?}"))
@@ -219,12 +222,18 @@ pub struct Ws {
 impl Ws {
     /// Opens `ws://addr/` with the upgrade handshake.
     pub fn connect(addr: &str) -> Ws {
+        Ws::connect_with(addr, &[])
+    }
+
+    /// Opens `ws://addr/` with extra header lines (e.g. `Authorization: Bearer ...`).
+    pub fn connect_with(addr: &str, headers: &[&str]) -> Ws {
         let mut s = TcpStream::connect(addr).unwrap();
         s.set_read_timeout(Some(Duration::from_secs(60))).unwrap();
+        let extra: String = headers.iter().map(|h| format!("{h}\r\n")).collect();
         write!(
             s,
             "GET / HTTP/1.1\r\nHost: {addr}\r\nUpgrade: websocket\r\nConnection: Upgrade\r\n\
-             Sec-WebSocket-Key: dGhlIHNhbXBsZSBub25jZQ==\r\nSec-WebSocket-Version: 13\r\n\r\n"
+             Sec-WebSocket-Key: dGhlIHNhbXBsZSBub25jZQ==\r\nSec-WebSocket-Version: 13\r\n{extra}\r\n"
         )
         .unwrap();
         let mut r = BufReader::new(s.try_clone().unwrap());

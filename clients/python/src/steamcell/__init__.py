@@ -12,7 +12,7 @@ Standard library only; pandas, tqdm and matplotlib are used when installed (extr
 from .client import Client, connect, WRAPPERS as methods
 from .errors import (Error, TransportError, WorkerEngineLost, OutOfRange, NotFinite, NoUniqueState, UnknownUnit,
                      WrongDimension, InvalidInput, NotConverged, LimitExceeded, Infeasible,
-                     ParseError, InvalidRequest, MethodNotFound, InvalidParams, InternalError)
+                     Forbidden, DigestMismatch, ParseError, InvalidRequest, MethodNotFound, InvalidParams, InternalError)
 from .records import Record, State
 from .transport import find_binary
 from . import aio
@@ -24,5 +24,5 @@ __all__ = [
     "connect", "aio", "uncertainty", "Client", "State", "Record", "methods", "find_binary",
     "Error", "TransportError", "WorkerEngineLost", "OutOfRange", "NotFinite", "NoUniqueState", "UnknownUnit",
     "WrongDimension", "InvalidInput", "NotConverged", "LimitExceeded", "Infeasible",
-    "ParseError", "InvalidRequest", "MethodNotFound", "InvalidParams", "InternalError",
+    "Forbidden", "DigestMismatch", "ParseError", "InvalidRequest", "MethodNotFound", "InvalidParams", "InternalError",
 ]

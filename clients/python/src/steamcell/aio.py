@@ -25,7 +25,8 @@ import urllib.parse
 from typing import Any, Dict, List, Optional, Sequence, Tuple
 
 from . import errors, transport
-from .client import STATE_KEYS, WRAPPERS, Client, _jsonable
+from .client import (STATE_KEYS, WRAPPERS, Client, _jsonable, digest_mismatch,
+                     expected_digest)
 from .records import State, wrap
 
 
@@ -46,13 +47,15 @@ class AsyncHttp:
     """HTTP/1.1 POST and GET over asyncio streams with a pool of kept-alive connections."""
 
     def __init__(self, url: str, timeout: float = 600.0, max_connections: int = 32,
-                 token: Optional[str] = None):
+                 token: Optional[str] = None, ca_file: Optional[str] = None):
         parsed = urllib.parse.urlsplit(url if "://" in url else "http://" + url)
-        if parsed.scheme != "http":
-            raise errors.TransportError(f"only http:// URLs are supported, got {url}")
-        self.url = f"http://{parsed.netloc}"
+        if parsed.scheme not in ("http", "https"):
+            raise errors.TransportError(f"only http:// and https:// URLs are supported, got {url}")
+        self.url = f"{parsed.scheme}://{parsed.netloc}"
         self.host = parsed.hostname or "127.0.0.1"
-        self.port = parsed.port or 80
+        self.port = parsed.port or (443 if parsed.scheme == "https" else 80)
+        self.ca_file = ca_file
+        self.ssl_context = transport.tls_context(ca_file) if parsed.scheme == "https" else None
         self.path = parsed.path or "/"
         self.timeout = timeout
         self.token = token if token is not None else os.environ.get("STEAMCELL_TOKEN") or None
@@ -64,8 +67,12 @@ class AsyncHttp:
 
     async def _open(self) -> _Conn:
         try:
-            r, w = await asyncio.wait_for(asyncio.open_connection(self.host, self.port),
-                                          self.timeout)
+            if self.ssl_context is not None:
+                opened = asyncio.open_connection(self.host, self.port, ssl=self.ssl_context,
+                                                 server_hostname=self.host)
+            else:
+                opened = asyncio.open_connection(self.host, self.port)
+            r, w = await asyncio.wait_for(opened, self.timeout)
         except (OSError, asyncio.TimeoutError) as e:
             raise errors.TransportError(f"cannot reach steamcell at {self.url}: {e!r}") from e
         self.opened += 1
@@ -180,8 +187,10 @@ class AsyncClient:
     """A steamcell server seen from asyncio. Use :func:`connect`."""
 
     def __init__(self, url: str, owned: Any = None, timeout: float = 600.0,
-                 max_connections: int = 32):
-        self._http = AsyncHttp(url, timeout=timeout, max_connections=max_connections)
+                 max_connections: int = 32, token: Optional[str] = None,
+                 ca_file: Optional[str] = None):
+        self._http = AsyncHttp(url, timeout=timeout, max_connections=max_connections,
+                               token=token, ca_file=ca_file)
         self._owned = owned  # the spawned server's transport, stopped by close()
         self._sync: Optional[Client] = None
         self.url = self._http.url
@@ -250,7 +259,9 @@ class AsyncClient:
 
     def _sync_client(self) -> Client:
         if self._sync is None:
-            self._sync = Client(transport.HttpTransport(self.url, timeout=self._http.timeout))
+            self._sync = Client(transport.HttpTransport(self.url, timeout=self._http.timeout,
+                                                        token=self._http.token,
+                                                        ca_file=self._http.ca_file))
         return self._sync
 
     async def batch(self, data: Any, **kwargs: Any) -> Any:
@@ -275,19 +286,35 @@ for _name, _fn in WRAPPERS.items():
 class _Connecting:
     """What :func:`connect` returns: await it, or use it in ``async with``."""
 
-    def __init__(self, url, binary, timeout, serve_args, max_connections):
+    def __init__(self, url, binary, timeout, serve_args, max_connections, token=None,
+                 ca_file=None, expect_digest=None):
         self._args = (url, binary, timeout, tuple(serve_args), max_connections)
+        self._token, self._ca_file = token, ca_file
+        self._expect = expected_digest(expect_digest)
         self._client: Optional[AsyncClient] = None
 
     async def _make(self) -> AsyncClient:
         url, binary, timeout, serve_args, max_connections = self._args
         if url:
-            return AsyncClient(url, timeout=timeout, max_connections=max_connections)
-        path = transport.find_binary(binary)
-        owned = await asyncio.to_thread(transport.SpawnedHttpTransport, path, timeout=timeout,
-                                        extra_args=serve_args)
-        return AsyncClient(owned.url, owned=owned, timeout=timeout,
-                           max_connections=max_connections)
+            client = AsyncClient(url, timeout=timeout, max_connections=max_connections,
+                                 token=self._token, ca_file=self._ca_file)
+        else:
+            path = transport.find_binary(binary)
+            owned = await asyncio.to_thread(transport.SpawnedHttpTransport, path,
+                                            timeout=timeout, extra_args=serve_args,
+                                            token=self._token)
+            client = AsyncClient(owned.url, owned=owned, timeout=timeout,
+                                 max_connections=max_connections, token=self._token)
+        if self._expect:
+            try:
+                found = (await client.call_raw("server.info")).get("digest")
+            except BaseException:
+                await client.close()
+                raise
+            if found != self._expect:
+                await client.close()
+                raise digest_mismatch(client.url, self._expect, found)
+        return client
 
     def __await__(self):
         return self._make().__await__()
@@ -302,8 +329,12 @@ class _Connecting:
 
 
 def connect(url: Optional[str] = None, binary: Optional[str] = None, *, timeout: float = 600.0,
-            serve_args: Sequence[str] = (), max_connections: int = 32) -> _Connecting:
+            serve_args: Sequence[str] = (), max_connections: int = 32,
+            token: Optional[str] = None, ca_file: Optional[str] = None,
+            expect_digest: Optional[str] = None) -> _Connecting:
     """Connects from asyncio: ``c = await steamcell.aio.connect()`` or
     ``async with steamcell.aio.connect() as c:``. Without ``url`` the binary is found and
-    started as by :func:`steamcell.connect` (and stopped by ``await c.close()``)."""
-    return _Connecting(url, binary, timeout, serve_args, max_connections)
+    started as by :func:`steamcell.connect` (and stopped by ``await c.close()``). ``token``,
+    ``ca_file`` (https:// servers) and ``expect_digest`` as for :func:`steamcell.connect`."""
+    return _Connecting(url, binary, timeout, serve_args, max_connections, token, ca_file,
+                       expect_digest)

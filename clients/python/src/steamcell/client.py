@@ -10,6 +10,7 @@ such as ``{"preset": "bar", "p": "barg", "flow": "t/h"}``). Strings carry their 
 from __future__ import annotations
 
 import math
+import os
 import re
 import sys
 import urllib.parse
@@ -732,32 +733,69 @@ for _name, _fn in WRAPPERS.items():
         setattr(Client, _fn.__name__, _fn)
 
 
+#: Environment variable with the validation digest every connection must find (see connect).
+ENV_EXPECT_DIGEST = "STEAMCELL_EXPECT_DIGEST"
+
+
+def expected_digest(expect_digest: Optional[str]) -> Optional[str]:
+    """The digest to demand: the argument, else env STEAMCELL_EXPECT_DIGEST, else None."""
+    d = expect_digest or os.environ.get(ENV_EXPECT_DIGEST) or None
+    return d.strip() if d else None
+
+
+def digest_mismatch(where: str, expected: str, found: Any) -> errors.DigestMismatch:
+    """The refusal of a server whose validation digest is not the expected one."""
+    return errors.DigestMismatch(
+        f"refusing the steamcell server at {where}: its validation digest {found} is not the "
+        f"expected {expected} (a different or unvalidated build)",
+        data={"kind": "digest_mismatch", "expected": expected, "found": found})
+
+
 def connect(url: Optional[str] = None, binary: Optional[str] = None, *,
             transport: Optional[str] = None, timeout: float = 600.0,
             serve_args: Sequence[str] = (), token: Optional[str] = None,
-            pool_size: int = 32) -> Client:
+            pool_size: int = 32, ca_file: Optional[str] = None,
+            expect_digest: Optional[str] = None) -> Client:
     """Connects to a steamcell server.
 
-    ``connect("http://127.0.0.1:8790")`` talks to a running server. ``connect()`` finds the binary
-    (``binary``, env STEAMCELL_BIN, PATH, the repository's target/ directory) and starts
-    ``steamcell serve --listen 127.0.0.1:0``, stopped again by ``close()``, a ``with`` block's
-    end or interpreter exit; ``serve_args`` are extra flags for it, e.g.
-    ``["--site", "mill=site.json"]``. ``connect(transport="stdio")`` starts ``steamcell stdio``
-    instead. ``token``: the bearer token of a team server (default env STEAMCELL_TOKEN).
-    ``pool_size``: how many idle HTTP connections the client keeps for threads that share it.
+    ``connect("http://127.0.0.1:8790")`` or ``connect("https://calc.example:8790")`` talks to a
+    running server. ``connect()`` finds the binary (``binary``, env STEAMCELL_BIN, PATH, the
+    repository's target/ directory) and starts ``steamcell serve --listen 127.0.0.1:0``, stopped
+    again by ``close()``, a ``with`` block's end or interpreter exit; ``serve_args`` are extra
+    flags for it, e.g. ``["--site", "mill=site.json"]``. ``connect(transport="stdio")`` starts
+    ``steamcell stdio`` instead. ``token``: the bearer token of a team server (default env
+    STEAMCELL_TOKEN). ``ca_file``: a PEM file of the CA certificates to trust for an https://
+    server (default env STEAMCELL_CA_FILE, else the system's trust store). ``expect_digest``:
+    the validation digest the server must report (``server.info``; default env
+    STEAMCELL_EXPECT_DIGEST); another digest raises :class:`steamcell.DigestMismatch` naming
+    both, and nothing is computed. ``pool_size``: how many idle HTTP connections the client
+    keeps for threads that share it.
     """
     kind = transport or ("http" if url else "spawn")
     if kind == "stdio":
-        return Client(_transport_mod.StdioTransport(_transport_mod.find_binary(binary)))
-    if url:
-        return Client(_transport_mod.HttpTransport(url, timeout=timeout, token=token,
-                                                   pool_size=pool_size))
-    if kind not in ("spawn", "http"):
+        client = Client(_transport_mod.StdioTransport(_transport_mod.find_binary(binary)))
+    elif url:
+        client = Client(_transport_mod.HttpTransport(url, timeout=timeout, token=token,
+                                                     pool_size=pool_size, ca_file=ca_file))
+    elif kind not in ("spawn", "http"):
         raise ValueError(f"transport must be 'http' or 'stdio', not {kind!r}")
-    tr = _transport_mod.SpawnedHttpTransport(_transport_mod.find_binary(binary), timeout=timeout,
-                                             extra_args=serve_args, token=token)
-    tr.pool_size = max(1, int(pool_size))
-    return Client(tr)
+    else:
+        tr = _transport_mod.SpawnedHttpTransport(_transport_mod.find_binary(binary),
+                                                 timeout=timeout, extra_args=serve_args,
+                                                 token=token)
+        tr.pool_size = max(1, int(pool_size))
+        client = Client(tr)
+    want = expected_digest(expect_digest)
+    if want:
+        try:
+            found = client.call_raw("server.info").get("digest")
+        except BaseException:
+            client.close()
+            raise
+        if found != want:
+            client.close()
+            raise digest_mismatch(client.url or "stdio", want, found)
+    return client
 
 
 _transport_mod = transport

@@ -79,6 +79,18 @@ class Infeasible(Error):
     code, kind_name = 1009, "infeasible"
 
 
+class Forbidden(Error):
+    """The token does not permit the call: the method is not in its allow-list, or the token
+    was revoked or has expired (``data["reason"]``: "method", "revoked", "expired")."""
+    code, kind_name = 1010, "forbidden"
+
+
+class DigestMismatch(Error):
+    """The server's validation digest is not the one the client demanded (``expect_digest``):
+    ``data["expected"]`` and ``data["found"]``. The client was closed."""
+    code, kind_name = None, "digest_mismatch"
+
+
 class ParseError(Error):
     code, kind_name = -32700, "parse_error"
 
@@ -101,8 +113,8 @@ class InternalError(Error):
 
 _CLASSES = [
     OutOfRange, NotFinite, NoUniqueState, UnknownUnit, WrongDimension, InvalidInput,
-    NotConverged, LimitExceeded, Infeasible, ParseError, InvalidRequest, MethodNotFound,
-    InvalidParams, InternalError,
+    NotConverged, LimitExceeded, Infeasible, Forbidden, ParseError, InvalidRequest,
+    MethodNotFound, InvalidParams, InternalError,
 ]
 BY_CODE: Dict[int, Type[Error]] = {c.code: c for c in _CLASSES}  # type: ignore[misc]
 BY_KIND: Dict[str, Type[Error]] = {c.kind_name: c for c in _CLASSES}  # type: ignore[misc]

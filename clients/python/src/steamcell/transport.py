@@ -1,4 +1,4 @@
-"""Transports: JSON-RPC 2.0 over HTTP (keep-alive) and over a child's stdin/stdout.
+"""Transports: JSON-RPC 2.0 over HTTP or HTTPS (keep-alive) and over a child's stdin/stdout.
 
 Also finds the ``steamcell`` binary and starts ``steamcell serve`` on a free port. A transport
 sends one request object and returns the decoded response object; it raises
@@ -14,6 +14,7 @@ import json
 import os
 import re
 import shutil
+import ssl
 import subprocess
 import tempfile
 import threading
@@ -26,6 +27,22 @@ from typing import Any, Dict, List, Optional
 from .errors import TransportError
 
 _LISTEN_RE = re.compile(r"listening on http://(\S+)")
+
+#: Environment variable naming a PEM file of CA certificates to trust for https:// servers.
+ENV_CA_FILE = "STEAMCELL_CA_FILE"
+
+
+def tls_context(ca_file: Optional[str] = None) -> ssl.SSLContext:
+    """The TLS context of an https:// server: certificates are verified against ``ca_file``
+    (PEM; default env ``STEAMCELL_CA_FILE``), else against the system's trust store, and the
+    host name is checked."""
+    ca_file = ca_file or os.environ.get(ENV_CA_FILE) or None
+    if ca_file and not Path(ca_file).is_file():
+        raise TransportError(f"the CA file {ca_file} does not exist")
+    try:
+        return ssl.create_default_context(cafile=ca_file)
+    except (ssl.SSLError, OSError) as e:
+        raise TransportError(f"the CA file {ca_file} cannot be used: {e}") from e
 
 
 def _checkout_of_install() -> Optional[Path]:
@@ -129,13 +146,17 @@ class HttpTransport:
     """
 
     def __init__(self, url: str, timeout: float = 600.0, pool_size: int = 32,
-                 token: Optional[str] = None):
+                 token: Optional[str] = None, ca_file: Optional[str] = None):
         parsed = urllib.parse.urlsplit(url if "://" in url else "http://" + url)
-        if parsed.scheme != "http":
-            raise TransportError(f"only http:// URLs are supported, got {url}")
-        self.url = f"http://{parsed.netloc}"
+        if parsed.scheme not in ("http", "https"):
+            raise TransportError(f"only http:// and https:// URLs are supported, got {url}")
+        self.scheme = parsed.scheme
+        self.url = f"{parsed.scheme}://{parsed.netloc}"
         self.host = parsed.hostname or "127.0.0.1"
-        self.port = parsed.port or 80
+        self.port = parsed.port or (443 if parsed.scheme == "https" else 80)
+        #: The TLS context of an https:// server (``ca_file``, env STEAMCELL_CA_FILE, or the
+        #: system's trust store); None for http://.
+        self.ssl_context = tls_context(ca_file) if parsed.scheme == "https" else None
         self.path = parsed.path or "/"
         self.timeout = timeout
         self.pool_size = max(1, int(pool_size))
@@ -154,6 +175,9 @@ class HttpTransport:
             if self._idle:
                 return self._idle.pop()
             self.opened += 1
+        if self.ssl_context is not None:
+            return http.client.HTTPSConnection(self.host, self.port, timeout=self.timeout,
+                                               context=self.ssl_context)
         return http.client.HTTPConnection(self.host, self.port, timeout=self.timeout)
 
     def _release(self, conn: http.client.HTTPConnection, keep: bool) -> None:

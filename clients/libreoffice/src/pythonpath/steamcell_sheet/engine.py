@@ -1,12 +1,18 @@
-"""The engine the spreadsheet functions call: a team server (URL and token from the add-in's
-options or STEAMCELL_URL / STEAMCELL_TOKEN), or by default the `steamcell` program started as a
+"""The engine the spreadsheet functions call: a team server (URL, token and, for an https://
+server, the CA file from the add-in's options or STEAMCELL_URL / STEAMCELL_TOKEN /
+STEAMCELL_CA_FILE), or by default the `steamcell` program started as a
 child on a free loopback port, with a random token only this add-in knows, and stopped with the
 spreadsheet (the child is told `--stop-on-stdin-eof` and this process holds its stdin, so it ends
 even when the spreadsheet is killed). JSON-RPC 2.0 over HTTP with keep-alive, standard library
 only.
 
-Nothing here is stored in a workbook: the binary's path, the server's URL, the token and the
-site files come from the add-in's options or the environment of the spreadsheet program.
+Nothing here is stored in a workbook: the binary's path, the server's URL, the token, the CA
+file, the expected validation digest and the site files come from the add-in's options or the
+environment of the spreadsheet program.
+
+Pinning: with an expected validation digest (option ExpectDigest, or STEAMCELL_EXPECT_DIGEST)
+the engine asks `server.info` when it starts and refuses an engine (team server or embedded
+program) whose digest differs; every cell then shows #N/A and SC.WHY names both digests.
 
 Every failure is a CellError: kind "engine" (the cell shows #N/A) when no engine answers, with a
 message that says what to install or start; kind "value" for an error the engine returns.
@@ -20,6 +26,7 @@ import os
 import secrets
 import shutil
 import socket
+import ssl
 import subprocess
 import tempfile
 import threading
@@ -34,6 +41,8 @@ ENV_BINARY = "STEAMCELL_BIN"
 ENV_URL = "STEAMCELL_URL"
 ENV_TOKEN = "STEAMCELL_TOKEN"
 ENV_SITES = "STEAMCELL_SITES"
+ENV_CA_FILE = "STEAMCELL_CA_FILE"
+ENV_EXPECT_DIGEST = "STEAMCELL_EXPECT_DIGEST"
 START_TIMEOUT_S = 30.0
 CALL_TIMEOUT_S = 60.0
 
@@ -46,6 +55,8 @@ class Settings:
     server_url: str = ""
     token: str = ""
     sites: str = ""
+    ca_file: str = ""
+    expect_digest: str = ""
     source: dict = field(default_factory=dict)
 
     @staticmethod
@@ -53,7 +64,9 @@ class Settings:
         env = os.environ if env is None else env
         s = Settings()
         for attr, key, var in (("binary", "EngineBinary", ENV_BINARY), ("server_url", "ServerUrl", ENV_URL),
-                               ("token", "ServerToken", ENV_TOKEN), ("sites", "Sites", ENV_SITES)):
+                               ("token", "ServerToken", ENV_TOKEN), ("sites", "Sites", ENV_SITES),
+                               ("ca_file", "ServerCaFile", ENV_CA_FILE),
+                               ("expect_digest", "ExpectDigest", ENV_EXPECT_DIGEST)):
             value = (options.get(key) or "").strip()
             if value:
                 setattr(s, attr, value)
@@ -77,7 +90,8 @@ class Settings:
         return out
 
     def key(self):
-        return (self.binary, self.server_url, self.token, self.sites)
+        return (self.binary, self.server_url, self.token, self.sites, self.ca_file,
+                self.expect_digest)
 
 
 def find_binary(settings: Settings):
@@ -115,6 +129,7 @@ class Engine:
         self._lock = threading.RLock()
         self._ids = 0
         self._log = None
+        self._tls = None
 
     # ------------------------------------------------------------------ start and stop
 
@@ -124,6 +139,19 @@ class Engine:
                 self._use_server()
             else:
                 self._start_child()
+            self._pin()
+
+    def _pin(self) -> None:
+        """Refuses the engine unless it reports the expected validation digest."""
+        want = self.settings.expect_digest.strip()
+        if not want:
+            return
+        found = (self.call("server.info", None) or {}).get("digest")
+        if found != want:
+            where = self.settings.source.get("expect_digest")
+            raise CellError(f"the steamcell engine at {self.url} reports the validation digest "
+                            f"{found}, not the expected {want} (from {where}): a different or "
+                            "unvalidated build, so no cell is computed", "engine")
 
     def describe(self) -> str:
         if self.child is not None:
@@ -141,7 +169,17 @@ class Engine:
                             "https:// URL", "engine")
         self.url = url
         self.token = self.settings.token or None
-        # One call now, so a wrong address or token is reported at once.
+        if parts.scheme == "https":
+            ca_file = self.settings.ca_file or None
+            if ca_file and not os.path.isfile(os.path.expanduser(ca_file)):
+                raise CellError(f"the CA file '{ca_file}' (from {self.settings.source.get('ca_file')}) "
+                                "does not exist", "engine")
+            try:
+                self._tls = ssl.create_default_context(
+                    cafile=os.path.expanduser(ca_file) if ca_file else None)
+            except (ssl.SSLError, OSError) as e:
+                raise CellError(f"the CA file '{ca_file}' cannot be used: {e}", "engine") from None
+        # One call now, so a wrong address, certificate or token is reported at once.
         self.call("server.info", None)
 
     def _start_child(self) -> None:
@@ -237,8 +275,12 @@ class Engine:
     def _connection(self):
         if self._conn is None:
             parts = urllib.parse.urlsplit(self.url)
-            cls = http.client.HTTPSConnection if parts.scheme == "https" else http.client.HTTPConnection
-            self._conn = cls(parts.hostname, parts.port, timeout=CALL_TIMEOUT_S)
+            if parts.scheme == "https":
+                self._conn = http.client.HTTPSConnection(parts.hostname, parts.port,
+                                                         timeout=CALL_TIMEOUT_S, context=self._tls)
+            else:
+                self._conn = http.client.HTTPConnection(parts.hostname, parts.port,
+                                                        timeout=CALL_TIMEOUT_S)
         return self._conn
 
     def _headers(self, content_type=None):
@@ -281,6 +323,10 @@ class Engine:
                         "recalculate to start it again")
             return f"the embedded steamcell engine does not answer ({e})"
         where = self.settings.source.get("server_url", "the add-in's options")
+        if isinstance(e, ssl.SSLCertVerificationError):
+            return (f"the steamcell server at {self.url} has a certificate this computer does not "
+                    f"trust ({e.verify_message}): set the CA file in {OPTIONS_PLACE} "
+                    f"({ENV_CA_FILE})")
         return (f"cannot reach the steamcell server at {self.url} ({_reason(e)}): start it "
                 f"(steamcell serve) or correct the server address in {where}")
 

@@ -2,6 +2,8 @@
 //! the supplementary backward equations. Internal units: MPa, K, kJ/kg, kJ/(kg K), m3/kg.
 pub mod b23;
 pub mod backward;
+#[cfg(debug_assertions)]
+pub mod fault;
 mod powers;
 pub mod region1;
 pub mod region2;

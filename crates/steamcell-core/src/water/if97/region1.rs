@@ -19,6 +19,29 @@ const Y_LO: i32 = j_min(&TABLE_2) - 2;
 const NY: usize = (j_max(&TABLE_2) - Y_LO + 1) as usize;
 const TERMS: [Term2; TABLE_2.len()] = prepare2(&TABLE_2, X_LO, Y_LO);
 
+/// Debug builds only: Table 2 with the fault of [`super::fault`] (n_3 changed in its eighth
+/// digit), read instead of [`TERMS`] once the fault is switched on.
+#[cfg(debug_assertions)]
+const TERMS_FAULTY: [Term2; TABLE_2.len()] = prepare2(&faulty_table_2(), X_LO, Y_LO);
+
+#[cfg(debug_assertions)]
+const fn faulty_table_2() -> [crate::water::tables::IJn; TABLE_2.len()] {
+    let mut t = TABLE_2;
+    t[2].n *= 1.0 + super::fault::RELATIVE_CHANGE;
+    t
+}
+
+/// The coefficient table region 1 computes with: [`TERMS`] (in a debug build, the faulty table
+/// once [`super::fault`] is on).
+#[inline(always)]
+fn terms() -> &'static [Term2; TABLE_2.len()] {
+    #[cfg(debug_assertions)]
+    if super::fault::on() {
+        return &TERMS_FAULTY;
+    }
+    &TERMS
+}
+
 /// Derivatives of gamma(pi, tau) = g/(RT), pi = p/16.53 MPa, tau = 1386 K/T
 /// (R7-97(2012) Eq. (7), Table 4).
 pub fn derivs(p: f64, t: f64) -> GibbsDerivs {
@@ -35,7 +58,7 @@ fn derivs_order<const SECOND: bool>(p: f64, t: f64) -> GibbsDerivs {
     let pi = p / P_STAR;
     let tau = T_STAR / t;
     // gamma = sum n (7.1 - pi)^I (tau - 1.222)^J; d(7.1 - pi)/dpi = -1.
-    let s = sum2_order::<NX, NY, SECOND>(&TERMS, 7.1 - pi, X_LO, tau - 1.222, Y_LO);
+    let s = sum2_order::<NX, NY, SECOND>(terms(), 7.1 - pi, X_LO, tau - 1.222, Y_LO);
     GibbsDerivs {
         g: s.s,
         g_p: -s.s_x,
