@@ -136,6 +136,28 @@ fn code_table_is_unique_and_own_codes_avoid_the_reserved_range() {
     );
 }
 
+/// The README's table of error codes lists every own code with its kind, and the five
+/// JSON-RPC ones, so that the documented table cannot drift from `ERROR_CODES`.
+#[test]
+fn the_readme_lists_every_error_code() {
+    let readme = include_str!("../../README.md");
+    for (code, kind, _) in ERROR_CODES {
+        if *code > 0 {
+            assert!(
+                readme.contains(&format!("| {code} | {kind} |")),
+                "README's error table lacks {code} {kind}"
+            );
+        } else {
+            assert!(
+                readme
+                    .lines()
+                    .any(|l| l.starts_with('|') && l.contains(&code.to_string())),
+                "README's error table lacks {code}"
+            );
+        }
+    }
+}
+
 #[test]
 fn params_decoding_names_the_field() {
     #[derive(serde::Deserialize, Debug)]

@@ -7,7 +7,9 @@
 //! - JSON (serde, serde_json, `json!`, schemars) appears only in `src/api` and `src/server`;
 //! - every Rust module of the workspace (sources, tests, benches, examples) opens with its `//!`
 //!   doc;
-//! - every method of the registry has a one-line summary and a description.
+//! - every method of the registry has a one-line summary and a description;
+//! - no code, script or data file of the checkout refers to the developers' `../shared` folder
+//!   (a user's clone has none: what the project uses is copied into it).
 //!
 //! Each scanner is a plain function over (path, text) so that its own test can show it fails
 //! on a bad text: a tidy test that cannot fail is a defect.
@@ -211,6 +213,71 @@ fn every_method_is_described() {
     }
 }
 
+/// The file kinds that run or feed a build, a test or the server (documents may name the
+/// folder when they say that nothing reads it).
+const CODE_EXTENSIONS: &[&str] = &[
+    "rs", "py", "sh", "js", "mjs", "toml", "json", "yml", "yaml", "cfg", "xml", "xcu", "xcs",
+    "idl", "html", "service", "R", "r",
+];
+
+/// Folders that are not the project's own text: build output, environments, dependencies.
+const SKIPPED_DIRS: &[&str] = &["target", ".git", ".venv", "node_modules", "__pycache__"];
+
+fn code_files(dir: &Path, out: &mut Vec<PathBuf>) {
+    let Ok(entries) = std::fs::read_dir(dir) else {
+        return;
+    };
+    for entry in entries {
+        let path = entry.unwrap().path();
+        let name = path.file_name().unwrap().to_string_lossy().to_string();
+        if path.is_dir() {
+            if !SKIPPED_DIRS.contains(&name.as_str()) && !name.starts_with(".venv") {
+                code_files(&path, out);
+            }
+        } else if path
+            .extension()
+            .is_some_and(|e| CODE_EXTENSIONS.contains(&e.to_string_lossy().as_ref()))
+            || name == "Dockerfile"
+            || name == "run"
+        {
+            out.push(path);
+        }
+    }
+}
+
+/// The lines of `text` that name the developers' shared folder.
+fn shared_folder_uses(path: &Path, text: &str) -> Vec<String> {
+    text.lines()
+        .enumerate()
+        .filter(|(_, l)| l.contains("../shared") || l.contains("/work/shared"))
+        .map(|(i, l)| format!("{}:{}: {}", path.display(), i + 1, l.trim()))
+        .collect()
+}
+
+#[test]
+fn nothing_reads_the_shared_folder() {
+    let mut files = Vec::new();
+    code_files(root(), &mut files);
+    assert!(
+        files.len() > 100,
+        "the checkout's files were not found ({})",
+        files.len()
+    );
+    // This file names the folder to look for it.
+    let this = root().join("tests/it/tidy.rs");
+    let bad: Vec<String> = files
+        .iter()
+        .filter(|f| **f != this)
+        .filter_map(|f| std::fs::read_to_string(f).ok().map(|t| (f, t)))
+        .flat_map(|(f, t)| shared_folder_uses(f.strip_prefix(root()).unwrap_or(f), &t))
+        .collect();
+    assert!(
+        bad.is_empty(),
+        "files that refer to ../shared (copy what they need into the project):\n{}",
+        bad.join("\n")
+    );
+}
+
 /// The scanners find what they look for (each tidy test above can fail).
 #[test]
 fn the_scanners_catch_what_they_look_for() {
@@ -225,6 +292,11 @@ fn the_scanners_catch_what_they_look_for() {
     assert_eq!(json_uses(p, "let v = json!({});\n").len(), 1);
     assert_eq!(json_uses(p, "#[derive(serde::Serialize)]\n").len(), 1);
     assert!(json_uses(p, "// serde_json is named in a comment\n").is_empty());
+    assert_eq!(
+        shared_folder_uses(p, "x = open('../shared/reference/a.json')\n").len(),
+        1
+    );
+    assert!(shared_folder_uses(p, "x = open('tests/data/a.json')\n").is_empty());
     assert!(has_module_doc("\n//! Doc.\nfn f() {}\n"));
     assert!(!has_module_doc("/// item doc\nfn f() {}\n"));
     assert!(!has_module_doc("use x;\n//! late\n"));
