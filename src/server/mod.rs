@@ -744,6 +744,32 @@ struct Accept {
     first_request_timeout: std::time::Duration,
 }
 
+/// jsonrpsee's per-connection tower service as the accept loop serves it (one name for the
+/// bounds that `Accept::run`, `Conn` and `ToHyper` share).
+trait RpcService:
+    tower::Service<
+        HttpRequest,
+        Response = jsonrpsee::server::HttpResponse,
+        Error = jsonrpsee::core::BoxError,
+        Future: Send + 'static,
+    > + Clone
+    + Send
+    + 'static
+{
+}
+
+impl<S> RpcService for S where
+    S: tower::Service<
+            HttpRequest,
+            Response = jsonrpsee::server::HttpResponse,
+            Error = jsonrpsee::core::BoxError,
+            Future: Send + 'static,
+        > + Clone
+        + Send
+        + 'static
+{
+}
+
 impl Accept {
     /// Accepts connections until `stop`; each is served on its own task (after its TLS
     /// handshake) by a fresh service from `make` (one guard per connection: the connection is
@@ -751,14 +777,7 @@ impl Accept {
     async fn run<S, F>(self, make: F, stop: StopHandle)
     where
         F: Fn(StopHandle) -> S + Send + 'static,
-        S: tower::Service<
-                HttpRequest,
-                Response = jsonrpsee::server::HttpResponse,
-                Error = jsonrpsee::core::BoxError,
-            > + Clone
-            + Send
-            + 'static,
-        S::Future: Send + 'static,
+        S: RpcService,
     {
         let stopped = stop.clone().shutdown();
         tokio::pin!(stopped);
@@ -803,14 +822,7 @@ struct Conn {
 impl Conn {
     async fn serve<S>(self, socket: tokio::net::TcpStream, peer: SocketAddr, service: S)
     where
-        S: tower::Service<
-                HttpRequest,
-                Response = jsonrpsee::server::HttpResponse,
-                Error = jsonrpsee::core::BoxError,
-            > + Clone
-            + Send
-            + 'static,
-        S::Future: Send + 'static,
+        S: RpcService,
     {
         let Some(tls) = self.tls.clone() else {
             return self.http(socket, service).await;
@@ -845,14 +857,7 @@ impl Conn {
     async fn http<I, S>(self, io: I, service: S)
     where
         I: tokio::io::AsyncRead + tokio::io::AsyncWrite + Send + Unpin + 'static,
-        S: tower::Service<
-                HttpRequest,
-                Response = jsonrpsee::server::HttpResponse,
-                Error = jsonrpsee::core::BoxError,
-            > + Clone
-            + Send
-            + 'static,
-        S::Future: Send + 'static,
+        S: RpcService,
     {
         let seen = Arc::new(tokio::sync::Notify::new());
         let hyper_service = ToHyper {
@@ -896,14 +901,7 @@ struct ToHyper<S> {
 
 impl<S> hyper::service::Service<::http::Request<hyper::body::Incoming>> for ToHyper<S>
 where
-    S: tower::Service<
-            HttpRequest,
-            Response = jsonrpsee::server::HttpResponse,
-            Error = jsonrpsee::core::BoxError,
-        > + Clone
-        + Send
-        + 'static,
-    S::Future: Send + 'static,
+    S: RpcService,
 {
     type Response = jsonrpsee::server::HttpResponse;
     type Error = jsonrpsee::core::BoxError;

@@ -9,10 +9,8 @@ Certificates are made here with the openssl command. Check value: IAPWS R7-97(20
 p = 3 MPa, T = 300 K: h = 115.331273 kJ/kg.
 """
 
-import hashlib
 import os
 import re
-import shutil
 import subprocess
 import sys
 from pathlib import Path
@@ -21,9 +19,11 @@ import pytest
 
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent / "src" / "pythonpath"))
+sys.path.insert(0, str(HERE.parents[1]))  # clients/, for testcerts
 
 from steamcell_sheet.cells import CellError  # noqa: E402
 from steamcell_sheet.engine import Engine, Settings  # noqa: E402
+from testcerts import make_ca_and_cert, token_line  # noqa: E402
 
 REPO = HERE.parents[2]
 BIN = os.environ.get("STEAMCELL_BIN") or str(REPO / "target" / "debug" / "steamcell")
@@ -31,37 +31,14 @@ TOKEN = "calc-team-test-token-0123456789abcdef"
 H_TABLE5 = 115.331273
 
 
-def _openssl(*args, cwd):
-    subprocess.run(["openssl", *args], cwd=cwd, check=True, capture_output=True)
-
-
-def make_ca_and_cert(d: Path, name: str):
-    assert shutil.which("openssl"), "the openssl command is needed (clients/run-tests.sh installs it)"
-    _openssl("req", "-x509", "-newkey", "ec", "-pkeyopt", "ec_paramgen_curve:prime256v1",
-             "-nodes", "-days", "2", "-subj", f"/CN={name} test CA",
-             "-addext", "basicConstraints=critical,CA:TRUE",
-             "-addext", "keyUsage=critical,keyCertSign,cRLSign",
-             "-keyout", f"{name}-ca-key.pem", "-out", f"{name}-ca.pem", cwd=d)
-    _openssl("req", "-newkey", "ec", "-pkeyopt", "ec_paramgen_curve:prime256v1", "-nodes",
-             "-subj", "/CN=steamcell test server", "-keyout", f"{name}-key.pem",
-             "-out", f"{name}.csr", cwd=d)
-    (d / f"{name}.ext").write_text(
-        "subjectAltName=IP:127.0.0.1,DNS:localhost\nbasicConstraints=CA:FALSE\n"
-        "keyUsage=digitalSignature\nextendedKeyUsage=serverAuth\n")
-    _openssl("x509", "-req", "-in", f"{name}.csr", "-CA", f"{name}-ca.pem",
-             "-CAkey", f"{name}-ca-key.pem", "-CAcreateserial", "-days", "2",
-             "-extfile", f"{name}.ext", "-out", f"{name}-cert.pem", cwd=d)
-    return str(d / f"{name}-ca.pem"), str(d / f"{name}-cert.pem"), str(d / f"{name}-key.pem")
-
-
 @pytest.fixture(scope="module")
 def team(tmp_path_factory):
     assert Path(BIN).is_file(), f"steamcell binary not found at {BIN}"
     d = tmp_path_factory.mktemp("calc-team")
-    ca, cert, key = make_ca_and_cert(d, "plant")
-    other_ca, _, _ = make_ca_and_cert(d, "elsewhere")
+    ca, cert, key = map(str, make_ca_and_cert(d, "plant"))
+    other_ca = str(make_ca_and_cert(d, "elsewhere")[0])
     tokens = d / "tokens"
-    tokens.write_text(f"calc sha256:{hashlib.sha256(TOKEN.encode()).hexdigest()}\n")
+    tokens.write_text(token_line("calc", TOKEN) + "\n")
     proc = subprocess.Popen([BIN, "serve", "--listen", "127.0.0.1:0", "--tls-cert", cert,
                              "--tls-key", key, "--tokens-file", str(tokens)],
                             stdout=subprocess.PIPE, stderr=subprocess.DEVNULL, text=True)

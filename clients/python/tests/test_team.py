@@ -11,10 +11,9 @@ T = 300 K: h = 115.331273 kJ/kg.
 """
 
 import asyncio
-import hashlib
 import re
-import shutil
 import subprocess
+import sys
 from pathlib import Path
 
 import pytest
@@ -22,37 +21,12 @@ import pytest
 import steamcell
 import steamcell.aio
 
+sys.path.insert(0, str(Path(__file__).resolve().parents[2]))
+from testcerts import make_ca_and_cert, token_line  # noqa: E402  (clients/testcerts.py)
+
 H_TABLE5 = 115.331273
 TOKEN = "python-team-test-token-7f6e5d4c3b2a1908"
 LIMITED = "python-limited-token-0a1b2c3d4e5f6a7b"
-
-
-def _openssl(*args, cwd):
-    subprocess.run(["openssl", *args], cwd=cwd, check=True, capture_output=True)
-
-
-def make_ca_and_cert(d: Path, name: str):
-    """A CA (name-ca.pem) and a server certificate signed by it (name-cert.pem, name-key.pem)."""
-    assert shutil.which("openssl"), "the openssl command is needed (clients/run-tests.sh installs it)"
-    _openssl("req", "-x509", "-newkey", "ec", "-pkeyopt", "ec_paramgen_curve:prime256v1",
-             "-nodes", "-days", "2", "-subj", f"/CN={name} test CA",
-             "-addext", "basicConstraints=critical,CA:TRUE",
-             "-addext", "keyUsage=critical,keyCertSign,cRLSign",
-             "-keyout", f"{name}-ca-key.pem", "-out", f"{name}-ca.pem", cwd=d)
-    _openssl("req", "-newkey", "ec", "-pkeyopt", "ec_paramgen_curve:prime256v1", "-nodes",
-             "-subj", "/CN=steamcell test server", "-keyout", f"{name}-key.pem",
-             "-out", f"{name}.csr", cwd=d)
-    (d / f"{name}.ext").write_text(
-        "subjectAltName=IP:127.0.0.1,DNS:localhost\nbasicConstraints=CA:FALSE\n"
-        "keyUsage=digitalSignature\nextendedKeyUsage=serverAuth\n")
-    _openssl("x509", "-req", "-in", f"{name}.csr", "-CA", f"{name}-ca.pem",
-             "-CAkey", f"{name}-ca-key.pem", "-CAcreateserial", "-days", "2",
-             "-extfile", f"{name}.ext", "-out", f"{name}-cert.pem", cwd=d)
-    return d / f"{name}-ca.pem", d / f"{name}-cert.pem", d / f"{name}-key.pem"
-
-
-def token_line(name: str, token: str, options: str = "") -> str:
-    return f"{name} sha256:{hashlib.sha256(token.encode()).hexdigest()} {options}".rstrip()
 
 
 @pytest.fixture(scope="module")

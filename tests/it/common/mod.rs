@@ -252,41 +252,53 @@ impl Ws {
 
     /// Sends one text message (masked, as a client must) and returns the next text message.
     pub fn call(&mut self, text: &str) -> String {
-        let payload = text.as_bytes();
-        let mask = [0x5a, 0x17, 0xc3, 0x08];
-        let mut frame = vec![0x81u8];
-        match payload.len() {
-            n if n < 126 => frame.push(0x80 | n as u8),
-            n if n <= 0xffff => {
-                frame.push(0x80 | 126);
-                frame.extend_from_slice(&(n as u16).to_be_bytes());
-            }
-            n => {
-                frame.push(0x80 | 127);
-                frame.extend_from_slice(&(n as u64).to_be_bytes());
-            }
+        self.s
+            .write_all(&ws_text_frame(text, [0x5a, 0x17, 0xc3, 0x08]))
+            .unwrap();
+        ws_next_text(&mut self.r)
+    }
+}
+
+/// One masked WebSocket text frame (RFC 6455 5.2) carrying `text`.
+pub fn ws_text_frame(text: &str, mask: [u8; 4]) -> Vec<u8> {
+    let payload = text.as_bytes();
+    let mut frame = vec![0x81u8];
+    match payload.len() {
+        n if n < 126 => frame.push(0x80 | n as u8),
+        n if n <= 0xffff => {
+            frame.push(0x80 | 126);
+            frame.extend_from_slice(&(n as u16).to_be_bytes());
         }
-        frame.extend_from_slice(&mask);
-        frame.extend(payload.iter().enumerate().map(|(i, b)| b ^ mask[i % 4]));
-        self.s.write_all(&frame).unwrap();
-        loop {
-            let mut head = [0u8; 2];
-            std::io::Read::read_exact(&mut self.r, &mut head).unwrap();
-            let mut len = u64::from(head[1] & 0x7f);
-            if len == 126 {
-                let mut b = [0u8; 2];
-                std::io::Read::read_exact(&mut self.r, &mut b).unwrap();
-                len = u64::from(u16::from_be_bytes(b));
-            } else if len == 127 {
-                let mut b = [0u8; 8];
-                std::io::Read::read_exact(&mut self.r, &mut b).unwrap();
-                len = u64::from_be_bytes(b);
-            }
-            let mut body = vec![0u8; len as usize];
-            std::io::Read::read_exact(&mut self.r, &mut body).unwrap();
-            if head[0] & 0x0f == 1 {
-                return String::from_utf8(body).unwrap();
-            }
+        n => {
+            frame.push(0x80 | 127);
+            frame.extend_from_slice(&(n as u64).to_be_bytes());
+        }
+    }
+    frame.extend_from_slice(&mask);
+    frame.extend(payload.iter().enumerate().map(|(i, b)| b ^ mask[i % 4]));
+    frame
+}
+
+/// Reads WebSocket frames (unmasked, as a server sends them) until a text frame, and returns
+/// its text; other frames (pings) are skipped.
+pub fn ws_next_text(r: &mut impl std::io::Read) -> String {
+    loop {
+        let mut head = [0u8; 2];
+        r.read_exact(&mut head).unwrap();
+        let mut len = u64::from(head[1] & 0x7f);
+        if len == 126 {
+            let mut b = [0u8; 2];
+            r.read_exact(&mut b).unwrap();
+            len = u64::from(u16::from_be_bytes(b));
+        } else if len == 127 {
+            let mut b = [0u8; 8];
+            r.read_exact(&mut b).unwrap();
+            len = u64::from_be_bytes(b);
+        }
+        let mut body = vec![0u8; len as usize];
+        r.read_exact(&mut body).unwrap();
+        if head[0] & 0x0f == 1 {
+            return String::from_utf8(body).unwrap();
         }
     }
 }

@@ -204,43 +204,10 @@ impl<S: Read + Write> AnyWs<S> {
 
     /// Sends one text message and returns the next text message.
     pub fn call(&mut self, text: &str) -> String {
-        let payload = text.as_bytes();
-        let mask = [0x21, 0x7e, 0x03, 0x5c];
-        let mut frame = vec![0x81u8];
-        match payload.len() {
-            n if n < 126 => frame.push(0x80 | n as u8),
-            n if n <= 0xffff => {
-                frame.push(0x80 | 126);
-                frame.extend_from_slice(&(n as u16).to_be_bytes());
-            }
-            n => {
-                frame.push(0x80 | 127);
-                frame.extend_from_slice(&(n as u64).to_be_bytes());
-            }
-        }
-        frame.extend_from_slice(&mask);
-        frame.extend(payload.iter().enumerate().map(|(i, b)| b ^ mask[i % 4]));
+        let frame = super::ws_text_frame(text, [0x21, 0x7e, 0x03, 0x5c]);
         self.r.get_mut().write_all(&frame).unwrap();
         self.r.get_mut().flush().unwrap();
-        loop {
-            let mut head = [0u8; 2];
-            self.r.read_exact(&mut head).unwrap();
-            let mut len = u64::from(head[1] & 0x7f);
-            if len == 126 {
-                let mut b = [0u8; 2];
-                self.r.read_exact(&mut b).unwrap();
-                len = u64::from(u16::from_be_bytes(b));
-            } else if len == 127 {
-                let mut b = [0u8; 8];
-                self.r.read_exact(&mut b).unwrap();
-                len = u64::from_be_bytes(b);
-            }
-            let mut body = vec![0u8; len as usize];
-            self.r.read_exact(&mut body).unwrap();
-            if head[0] & 0x0f == 1 {
-                return String::from_utf8(body).unwrap();
-            }
-        }
+        super::ws_next_text(&mut self.r)
     }
 }
 
