@@ -166,6 +166,11 @@ fn sighup_reloads_revokes_and_keeps_connections() {
     });
     let log = s.stderr_text();
     assert!(log.contains("line 2"), "{log}");
+    // A log that is not a terminal (a file, the journal) holds no colour escape codes.
+    assert!(
+        !log.contains('\u{1b}'),
+        "escape codes in the log file: {log:?}"
+    );
     assert_eq!(
         post(&s.addr, &[&bearer(CAROL)], CHECK_REQUEST.as_bytes()).status,
         200
@@ -401,11 +406,21 @@ fn steamcell_token_mints_a_working_line() {
     let (code, _, err) = run(&["token", "x", "--methods", "water.nope"], &[]);
     assert_eq!(code, Some(1));
     assert!(err.contains("unknown method 'water.nope'"), "{err}");
-    // Without --token-out both are printed.
-    let (code, out, _) = run(&["token", "eve"], &[]);
+    // Without --token-out the token goes to stderr and only the line to stdout, so that
+    // `steamcell token eve >> tokens` (the README's command) appends a line the server takes.
+    let (code, out, err) = run(&["token", "eve", "--methods", "water.*"], &[]);
     assert_eq!(code, Some(0));
-    assert!(
-        out.contains("token for eve") && out.contains("tokens file line: eve sha256:"),
-        "{out}"
+    let token = err
+        .trim()
+        .strip_prefix("token for eve (give it to them; it is kept nowhere): ")
+        .unwrap_or_else(|| panic!("the token on stderr: {err}"));
+    assert_eq!(token.len(), 64, "{err}");
+    assert_eq!(
+        out,
+        format!("{}\n", token_line("eve", token, "methods=water.*"))
     );
+    let appended = dir.join("appended");
+    std::fs::write(&appended, format!("{line}{out}")).unwrap();
+    let s = start_logged(&dir, &["--tokens-file", appended.to_str().unwrap()], &[]);
+    assert_check(&post(&s.addr, &[&bearer(token)], CHECK_REQUEST.as_bytes()).json());
 }
