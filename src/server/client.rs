@@ -215,8 +215,13 @@ impl Remote {
                 .to_string();
         let (status, bytes) = self.post(body).await.map_err(ClientError::Transport)?;
         let answer: Value = serde_json::from_slice(&bytes).map_err(|_| {
+            let hint = if status == 401 {
+                " (give the token with --token-file FILE or STEAMCELL_TOKEN)"
+            } else {
+                ""
+            };
             ClientError::Transport(format!(
-                "HTTP {status} from {}: {}",
+                "HTTP {status} from {}: {}{hint}",
                 self.target.authority,
                 String::from_utf8_lossy(&bytes[..bytes.len().min(300)]).trim()
             ))

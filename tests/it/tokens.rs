@@ -423,4 +423,26 @@ fn steamcell_token_mints_a_working_line() {
     std::fs::write(&appended, format!("{line}{out}")).unwrap();
     let s = start_logged(&dir, &["--tokens-file", appended.to_str().unwrap()], &[]);
     assert_check(&post(&s.addr, &[&bearer(token)], CHECK_REQUEST.as_bytes()).json());
+    // `call --url` without the token says how to give it; with STEAMCELL_TOKEN it computes.
+    let url = format!("http://{}", s.addr);
+    let (code, _, err) = run(
+        &["call", "--url", &url, "water.saturation", "{\"p\": 1}"],
+        &[],
+    );
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("HTTP 401") && err.contains("--token-file FILE or STEAMCELL_TOKEN"),
+        "{err}"
+    );
+    let (code, out, err) = run(
+        &["call", "--url", &url, "water.saturation", "{\"p\": 1}"],
+        &[("STEAMCELL_TOKEN", token)],
+    );
+    assert_eq!(code, Some(0), "{err}");
+    // IAPWS R7-97(2012) Table 35: T_sat(1 MPa) = 453.035632 K.
+    let v: Value = serde_json::from_str(&out).unwrap();
+    assert!(
+        (v["T"].as_f64().unwrap() + 273.15 - 453.035632).abs() < 1e-5,
+        "{v}"
+    );
 }
