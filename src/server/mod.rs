@@ -305,7 +305,9 @@ pub struct TextChecked;
 /// `--max-batch-requests` calls, and params nested deeper than `--max-json-depth` (counting
 /// the request object and the batch array, as a scan of the whole text would) are refused with
 /// the same error as over HTTP and stdio. jsonrpsee's own batch limit answers another code
-/// without `data`, so it is off.
+/// without `data`, so it is off. On every transport it also answers a call of an unknown
+/// method (alone or in a batch) with [`unknown_method`]'s error instead of jsonrpsee's bare
+/// "Method not found" (stdio does the same in its loop).
 #[derive(Clone)]
 pub struct MessageLimits<S> {
     inner: S,
