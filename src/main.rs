@@ -90,8 +90,9 @@ enum Command {
         #[arg(long, value_name = "DIGEST")]
         expect_digest: Option<String>,
     },
-    /// Mint a new token for a tokens file: prints the token (give it to its user; it is kept
-    /// nowhere) and the line to add to the --tokens-file (its SHA-256 hash and options).
+    /// Mint a new token for a tokens file: prints the token on standard error (give it to its
+    /// user; it is kept nowhere) and the line to add to the --tokens-file (its SHA-256 hash and
+    /// options) on standard output, so `steamcell token NAME >> tokens` appends the line.
     Token {
         /// The token's name (the user or service), as the audit file will show it.
         name: String,
@@ -372,8 +373,11 @@ fn runtime() -> std::io::Result<tokio::runtime::Runtime> {
 }
 
 fn init_logs(level: &str) {
+    use std::io::IsTerminal;
     tracing_subscriber::fmt()
         .with_writer(std::io::stderr)
+        // Colours only on a terminal: a log file or the journal gets plain text.
+        .with_ansi(std::io::stderr().is_terminal())
         .with_env_filter(
             tracing_subscriber::EnvFilter::try_from_default_env().unwrap_or_else(|_| {
                 tracing_subscriber::EnvFilter::new(format!("warn,steamcell={level}"))
@@ -708,9 +712,12 @@ fn mint(
             }
             print_out(&line)
         }
-        None => print_out(&format!(
-            "token for {name} (give it to them; it is kept nowhere): {token}\ntokens file line: {line}"
-        )),
+        None => {
+            // The token goes to the terminal (stderr) and only the line to stdout, so that
+            // `steamcell token NAME >> tokens` appends a line the server accepts.
+            eprintln!("token for {name} (give it to them; it is kept nowhere): {token}");
+            print_out(&line)
+        }
     }
 }
 

@@ -16,9 +16,18 @@ res = r["result"]
 keys = ["specific_work", "power", "efficiency", "moisture", "superheat", "spray_flow", "flash_fraction",
         "vapour_flow", "liquid_flow", "steam_flow", "outlet_flow", "fuel_heat_input", "heat_to_steam", "blowdown_flow"]
 units = res.get("units", {})
+def unit(k):
+    # A field the map does not name is in its group'"'"'s unit: mass flows, heat flows.
+    if k in units:
+        return units[k]
+    if k.endswith("_flow"):
+        return units.get("flows", "")
+    if k in ("fuel_heat_input", "heat_to_steam"):
+        return units.get("heat", "")
+    return ""
 for k in keys:
     if k in res and res[k] is not None:
-        print("  %-16s %.4f %s" % (k, res[k], units.get(k, "")))
+        print("  %-16s %.4f %s" % (k, res[k], unit(k)))
 for side in ("outlet",):
     if side in res:
         o = res[side]

@@ -105,6 +105,32 @@ pub fn parse_url(url: &str) -> Result<Target, String> {
     })
 }
 
+/// What to do about a refused server certificate, after the TLS library's own words (which
+/// name the fault in its terms only, e.g. `CaUsedAsEndEntity`); empty for other failures.
+fn tls_hint(e: &std::io::Error) -> &'static str {
+    use rustls::{CertificateError as C, Error};
+    let Some(Error::InvalidCertificate(c)) = e.get_ref().and_then(|i| i.downcast_ref::<Error>())
+    else {
+        return "";
+    };
+    match c {
+        C::UnknownIssuer => {
+            ": the server's certificate is not signed by a CA this computer trusts; give that CA's certificate with --ca-file"
+        }
+        C::NotValidForName | C::NotValidForNameContext { .. } => {
+            ": the server's certificate does not name this host; call the server by a name or address its certificate holds"
+        }
+        C::Expired | C::ExpiredContext { .. } => ": the server's certificate has expired",
+        C::NotValidYet | C::NotValidYetContext { .. } => {
+            ": the server's certificate is not valid yet (check the clocks)"
+        }
+        c if format!("{c:?}").contains("CaUsedAsEndEntity") => {
+            ": the server's certificate is a CA certificate (basicConstraints CA:TRUE, what `openssl req -x509` makes unless told otherwise); the server needs one made with CA:FALSE (README, Team server)"
+        }
+        _ => "",
+    }
+}
+
 /// A server to call.
 pub struct Remote {
     target: Target,
@@ -139,7 +165,9 @@ impl Remote {
                 let stream = tokio_rustls::TlsConnector::from(Arc::clone(cfg))
                     .connect(name, tcp)
                     .await
-                    .map_err(|e| format!("TLS with {}:{} failed: {e}", t.host, t.port))?;
+                    .map_err(|e| {
+                        format!("TLS with {}:{} failed: {e}{}", t.host, t.port, tls_hint(&e))
+                    })?;
                 self.exchange(stream, body).await
             }
         }
@@ -187,8 +215,13 @@ impl Remote {
                 .to_string();
         let (status, bytes) = self.post(body).await.map_err(ClientError::Transport)?;
         let answer: Value = serde_json::from_slice(&bytes).map_err(|_| {
+            let hint = if status == 401 {
+                " (give the token with --token-file FILE or STEAMCELL_TOKEN)"
+            } else {
+                ""
+            };
             ClientError::Transport(format!(
-                "HTTP {status} from {}: {}",
+                "HTTP {status} from {}: {}{hint}",
                 self.target.authority,
                 String::from_utf8_lossy(&bytes[..bytes.len().min(300)]).trim()
             ))

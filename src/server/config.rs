@@ -99,12 +99,32 @@ fn line_of(text: &str, at: usize) -> usize {
         + 1
 }
 
+/// The key a `key = value` line sets, if line `line` (1-based) is one.
+fn key_on_line(text: &str, line: usize) -> Option<&str> {
+    let (key, _) = text.lines().nth(line.checked_sub(1)?)?.split_once('=')?;
+    let key = key.trim();
+    (!key.is_empty()
+        && key
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || c == '-' || c == '_'))
+    .then_some(key)
+}
+
 /// Parses a config file's text; `dir` is the directory relative paths are read from.
 pub fn parse(text: &str, dir: &Path) -> Result<ConfigFile, String> {
     let mut c: ConfigFile = toml::from_str(text).map_err(|e| {
         let message = e.message().trim().replace('\n', " ");
         match e.span() {
-            Some(span) => format!("line {}: {message}", line_of(text, span.start)),
+            Some(span) => {
+                let line = line_of(text, span.start);
+                // A value of the wrong type: the message names the type, not the key.
+                match key_on_line(text, line) {
+                    Some(key) if !message.contains(key) => {
+                        format!("line {line}: {key}: {message}")
+                    }
+                    _ => format!("line {line}: {message}"),
+                }
+            }
             None => message,
         }
     })?;
@@ -179,8 +199,15 @@ insecure-http = false
         assert!(e.contains("line 2"), "{e}");
         assert!(e.contains("max-body-byte"), "{e}");
         assert!(!e.contains('\n'), "one line: {e}");
-        let e = parse("max-batch-rows = \"many\"\n", Path::new(".")).unwrap_err();
-        assert!(e.contains("line 1"), "{e}");
+        // A value of the wrong type is named by its key too.
+        let e = parse(
+            "listen = \"127.0.0.1:1\"\nmax-batch-rows = \"many\"\n",
+            Path::new("."),
+        )
+        .unwrap_err();
+        assert!(e.starts_with("line 2: max-batch-rows: "), "{e}");
+        let e = parse("allow-host = \"calc.example\"\n", Path::new(".")).unwrap_err();
+        assert!(e.starts_with("line 1: allow-host: "), "{e}");
     }
 
     #[test]

@@ -710,7 +710,13 @@ fn route(path: &str, query: Option<&str>, sites: &Sites) -> Option<Route> {
                 ))),
             }
         }
-        _ => None,
+        // JSON-RPC (POST) and WebSocket live at "/"; a GET of any other path is no route.
+        "/" => None,
+        p => Some(Route::NotFound(format!(
+            "no route GET {p}; the routes: POST / (JSON-RPC; WebSocket), GET /cell/{{quantity}}, \
+             GET /site/{{name}}/{{quantity}}, POST /columns, GET /health, GET /schema, \
+             GET /metrics, GET /validation, GET /addin/manifest.xml"
+        ))),
     }
 }
 
@@ -902,7 +908,8 @@ mod tests {
         assert!(matches!(route("/cell/", None), Some(Route::NotFound(_))));
         assert!(matches!(route("/cell/h/x", None), Some(Route::NotFound(_))));
         assert_eq!(route("/", None), None);
-        assert_eq!(route("/other", None), None);
+        assert!(matches!(route("/other", None), Some(Route::NotFound(_))));
+        assert!(matches!(route("/columns", None), Some(Route::NotFound(_))));
     }
 
     #[test]

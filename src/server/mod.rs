@@ -32,7 +32,9 @@ use crate::api::metrics::{Denied, TlsFailure};
 use crate::api::site::Sites;
 use crate::api::tokens::{self, Identity, Tokens};
 use crate::api::{self, limits, ApiError, ServerCtx};
-use jsonrpsee::core::middleware::{Batch, Notification, ResponseFuture, RpcServiceT};
+use jsonrpsee::core::middleware::{
+    Batch, BatchEntry, BatchEntryErr, Notification, ResponseFuture, RpcServiceT,
+};
 use jsonrpsee::server::middleware::rpc::RpcServiceBuilder;
 use jsonrpsee::server::{
     stop_channel, BatchRequestConfig, HttpBody, HttpRequest, MethodResponse, Methods, RpcModule,
@@ -79,6 +81,13 @@ impl Caller {
 pub fn to_error_object(e: ApiError) -> ErrorObjectOwned {
     let code = i32::try_from(e.code).unwrap_or(api::codes::INTERNAL_ERROR as i32);
     ErrorObjectOwned::owned(code, e.message, Some(e.data))
+}
+
+/// The error of a call to a method the server does not have: the same object on every
+/// transport and in-process (`unknown method 'NAME'`, data `method`), where the JSON-RPC
+/// layer's own answer would be a bare "Method not found".
+pub fn unknown_method(name: &str) -> Option<ApiError> {
+    (!api::registry().iter().any(|m| m.name == name)).then(|| ApiError::method_not_found(name))
 }
 
 /// What the call log and the audit line record as a call's params.
@@ -296,7 +305,9 @@ pub struct TextChecked;
 /// `--max-batch-requests` calls, and params nested deeper than `--max-json-depth` (counting
 /// the request object and the batch array, as a scan of the whole text would) are refused with
 /// the same error as over HTTP and stdio. jsonrpsee's own batch limit answers another code
-/// without `data`, so it is off.
+/// without `data`, so it is off. On every transport it also answers a call of an unknown
+/// method (alone or in a batch) with [`unknown_method`]'s error instead of jsonrpsee's bare
+/// "Method not found" (stdio does the same in its loop).
 #[derive(Clone)]
 pub struct MessageLimits<S> {
     inner: S,
@@ -338,16 +349,34 @@ where
         } else {
             self.too_deep(1, std::iter::once(request.params.as_deref()))
         };
-        match refused {
-            Some(e) => ResponseFuture::ready(MethodResponse::error(
+        if let Some(e) = refused {
+            return ResponseFuture::ready(MethodResponse::error(
                 Id::Null,
                 to_error_object(refuse(&self.ctx, e)),
+            ));
+        }
+        match unknown_method(request.method_name()) {
+            Some(e) => ResponseFuture::ready(MethodResponse::error(
+                request.id().clone(),
+                to_error_object(e),
             )),
             None => ResponseFuture::future(self.inner.call(request)),
         }
     }
 
-    fn batch<'a>(&self, batch: Batch<'a>) -> impl Future<Output = MethodResponse> + Send + 'a {
+    fn batch<'a>(&self, mut batch: Batch<'a>) -> impl Future<Output = MethodResponse> + Send + 'a {
+        // A call of an unknown method answers the same error as alone.
+        for entry in batch.iter_mut() {
+            let unknown = match entry {
+                Ok(BatchEntry::Call(req)) => {
+                    unknown_method(req.method_name()).map(|e| (req.id().clone(), e))
+                }
+                _ => None,
+            };
+            if let Some((id, e)) = unknown {
+                *entry = Err(BatchEntryErr::new(id, to_error_object(e)));
+            }
+        }
         let checked = batch
             .iter()
             .flatten()

@@ -53,6 +53,16 @@ async fn handle_one(module: &RpcModule<ServerCtx>, item: Value) -> Option<String
         }
         return None;
     }
+    // A well-formed call of an unknown method answers the server's own error, as over HTTP.
+    if item.get("jsonrpc").and_then(Value::as_str) == Some("2.0") {
+        if let Some(e) = item
+            .get("method")
+            .and_then(Value::as_str)
+            .and_then(super::unknown_method)
+        {
+            return Some(error_line(id_of(&item), e.code, &e.message, Some(&e.data)));
+        }
+    }
     let text = item.to_string();
     match module.raw_json_request(&text, 1).await {
         Ok((response, _rx)) => Some(response.get().to_string()),

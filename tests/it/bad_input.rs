@@ -164,17 +164,17 @@ fn cases() -> Vec<(&'static str, Vec<u8>, Expect)> {
         (
             "unknown method",
             call("water.nope", "{}"),
-            Rpc(-32601, "not found"),
+            Rpc(-32601, "unknown method"),
         ),
         (
             "empty method name",
             call("", "{}"),
-            Rpc(-32601, "not found"),
+            Rpc(-32601, "unknown method"),
         ),
         (
             "method of another case",
             call("Water.State", "{}"),
-            Rpc(-32601, "not found"),
+            Rpc(-32601, "unknown method"),
         ),
         // Params of the wrong shape or type.
         (

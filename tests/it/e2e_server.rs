@@ -209,6 +209,8 @@ fn get_routes() {
         ("/cell/zz?p=1&T=3", 404),
         ("/cell/", 404),
         ("/cell/h/x", 404),
+        ("/cells/h?p=1&T=300", 404), // an unknown route (it answered 405 "POST is required")
+        ("/columns", 404),           // a POST route
     ];
     for (target, want) in cases {
         let (status, ctype, body) = http(&s.addr, "GET", target, "");
@@ -219,6 +221,11 @@ fn get_routes() {
             "{target}: {body:?}"
         );
     }
+    let (_, _, body) = http(&s.addr, "GET", "/cells/h", "");
+    assert!(
+        body.starts_with("no route GET /cells/h; the routes: ") && body.contains("GET /cell/"),
+        "{body}"
+    );
     // Still serving after the errors.
     let (status, _, _) = http(&s.addr, "GET", "/health", "");
     assert_eq!(status, 200);

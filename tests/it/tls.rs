@@ -104,6 +104,10 @@ fn a_client_trusting_another_ca_is_refused() {
     );
     assert_eq!(code, Some(1), "{err}");
     assert!(err.contains("TLS") && err.contains("certificate"), "{err}");
+    assert!(
+        err.contains("give that CA's certificate with --ca-file"),
+        "{err}"
+    );
     let (code, out, err) = run(
         &[
             "call",
@@ -122,6 +126,57 @@ fn a_client_trusting_another_ca_is_refused() {
         (v["h"].as_f64().unwrap() - 115.331273).abs() <= 0.5e-6,
         "{v}"
     );
+}
+
+/// A self-signed certificate with basicConstraints CA:TRUE (what `openssl req -x509` makes by
+/// default) serves, but the CLI's TLS library refuses it as a server certificate
+/// (RFC 5280 4.2.1.9: a CA certificate is for signing certificates); the error says what to
+/// do, and the same certificate made with CA:FALSE is accepted as its own trust anchor.
+#[test]
+fn a_ca_certificate_as_the_server_certificate_is_explained() {
+    use rcgen::{BasicConstraints, CertificateParams, IsCa, KeyPair};
+    let dir = temp_dir("tls-ca-as-server");
+    let run_with = |is_ca: IsCa, name: &str| {
+        let key = KeyPair::generate().unwrap();
+        let mut params = CertificateParams::new(vec!["127.0.0.1".to_string()]).unwrap();
+        params.is_ca = is_ca;
+        let cert = params.self_signed(&key).unwrap();
+        let cert_file = dir.join(format!("{name}-cert.pem"));
+        let key_file = dir.join(format!("{name}-key.pem"));
+        std::fs::write(&cert_file, cert.pem()).unwrap();
+        std::fs::write(&key_file, key.serialize_pem()).unwrap();
+        let s = start_logged(
+            &dir,
+            &[
+                "--tls-cert",
+                cert_file.to_str().unwrap(),
+                "--tls-key",
+                key_file.to_str().unwrap(),
+            ],
+            &[],
+        );
+        let url = format!("https://{}", s.addr);
+        run(
+            &[
+                "call",
+                "--url",
+                &url,
+                "--ca-file",
+                cert_file.to_str().unwrap(),
+                "server.info",
+            ],
+            &[],
+        )
+    };
+    let (code, _, err) = run_with(IsCa::Ca(BasicConstraints::Unconstrained), "ca");
+    assert_eq!(code, Some(1), "{err}");
+    assert!(
+        err.contains("is a CA certificate") && err.contains("CA:FALSE"),
+        "{err}"
+    );
+    let (code, out, err) = run_with(IsCa::ExplicitNoCa, "leaf");
+    assert_eq!(code, Some(0), "{err}");
+    assert!(out.contains("\"digest\""), "{out}");
 }
 
 #[test]

@@ -166,6 +166,11 @@ fn sighup_reloads_revokes_and_keeps_connections() {
     });
     let log = s.stderr_text();
     assert!(log.contains("line 2"), "{log}");
+    // A log that is not a terminal (a file, the journal) holds no colour escape codes.
+    assert!(
+        !log.contains('\u{1b}'),
+        "escape codes in the log file: {log:?}"
+    );
     assert_eq!(
         post(&s.addr, &[&bearer(CAROL)], CHECK_REQUEST.as_bytes()).status,
         200
@@ -401,11 +406,43 @@ fn steamcell_token_mints_a_working_line() {
     let (code, _, err) = run(&["token", "x", "--methods", "water.nope"], &[]);
     assert_eq!(code, Some(1));
     assert!(err.contains("unknown method 'water.nope'"), "{err}");
-    // Without --token-out both are printed.
-    let (code, out, _) = run(&["token", "eve"], &[]);
+    // Without --token-out the token goes to stderr and only the line to stdout, so that
+    // `steamcell token eve >> tokens` (the README's command) appends a line the server takes.
+    let (code, out, err) = run(&["token", "eve", "--methods", "water.*"], &[]);
     assert_eq!(code, Some(0));
+    let token = err
+        .trim()
+        .strip_prefix("token for eve (give it to them; it is kept nowhere): ")
+        .unwrap_or_else(|| panic!("the token on stderr: {err}"));
+    assert_eq!(token.len(), 64, "{err}");
+    assert_eq!(
+        out,
+        format!("{}\n", token_line("eve", token, "methods=water.*"))
+    );
+    let appended = dir.join("appended");
+    std::fs::write(&appended, format!("{line}{out}")).unwrap();
+    let s = start_logged(&dir, &["--tokens-file", appended.to_str().unwrap()], &[]);
+    assert_check(&post(&s.addr, &[&bearer(token)], CHECK_REQUEST.as_bytes()).json());
+    // `call --url` without the token says how to give it; with STEAMCELL_TOKEN it computes.
+    let url = format!("http://{}", s.addr);
+    let (code, _, err) = run(
+        &["call", "--url", &url, "water.saturation", "{\"p\": 1}"],
+        &[],
+    );
+    assert_eq!(code, Some(1), "{err}");
     assert!(
-        out.contains("token for eve") && out.contains("tokens file line: eve sha256:"),
-        "{out}"
+        err.contains("HTTP 401") && err.contains("--token-file FILE or STEAMCELL_TOKEN"),
+        "{err}"
+    );
+    let (code, out, err) = run(
+        &["call", "--url", &url, "water.saturation", "{\"p\": 1}"],
+        &[("STEAMCELL_TOKEN", token)],
+    );
+    assert_eq!(code, Some(0), "{err}");
+    // IAPWS R7-97(2012) Table 35: T_sat(1 MPa) = 453.035632 K.
+    let v: Value = serde_json::from_str(&out).unwrap();
+    assert!(
+        (v["T"].as_f64().unwrap() + 273.15 - 453.035632).abs() < 1e-5,
+        "{v}"
     );
 }

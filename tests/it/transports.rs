@@ -90,6 +90,49 @@ fn too_deep_request_is_refused_alike() {
     }
 }
 
+/// A method the server does not have: the same error object (naming the method) on every
+/// JSON-RPC transport, alone and inside a batch, as the in-process call path and the CLI
+/// give it (the JSON-RPC layer's own answer was a bare "Method not found" without `data`).
+#[test]
+fn unknown_method_is_refused_alike() {
+    let want = ApiError::method_not_found("water.nope");
+    let want = json!({"code": want.code, "message": want.message, "data": want.data});
+    assert_eq!(want["message"], "unknown method 'water.nope'");
+    let request = r#"{"jsonrpc":"2.0","id":3,"method":"water.nope","params":{}}"#;
+    let (status, [http, ws, stdio]) = over_every_transport(request);
+    assert_eq!(status, 200);
+    assert_eq!(http, want);
+    assert_eq!(ws, http, "WebSocket");
+    assert_eq!(stdio, http, "stdio");
+    let in_process = steamcell::api::call("water.nope", json!({})).unwrap_err();
+    assert_eq!(api_error(&http), in_process);
+
+    // In a batch, beside a call that computes; the answer keeps the call's id.
+    let batch = r#"[{"jsonrpc":"2.0","id":4,"method":"water.nope","params":{}},
+        {"jsonrpc":"2.0","id":5,"method":"water.state","params":{"given":{"p":3,"T":"300 K"}}}]"#;
+    let s = start(&[], &[]);
+    let answers = [
+        post(&s.addr, &[], batch.as_bytes()).text(),
+        Ws::connect(&s.addr).call(batch),
+        StdioProc::start().call(&batch.replace('\n', " ")),
+    ];
+    for text in answers {
+        let v: Value = serde_json::from_str(&text).unwrap();
+        let by_id = |id: i64| {
+            v.as_array()
+                .unwrap()
+                .iter()
+                .find(|a| a["id"] == id)
+                .unwrap_or_else(|| panic!("no answer {id}: {v}"))
+                .clone()
+        };
+        assert_eq!(by_id(4)["error"], want, "{text}");
+        // IAPWS R7-97(2012) Table 5: h = 115.331273 kJ/kg at 3 MPa, 300 K.
+        let h = by_id(5)["result"]["h"].as_f64().unwrap();
+        assert!((h - 115.331273).abs() < 1e-6, "{h}");
+    }
+}
+
 /// A bad param (a negative pressure, below the IF97 range): the same error object on every
 /// JSON-RPC transport, and on `GET /cell` the same message with the status its code maps to.
 #[test]

@@ -90,6 +90,25 @@ def test_a_token_outside_its_allow_list_is_forbidden(team):
         assert e.value.data["reason"] == "method"
 
 
+def test_a_wrong_token_is_named_as_text(team, monkeypatch):
+    """The server's one-line reason as text (it was shown as a bytes repr, b'...') and what to do."""
+    url, ca, _, _ = team
+    monkeypatch.delenv("STEAMCELL_TOKEN", raising=False)
+    with steamcell.connect(url, token="not-a-token", ca_file=ca) as c:
+        with pytest.raises(steamcell.TransportError) as e:
+            c.state(p="3 MPa", T="300 K")
+    msg = str(e.value)
+    assert "HTTP 401" in msg and "missing or wrong token" in msg, msg
+    assert "b'" not in msg and "token=" in msg, msg
+
+    async def main():
+        async with steamcell.aio.connect(url, ca_file=ca) as a:
+            await a.state(p="3 MPa", T="300 K")
+    with pytest.raises(steamcell.TransportError) as e:
+        asyncio.run(main())
+    assert "missing or wrong token" in str(e.value) and "b'" not in str(e.value), str(e.value)
+
+
 def test_pinning_refuses_another_digest(team, binary):
     url, ca, _, _ = team
     with steamcell.connect(url, token=TOKEN, ca_file=ca) as c:

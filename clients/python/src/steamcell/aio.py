@@ -150,7 +150,7 @@ class AsyncHttp:
         body = json.dumps(req, allow_nan=False).encode()
         status, _, data = await self.request("POST", self.path, body)
         if status != 200 and not data.strip().startswith(b"{"):
-            raise errors.TransportError(f"HTTP {status} from {self.url}: {data[:200]!r}")
+            raise transport.http_failure(status, self.url, data)
         try:
             return json.loads(data)
         except ValueError as e:

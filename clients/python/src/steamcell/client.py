@@ -415,7 +415,7 @@ class Client:
                 try:
                     err = _json.loads(data)
                 except ValueError:
-                    raise errors.TransportError(f"HTTP {status} from /columns: {data[:200]!r}")
+                    raise transport.http_failure(status, "/columns", data)
                 raise errors.from_rpc(err)
             (hl,) = struct.unpack_from("<I", data, 0)
             head = _json.loads(data[4:4 + hl])

@@ -32,6 +32,15 @@ _LISTEN_RE = re.compile(r"listening on http://(\S+)")
 ENV_CA_FILE = "STEAMCELL_CA_FILE"
 
 
+def http_failure(status: int, where: str, data: bytes) -> TransportError:
+    """The error of a non-JSON answer: the status and the server's one-line reason as text."""
+    text = data[:300].decode("utf-8", "replace").strip()
+    hint = ""
+    if status == 401:
+        hint = " (give the token: steamcell.connect(url, token=...) or env STEAMCELL_TOKEN)"
+    return TransportError(f"HTTP {status} from {where}: {text}{hint}")
+
+
 def tls_context(ca_file: Optional[str] = None) -> ssl.SSLContext:
     """The TLS context of an https:// server: certificates are verified against ``ca_file``
     (PEM; default env ``STEAMCELL_CA_FILE``), else against the system's trust store, and the
@@ -220,7 +229,7 @@ class HttpTransport:
         status, _, data = self.request("POST", self.path, body,
                                        {"Content-Type": "application/json"})
         if status != 200 and not data.strip().startswith(b"{"):
-            raise TransportError(f"HTTP {status} from {self.url}: {data[:200]!r}")
+            raise http_failure(status, self.url, data)
         try:
             return json.loads(data)
         except ValueError as e:
