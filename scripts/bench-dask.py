@@ -34,7 +34,7 @@ def main():
         import dask.dataframe as dd
         from distributed import Client, LocalCluster
         with LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
-                          dashboard_address=None) as cl, Client(cl):
+                          dashboard_address=":0") as cl, Client(cl):
             ddf = dd.from_pandas(pdf, npartitions=20).persist()   # data already on the workers
             warm = c.batch(ddf.partitions[:2], want=want).compute()   # engines started
             t = time.perf_counter()

@@ -20,7 +20,7 @@ ROWS = 2_000_000
 @pytest.fixture(scope="module")
 def cluster():
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
-                                  dashboard_address=None) as cl, distributed.Client(cl) as dc:
+                                  dashboard_address=":0") as cl, distributed.Client(cl) as dc:
         yield dc
 
 
@@ -119,7 +119,7 @@ def test_a_lost_engine_is_named_and_nothing_is_dropped(cluster, binary):
 def test_engines_stop_with_the_cluster(binary):
     import os
     with distributed.LocalCluster(n_workers=1, threads_per_worker=1, processes=True,
-                                  dashboard_address=None) as cl, distributed.Client(cl) as dc:
+                                  dashboard_address=":0") as cl, distributed.Client(cl) as dc:
         ddf = dd.from_pandas(frame(1000), npartitions=2)
         sd.batch(ddf, given={"p": "p_MPa", "T": "T_C"}, want=["h"], binary=binary).compute()
         pids = [e["pid"] for v in dc.run(sd.engines).values() for e in v]
