@@ -600,6 +600,40 @@ fn nominal_examples_give_no_warnings() {
     }
 }
 
+/// Dry saturated steam (x = 1) is not wet: a site's boiler making it and the header it feeds
+/// gave `wet_steam` ("x = 1.0000") before issue 21; a header a little wetter still warns.
+#[test]
+fn dry_saturated_steam_is_not_warned_as_wet() {
+    let site = |x: f64| {
+        json!({"network": {
+            "units": {
+                "MK": { "kind": "makeup", "T": "20 degC" },
+                "P": { "kind": "pump", "p": "12 bar", "efficiency": 0.7 },
+                "B": { "kind": "boiler", "efficiency": 0.85 },
+                "H": { "kind": "header", "p": "10 bar" },
+                "U": { "kind": "user", "demand": "1 kg/s", "return_T": "80 degC" }
+            },
+            "streams": {
+                "mk_p": { "from": "MK", "to": "P" },
+                "p_b": { "from": "P", "to": "B" },
+                "b_h": { "from": "B", "to": "H", "x": x },
+                "h_u": { "from": "H", "to": "U" }
+            }
+        }})
+    };
+    let r = ok("balance.solve", site(1.0));
+    assert!(codes(&r).is_empty(), "{}", r["warnings"]);
+    // 0.1 % moisture is wet steam, at the boiler and at the header
+    let r = ok("balance.solve", site(0.999));
+    let wet: Vec<&Value> = r["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|w| w["code"] == "wet_steam")
+        .collect();
+    assert_eq!(wet.len(), 2, "{}", r["warnings"]);
+}
+
 // ---------------------------------------------------------------- property tests
 
 /// The smallest hot-minus-cold temperature difference along a counterflow exchanger with
