@@ -1075,6 +1075,10 @@ fn units_used(ctx: &Ctx) -> BTreeMap<String, String> {
     u.insert("heat".into(), ctx.unit("heat", Dim::HeatFlow).into());
     u.insert("energy".into(), ctx.unit("energy", Dim::HeatFlow).into());
     u.insert("p".into(), ctx.unit("p", Dim::Pressure).into());
+    u.insert(
+        "pressure_drop".into(),
+        ctx.unit("pressure_drop", Dim::PressureDifference).into(),
+    );
     u.insert("T".into(), ctx.unit("T", Dim::Temperature).into());
     u.insert("h".into(), ctx.unit("h", Dim::SpecificEnergy).into());
     u.insert("mass".into(), ctx.unit("mass", Dim::Mass).into());
@@ -1105,7 +1109,7 @@ fn loss_out(ctx: &Ctx, l: &b::LossResult) -> LossOut {
         choked: l.choked,
         pressure_drop: l
             .pressure_drop
-            .map(|v| ctx.out("units.loss.pressure_drop", Dim::Pressure, v)),
+            .map(|v| ctx.out("units.loss.pressure_drop", Dim::PressureDifference, v)),
         velocity: l
             .velocity
             .map(|v| ctx.out("units.loss.velocity", Dim::Speed, v)),

@@ -897,3 +897,32 @@ fn line_warnings_speak_the_callers_units() {
         bar["streams"]["h_l"]
     );
 }
+
+/// A line's pressure drop is a difference: with gauge pressures asked for it is in bar, not
+/// barg (it was stated as a gauge pressure, 1.01325 bar short), like its warning.
+#[test]
+fn a_line_pressure_drop_is_not_a_gauge_pressure() {
+    let solve = |units: Value| {
+        api::call(
+            "balance.solve",
+            json!({ "network": tight_line(), "units": units }),
+        )
+        .unwrap()
+    };
+    let bar = solve(json!("bar"));
+    let barg = solve(json!({"preset": "bar", "pressure": "barg"}));
+    let dp = |v: &Value| v["units"]["L"]["loss"]["pressure_drop"].as_f64().unwrap();
+    assert!(dp(&bar) > 1.0, "{}", dp(&bar));
+    assert_eq!(dp(&barg), dp(&bar));
+    assert_eq!(
+        barg["units_used"]["pressure_drop"], "bar",
+        "{}",
+        barg["units_used"]
+    );
+    assert_eq!(barg["units_used"]["p"], "barg", "{}", barg["units_used"]);
+    let m = line_warning(&barg, "line_drop_exceeds_available");
+    assert!(
+        m.contains(&format!("a pressure drop of {} bar", sig4(dp(&barg)))),
+        "{m}"
+    );
+}
