@@ -1075,6 +1075,10 @@ fn units_used(ctx: &Ctx) -> BTreeMap<String, String> {
     u.insert("heat".into(), ctx.unit("heat", Dim::HeatFlow).into());
     u.insert("energy".into(), ctx.unit("energy", Dim::HeatFlow).into());
     u.insert("p".into(), ctx.unit("p", Dim::Pressure).into());
+    u.insert(
+        "pressure_drop".into(),
+        ctx.unit("pressure_drop", Dim::PressureDifference).into(),
+    );
     u.insert("T".into(), ctx.unit("T", Dim::Temperature).into());
     u.insert("h".into(), ctx.unit("h", Dim::SpecificEnergy).into());
     u.insert("mass".into(), ctx.unit("mass", Dim::Mass).into());
@@ -1105,7 +1109,7 @@ fn loss_out(ctx: &Ctx, l: &b::LossResult) -> LossOut {
         choked: l.choked,
         pressure_drop: l
             .pressure_drop
-            .map(|v| ctx.out("units.loss.pressure_drop", Dim::Pressure, v)),
+            .map(|v| ctx.out("units.loss.pressure_drop", Dim::PressureDifference, v)),
         velocity: l
             .velocity
             .map(|v| ctx.out("units.loss.velocity", Dim::Speed, v)),
@@ -1163,7 +1167,7 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
                         energy_lost: e("units.energy_lost", r.energy_lost),
                         balance: bal(ctx, &r.balance),
                         loss: r.loss.as_ref().map(|l| loss_out(ctx, l)),
-                        warnings: warnings_out(&r.warnings),
+                        warnings: warnings_out(ctx, &r.warnings),
                     },
                 )
             })
@@ -1192,7 +1196,7 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
         },
         iterations: s.iterations,
         residual: s.residual,
-        warnings: warnings_out(&s.warnings),
+        warnings: warnings_out(ctx, &s.warnings),
         costing: CostingOut {
             hours_per_year: s.totals.hours_per_year,
             boiler_efficiency: s.totals.loss_boiler_efficiency,
@@ -1457,7 +1461,7 @@ fn balance_sweep(p: SweepParams) -> Result<SweepResult> {
                     totals: Some(totals_out(&ctx, &sol.totals)),
                     streams,
                     iterations: sol.iterations,
-                    warnings: warnings_out(&sol.warnings),
+                    warnings: warnings_out(&ctx, &sol.warnings),
                 });
             }
             Err(e) => {
@@ -1516,6 +1520,19 @@ fn finding_json(f: &b::Finding) -> Value {
         o["missing"] = json!(missing);
         o["undetermined"] = json!(undetermined);
         o["free"] = json!(free);
+        o["hints"] = hints
+            .iter()
+            .map(|h| {
+                json!({
+                    "code": h.code(),
+                    "message": h.to_string(),
+                    "unit": h.unit(),
+                    "streams": h.streams(),
+                })
+            })
+            .collect();
+    }
+    if let b::Finding::NegativeFlows { hints, .. } = f {
         o["hints"] = hints
             .iter()
             .map(|h| {

@@ -18,7 +18,6 @@ use crate::plant::correlations::FrictionModel;
 use crate::plant::losses::{Costing, Price, YearlyLoss};
 use crate::plant::orifice::{self as orf, Approach, Flashing, Shape};
 use crate::plant::pipe::{self, Layer, LineSpec, Surroundings, Wall};
-use crate::plant::warnings::{Code, Warning};
 use crate::plant::{Balance, CAUTION};
 use crate::units::Dim;
 use crate::water::state::State;
@@ -443,7 +442,7 @@ fn orifice_flow(p: OrificeParams) -> Result<OrificeResult> {
         }),
         yearly: yearly(&ctx, "yearly", &c, &y, BASIS_STEAM),
         balance: balance_out(&ctx, &r.balance),
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units,
     };
@@ -961,71 +960,7 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
         None => None,
     };
 
-    let mut warnings = Vec::new();
-    use crate::water::state::Phase;
-    let steam = r.inlet.phase != Phase::Liquid;
-    if r.max_surface_t > touch {
-        warnings.push(Warning::new(Code::SurfaceAboveTouchLimit, format!(
-            "the {} surface reaches {:.1} {} above the touch limit {:.1} {}: personnel protection (insulation, guards) is needed where it can be touched (common practice; follow local codes)",
-            built_name,
-            o(&ctx, "surface_T", Dim::Temperature, r.max_surface_t),
-            ctx.unit("surface_T", Dim::Temperature),
-            o(&ctx, "touch_limit_T", Dim::Temperature, touch),
-            ctx.unit("touch_limit_T", Dim::Temperature),
-        )));
-    }
-    let vmax = r.max_velocity;
-    let (limit, what) = if !steam {
-        (pipe::V_MAX_WATER, "a water line (1 to 3 m/s is usual)")
-    } else if r.points.iter().any(|pt| pt.state.phase == Phase::Wet) {
-        (
-            pipe::V_MAX_SATURATED,
-            "a saturated or wet steam line (25 to 40 m/s is usual)",
-        )
-    } else {
-        (
-            pipe::V_MAX_SUPERHEATED,
-            "a superheated steam line (35 to 60 m/s is usual)",
-        )
-    };
-    if vmax > limit {
-        warnings.push(Warning::new(Code::VelocityHigh, format!(
-            "the velocity reaches {:.2} {} above about {:.0} {} for {what}: expect noise, erosion and a large pressure drop (common practice, no source)",
-            o(&ctx, "velocity", Dim::Speed, vmax),
-            ctx.unit("velocity", Dim::Speed),
-            o(&ctx, "velocity", Dim::Speed, limit),
-            ctx.unit("velocity", Dim::Speed),
-        )));
-    }
-    if r.transitional {
-        warnings.push(Warning::new(Code::TransitionalFlow, "the flow is in laminar-turbulent transition (2300 < Re < 4000) somewhere along the line: the friction factor there is an interpolation and uncertain"));
-    }
-    if !steam && r.outlet.phase == Phase::Wet {
-        warnings.push(Warning::new(Code::LineFlashing, format!(
-            "the water flashes in the line (outlet quality {:.4}): the line runs two-phase, with the risk of water hammer",
-            r.outlet.x.unwrap_or(0.0)
-        )));
-    }
-    if steam && r.condensate.unwrap_or(0.0) > 0.0 {
-        warnings.push(Warning::new(Code::LineCondensate, "condensate forms along the line: drain it with traps at low points (the calculation carries it along with the steam, homogeneously)"));
-    }
-    if r.pressure_drop > 0.1 * r.inlet.props.p {
-        warnings.push(Warning::new(Code::PressureDropHigh, format!(
-            "the pressure drop is {:.1} % of the inlet pressure: consider a larger line (common practice, no source)",
-            100.0 * r.pressure_drop / r.inlet.props.p
-        )));
-    }
-    if steam && r.inlet.phase == Phase::Vapour {
-        let mach = r
-            .points
-            .iter()
-            .filter(|pt| pt.state.props.w.is_finite())
-            .map(|pt| pt.velocity / pt.state.props.w)
-            .fold(0.0, f64::max);
-        if mach > 0.3 {
-            warnings.push(Warning::new(Code::MachHigh, format!("the Mach number reaches {mach:.2}: the flow is strongly compressible; check the outlet pressure against the choking limit")));
-        }
-    }
+    let warnings = pipe::line_warnings(&r, built_name, touch);
 
     let stride = r.points.len().div_ceil(200).max(1);
     let mut profile: Vec<ProfilePoint> = Vec::new();
@@ -1131,7 +1066,7 @@ fn pipe_flow(p: PipeParams) -> Result<PipeResult> {
         yearly: built_yearly,
         insulation,
         balance: balance_out(&ctx, &r.balance),
-        warnings: warnings_out(&warnings),
+        warnings: warnings_out(&ctx, &warnings),
         caution: CAUTION.into(),
         units,
     };

@@ -122,7 +122,7 @@ pub const ERROR_CODES: &[(i64, &str, &str)] = &[
     (
         codes::INVALID_INPUT,
         "invalid_input",
-        "A value or combination of inputs is not acceptable (missing, extra, ill-formed). data: message; a site network refused by its degree-of-freedom count (balance.solve) also carries diagnosis: {under: [finding], over: [finding], units: {name: {kind, given, under, over}}, streams: {name: {flow, p, state}}}, where a finding is {code, message, units, streams, quantity, value, value_unit} (plus missing, undetermined, free and hints for code flows_not_fixed; equations and hints for equations_clash).",
+        "A value or combination of inputs is not acceptable (missing, extra, ill-formed). data: message; a site network refused by its degree-of-freedom count (balance.solve) also carries diagnosis: {under: [finding], over: [finding], units: {name: {kind, given, under, over}}, streams: {name: {flow, p, state}}}, where a finding is {code, message, units, streams, quantity, value, value_unit} (plus missing, undetermined, free and hints for code flows_not_fixed; equations and hints for equations_clash; hints for negative_flows: what the reversed streams mean at a header, let-down valve, deaerator, desuperheater or make-up).",
     ),
     (
         codes::NOT_CONVERGED,

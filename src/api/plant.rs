@@ -617,7 +617,7 @@ fn expansion_out(ctx: &Ctx, ex: &c::Expansion) -> TurbineResult {
         efficiency: o(ctx, "efficiency", Dim::Dimensionless, ex.efficiency),
         moisture: o(ctx, "moisture", Dim::Dimensionless, ex.moisture),
         balance: balance(ctx, &ex.balance),
-        warnings: warnings_out(&ex.warnings),
+        warnings: warnings_out(ctx, &ex.warnings),
         caution: CAUTION.into(),
         units: units_map(ctx, &units),
         turbine_inlet: valve.then(|| sr(ctx, "turbine_inlet", &ex.turbine_inlet)),
@@ -1003,7 +1003,7 @@ fn turbine_train(p: TrainParams) -> Result<TrainResult> {
             t.overall_efficiency,
         ),
         balance: balance(&ctx, &t.balance),
-        warnings: warnings_out(&t.warnings),
+        warnings: warnings_out(&ctx, &t.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &units),
         efficiency_basis: t.basis.name().into(),
@@ -1115,7 +1115,7 @@ fn pump_raise(p: PumpParams) -> Result<PumpResult> {
         head: o(&ctx, "head", Dim::Length, r.head),
         npsh_available: of(&ctx, "npsh_available", Dim::Length, r.npsh_available),
         balance: balance(&ctx, &r.balance),
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units: units_map(
             &ctx,
@@ -1187,7 +1187,7 @@ fn valve_throttle(p: ValveParams) -> Result<ValveResult> {
             r.temperature_drop,
         ),
         balance: balance(&ctx, &r.balance),
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units: units_map(
             &ctx,
@@ -1290,7 +1290,7 @@ fn desuperheater_spray(p: SprayParams) -> Result<SprayResult> {
         outlet_flow: o(&ctx, "outlet_flow", Dim::MassFlow, r.outlet_flow),
         superheat: o(&ctx, "superheat", Dim::TemperatureDifference, r.superheat),
         balance: balance(&ctx, &r.balance),
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units: units_map(
             &ctx,
@@ -1365,7 +1365,7 @@ fn flash_separate(p: FlashParams) -> Result<FlashResult> {
         vapour_flow: o(&ctx, "vapour_flow", Dim::MassFlow, r.vapour_flow),
         liquid_flow: o(&ctx, "liquid_flow", Dim::MassFlow, r.liquid_flow),
         balance: balance(&ctx, &r.balance),
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units: units_map(
             &ctx,
@@ -1431,7 +1431,7 @@ fn header_mix(p: HeaderParams) -> Result<HeaderResult> {
         outlet: sr(&ctx, "outlet", &r.outlet),
         flow: o(&ctx, "flow", Dim::MassFlow, r.flow),
         balance: balance(&ctx, &r.balance),
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &[("flow", Dim::MassFlow)]),
     })
@@ -1589,7 +1589,7 @@ fn exchanger_balance(p: ExchangerParams) -> Result<ExchangerResult> {
             .drain_cooler_approach
             .map(|x| dt("drain_cooler_approach", x)),
         balance: balance(&ctx, &r.balance),
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units: {
             let mut units = units_map(
@@ -1753,7 +1753,7 @@ fn boiler_fire(p: BoilerParams) -> Result<BoilerResult> {
         fuel_heat_input: q("fuel_heat_input", r.fuel_heat_input),
         losses: q("losses", r.losses),
         balance: balance(&ctx, &r.balance),
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &[]),
     })
@@ -1835,7 +1835,7 @@ fn deaerator_balance(p: DeaeratorParams) -> Result<DeaeratorResult> {
         outlet_flow: m("outlet_flow", r.outlet_flow),
         vent_flow: m("vent_flow", r.vent_flow),
         balance: balance(&ctx, &r.balance),
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &[]),
     })
@@ -2468,7 +2468,7 @@ fn cycle_rankine(p: RankineParams) -> Result<RankineResult> {
             r.exhaust_moisture,
         ),
         energy_residual: r.energy_residual,
-        warnings: warnings_out(&r.warnings),
+        warnings: warnings_out(&ctx, &r.warnings),
         caution: CAUTION.into(),
         units: units_map(&ctx, &units),
         mass_residual: r.mass_residual,

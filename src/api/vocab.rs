@@ -1073,18 +1073,24 @@ pub struct WarningOut {
     pub message: String,
 }
 
-impl From<&Warning> for WarningOut {
-    fn from(w: &Warning) -> Self {
+impl WarningOut {
+    /// A warning for the wire, its values stated in the request's units: the unit the
+    /// request gives the quantity's field name, else its dimension's (as the result's fields
+    /// of that name are).
+    pub fn new(ctx: &Ctx, w: &Warning) -> WarningOut {
         WarningOut {
             code: w.code.name().to_string(),
-            message: w.message.clone(),
+            message: w.message_in(|q| {
+                let u = ctx.system.unit(q.name, q.dim);
+                (u.from_internal(q.value, ctx.ambient), u.symbol)
+            }),
         }
     }
 }
 
-/// The warnings of a result, for the wire.
-pub fn warnings_out(ws: &[Warning]) -> Vec<WarningOut> {
-    ws.iter().map(WarningOut::from).collect()
+/// The warnings of a result, for the wire, in the request's units ([`WarningOut::new`]).
+pub fn warnings_out(ctx: &Ctx, ws: &[Warning]) -> Vec<WarningOut> {
+    ws.iter().map(|w| WarningOut::new(ctx, w)).collect()
 }
 
 #[cfg(test)]

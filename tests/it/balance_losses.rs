@@ -771,3 +771,158 @@ fn a_line_that_cannot_carry_its_flow_is_refused_with_the_length_reached() {
         e.message
     );
 }
+
+/// A bare 2.5-inch line carrying 1 kg/s of saturated 10 bar steam into a 9.5 bar header: at
+/// that flow it needs more drop than the 0.5 bar between its ends, runs fast and hot and
+/// condenses without a drain.
+fn tight_line() -> Value {
+    json!({
+        "units": {
+            "MK": { "kind": "makeup", "T": "20 degC" },
+            "P": { "kind": "pump", "p": "12 bar", "efficiency": 0.7 },
+            "B": { "kind": "boiler", "efficiency": 0.85 },
+            "H": { "kind": "header", "p": "10 bar" },
+            "L": { "kind": "line", "length": "150 m", "inner_diameter": "62.7 mm",
+                   "wall_thickness": "5.2 mm" },
+            "H2": { "kind": "header", "p": "9.5 bar" },
+            "U": { "kind": "user", "demand": "1 kg/s", "return_T": "80 degC" }
+        },
+        "streams": {
+            "mk_p": { "from": "MK", "to": "P" },
+            "p_b": { "from": "P", "to": "B" },
+            "b_h": { "from": "B", "to": "H", "x": 1 },
+            "h_l": { "from": "H", "to": "L" },
+            "l_h2": { "from": "L", "to": "H2" },
+            "h2_u": { "from": "H2", "to": "U" }
+        }
+    })
+}
+
+/// The message of the line's warning with `code` in a balance.solve result (the site list,
+/// prefixed with the unit).
+fn line_warning(v: &Value, code: &str) -> String {
+    let w = v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|w| w["code"] == code)
+        .unwrap_or_else(|| panic!("no {code} in {}", v["warnings"]));
+    let m = w["message"].as_str().unwrap();
+    assert!(m.starts_with("line L: "), "{m}");
+    // the unit's own list has it too, without the prefix
+    let own = &v["units"]["L"]["warnings"];
+    assert!(
+        own.as_array()
+            .unwrap()
+            .iter()
+            .any(|u| u["code"] == code && m.ends_with(u["message"].as_str().unwrap())),
+        "{own}"
+    );
+    m.to_string()
+}
+
+fn sig4(x: f64) -> String {
+    steamcell::error::fmt_sig(x, 4)
+}
+
+/// The site balance's line warnings state their values in the caller's units (issue 21: they
+/// were in MPa, kg/s, m/s and K whatever the request asked), as the line's `loss` fields of the
+/// same name are.
+#[test]
+fn line_warnings_speak_the_callers_units() {
+    let solve = |units: Value| {
+        api::call(
+            "balance.solve",
+            json!({ "network": tight_line(), "units": units }),
+        )
+        .unwrap()
+    };
+    let us = solve(json!("us"));
+    let loss = &us["units"]["L"]["loss"];
+    for w in us["warnings"].as_array().unwrap() {
+        let m = w["message"].as_str().unwrap();
+        for internal in ["MPa", " K", "kg/s", "m/s", "kW"] {
+            assert!(!m.contains(internal), "{internal} in {m}");
+        }
+    }
+    // 1 kg/s = 7937 lb/h (1 lb = 0.45359237 kg exactly) and 0.5 bar = 7.252 psi (1 psi =
+    // 6894.757 Pa), NIST SP 811
+    let m = line_warning(&us, "line_drop_exceeds_available");
+    let dp = sig4(loss["pressure_drop"].as_f64().unwrap());
+    assert!(
+        m.contains(&format!("it needs a pressure drop of {dp} psi to carry 7937 lb/h but only 7.252 psi lie between its ends")),
+        "{m}"
+    );
+    // 40 m/s = 131.2 ft/s (1 ft = 0.3048 m exactly)
+    let m = line_warning(&us, "velocity_high");
+    let v = sig4(loss["velocity"].as_f64().unwrap());
+    assert!(
+        m.contains(&format!("reaches {v} ft/s, above about 131.2 ft/s")),
+        "{m}"
+    );
+    // 60 degC = 140 degF
+    let m = line_warning(&us, "surface_above_touch_limit");
+    let t = sig4(loss["surface_T"].as_f64().unwrap());
+    assert!(
+        m.contains(&format!("reaches {t} degF, above the touch limit 140 degF")),
+        "{m}"
+    );
+    let m = line_warning(&us, "line_condensate");
+    let c = sig4(loss["condensate"].as_f64().unwrap());
+    assert!(
+        m.contains(&format!("line L: {c} lb/h of condensate forms")),
+        "{m}"
+    );
+
+    // bar with every mass flow in t/h: 1 kg/s = 3.6 t/h
+    let bar = solve(json!({"preset": "bar", "flow": "t/h"}));
+    let loss = &bar["units"]["L"]["loss"];
+    let m = line_warning(&bar, "line_drop_exceeds_available");
+    let dp = sig4(loss["pressure_drop"].as_f64().unwrap());
+    assert!(
+        m.contains(&format!("it needs a pressure drop of {dp} bar to carry 3.6 t/h but only 0.5 bar lie between its ends")),
+        "{m}"
+    );
+    let m = line_warning(&bar, "line_condensate");
+    let c = sig4(loss["condensate"].as_f64().unwrap());
+    assert!(m.contains(&format!("{c} t/h of condensate")), "{m}");
+    let m = line_warning(&bar, "surface_above_touch_limit");
+    assert!(m.contains("degC, above the touch limit 60 degC"), "{m}");
+    let m = line_warning(&bar, "velocity_high");
+    assert!(m.contains("m/s, above about 40 m/s"), "{m}");
+    // the line carries the user's 1 kg/s = 3.6 t/h
+    assert!(
+        (bar["streams"]["h_l"]["flow"].as_f64().unwrap() - 3.6).abs() < 1e-9,
+        "{}",
+        bar["streams"]["h_l"]
+    );
+}
+
+/// A line's pressure drop is a difference: with gauge pressures asked for it is in bar, not
+/// barg (it was stated as a gauge pressure, 1.01325 bar short), like its warning.
+#[test]
+fn a_line_pressure_drop_is_not_a_gauge_pressure() {
+    let solve = |units: Value| {
+        api::call(
+            "balance.solve",
+            json!({ "network": tight_line(), "units": units }),
+        )
+        .unwrap()
+    };
+    let bar = solve(json!("bar"));
+    let barg = solve(json!({"preset": "bar", "pressure": "barg"}));
+    let dp = |v: &Value| v["units"]["L"]["loss"]["pressure_drop"].as_f64().unwrap();
+    assert!(dp(&bar) > 1.0, "{}", dp(&bar));
+    assert_eq!(dp(&barg), dp(&bar));
+    assert_eq!(
+        barg["units_used"]["pressure_drop"], "bar",
+        "{}",
+        barg["units_used"]
+    );
+    assert_eq!(barg["units_used"]["p"], "barg", "{}", barg["units_used"]);
+    let m = line_warning(&barg, "line_drop_exceeds_available");
+    assert!(
+        m.contains(&format!("a pressure drop of {} bar", sig4(dp(&barg)))),
+        "{m}"
+    );
+}

@@ -730,6 +730,107 @@ fn pipe_velocity_warnings() {
     );
 }
 
+/// The message of the warning with `code` in a result.
+fn warning<'a>(v: &'a Value, code: &str) -> &'a str {
+    v["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|w| w["code"] == code)
+        .unwrap_or_else(|| panic!("no {code} in {}", v["warnings"]))["message"]
+        .as_str()
+        .unwrap()
+}
+
+/// A value as a warning states it: 4 significant digits, trailing zeros dropped (the value of
+/// the result's field of that name, so the message and the field agree).
+fn sig4(x: f64) -> String {
+    steamcell::error::fmt_sig(x, 4)
+}
+
+/// pipe.flow's warnings state their values in the caller's units, as the result's fields of
+/// the same name are: a bare 2.5-inch line carrying 3 t/h of 5 barg saturated steam is hot,
+/// fast, condensing and loses more than 10 % of its pressure.
+#[test]
+fn pipe_warnings_speak_the_callers_units() {
+    let params = |units: Value| {
+        json!({"inlet": {"p": "5 barg", "x": 1, "flow": "3 t/h"}, "length": "25 m",
+               "inner_diameter": "62.7 mm", "wall_thickness": "5.2 mm", "units": units})
+    };
+    let us = call("pipe.flow", params(json!("us")));
+    for w in us["warnings"].as_array().unwrap() {
+        let m = w["message"].as_str().unwrap();
+        for internal in ["MPa", " K ", "K,", "kg/s", "m/s"] {
+            assert!(!m.contains(internal), "{internal} in {m}");
+        }
+    }
+    let m = warning(&us, "surface_above_touch_limit");
+    // the default touch limit 60 degC is 140 degF (t/degF = 1.8 t/degC + 32)
+    let surface = sig4(us["surface_T"].as_f64().unwrap());
+    assert!(
+        m.contains(&format!(
+            "reaches {surface} degF above the touch limit 140 degF"
+        )),
+        "{m}"
+    );
+    // 40 m/s is 131.2 ft/s (1 ft = 0.3048 m exactly, NIST SP 811); 25 m/s is 82.02 ft/s
+    let m = warning(&us, "velocity_high");
+    let v = sig4(us["outlet_velocity"].as_f64().unwrap());
+    assert!(
+        m.contains(&format!("reaches {v} ft/s above about 131.2 ft/s")),
+        "{m}"
+    );
+    assert!(m.contains("(82.02 ft/s to 131.2 ft/s is usual)"), "{m}");
+    let m = warning(&us, "pressure_drop_high");
+    let dp = sig4(us["pressure_drop"].as_f64().unwrap());
+    assert!(
+        m.contains(&format!("the pressure drop {dp} psi is ")),
+        "{m}"
+    );
+    // the inlet 5 barg = 87.21 psia (1 psi = 6894.757 Pa, NIST SP 811; ambient 101.325 kPa)
+    assert!(m.contains("of the inlet pressure 87.21 psia"), "{m}");
+    let m = warning(&us, "line_condensate");
+    let c = sig4(us["condensate"].as_f64().unwrap());
+    assert!(
+        m.starts_with(&format!("{c} lb/h of condensate forms")),
+        "{m}"
+    );
+
+    // bar with flows in t/h (`flow` chooses every mass flow): pressures in bar, the
+    // condensate in t/h, or in the unit a field-name key gives it
+    let bar = call("pipe.flow", params(json!({"preset": "bar", "flow": "t/h"})));
+    let m = warning(&bar, "line_condensate");
+    let c = sig4(bar["condensate"].as_f64().unwrap());
+    assert!(
+        m.starts_with(&format!("{c} t/h of condensate forms")),
+        "{m}"
+    );
+    let m = warning(&bar, "pressure_drop_high");
+    let dp = sig4(bar["pressure_drop"].as_f64().unwrap());
+    assert!(
+        m.contains(&format!("the pressure drop {dp} bar is ")),
+        "{m}"
+    );
+    // 5 barg with the standard ambient 1.01325 bar, written in full
+    assert!(m.contains("of the inlet pressure 6.01325 bar"), "{m}");
+    let m = warning(&bar, "surface_above_touch_limit");
+    assert!(m.contains("above the touch limit 60 degC"), "{m}");
+    let th = call(
+        "pipe.flow",
+        params(json!({"preset": "bar", "flow": "t/h", "condensate": "kg/h"})),
+    );
+    let m = warning(&th, "line_condensate");
+    let c = sig4(th["condensate"].as_f64().unwrap());
+    assert!(
+        m.starts_with(&format!("{c} kg/h of condensate forms")),
+        "{m}"
+    );
+    // the same line with no units: the engineering preset (MPa, degC)
+    let eng = call("pipe.flow", params(Value::Null));
+    let m = warning(&eng, "pressure_drop_high");
+    assert!(m.contains("MPa"), "{m}");
+}
+
 #[test]
 fn pipe_bad_input() {
     let base = json!({"inlet": {"p": "10 barg", "x": 1, "flow": "5 t/h"}, "length": "200 m",

@@ -600,6 +600,90 @@ fn nominal_examples_give_no_warnings() {
     }
 }
 
+/// Component warnings state their values in the caller's units (issue 21: they printed MPa,
+/// K and kJ/kg whatever the request asked). 100, 60 and 30 bar are 1450, 870.2 and 435.1 psia
+/// (1 psi = 6894.757 Pa, NIST SP 811); h'' at 10 MPa, 2725.5 kJ/kg (IAPWS-IF97), is 1172 Btu/lb
+/// (1 Btu/lb = 2.326 kJ/kg exactly); a difference of 2 K or 3 K is 3.6 or 5.4 degF (exactly 1.8
+/// degF per K).
+#[test]
+fn component_warnings_speak_the_callers_units() {
+    let message = |method: &str, params: Value, code: &str| -> String {
+        let r = ok(method, params);
+        r["warnings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|w| w["code"] == code)
+            .unwrap_or_else(|| panic!("no {code}: {}", r["warnings"]))["message"]
+            .as_str()
+            .unwrap()
+            .to_string()
+    };
+    let m = message(
+        "valve.throttle",
+        json!({"inlet": {"p": "100 bar", "x": 1}, "outlet_p": "60 bar", "units": "us"}),
+        "valve_outlet_wet",
+    );
+    assert!(
+        m.contains("throttled from 1450 psia to 870.2 psia its enthalpy 1172 Btu/lb"),
+        "{m}"
+    );
+    assert!(m.contains("above about 435.1 psia"), "{m}");
+    let m = message(
+        "valve.throttle",
+        json!({"inlet": {"p": "100 bar", "x": 1}, "outlet_p": "60 bar", "units": {"preset": "bar", "flow": "t/h"}}),
+        "valve_outlet_wet",
+    );
+    assert!(m.contains("throttled from 100 bar to 60 bar"), "{m}");
+    let pinch = json!({"hot": {"inlet": {"p": "2 bar", "T": "90 degC", "flow": 10}, "outlet": {"T": "60 degC"}}, "cold": {"inlet": {"p": "20 bar", "T": "58 degC"}, "outlet": {"T": "70 degC"}}});
+    let mut us = pinch.clone();
+    us["units"] = json!("us");
+    let m = message("exchanger.balance", us, "small_pinch");
+    assert!(
+        m.contains("the pinch is only 3.6 degF") && m.contains("below 5.4 degF"),
+        "{m}"
+    );
+    let m = message("exchanger.balance", pinch, "small_pinch");
+    assert!(
+        m.contains("the pinch is only 2 K") && m.contains("below 3 K"),
+        "{m}"
+    );
+}
+
+/// Dry saturated steam (x = 1) is not wet: a site's boiler making it and the header it feeds
+/// gave `wet_steam` ("x = 1.0000") before issue 21; a header a little wetter still warns.
+#[test]
+fn dry_saturated_steam_is_not_warned_as_wet() {
+    let site = |x: f64| {
+        json!({"network": {
+            "units": {
+                "MK": { "kind": "makeup", "T": "20 degC" },
+                "P": { "kind": "pump", "p": "12 bar", "efficiency": 0.7 },
+                "B": { "kind": "boiler", "efficiency": 0.85 },
+                "H": { "kind": "header", "p": "10 bar" },
+                "U": { "kind": "user", "demand": "1 kg/s", "return_T": "80 degC" }
+            },
+            "streams": {
+                "mk_p": { "from": "MK", "to": "P" },
+                "p_b": { "from": "P", "to": "B" },
+                "b_h": { "from": "B", "to": "H", "x": x },
+                "h_u": { "from": "H", "to": "U" }
+            }
+        }})
+    };
+    let r = ok("balance.solve", site(1.0));
+    assert!(codes(&r).is_empty(), "{}", r["warnings"]);
+    // 0.1 % moisture is wet steam, at the boiler and at the header
+    let r = ok("balance.solve", site(0.999));
+    let wet: Vec<&Value> = r["warnings"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|w| w["code"] == "wet_steam")
+        .collect();
+    assert_eq!(wet.len(), 2, "{}", r["warnings"]);
+}
+
 // ---------------------------------------------------------------- property tests
 
 /// The smallest hot-minus-cold temperature difference along a counterflow exchanger with

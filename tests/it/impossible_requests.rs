@@ -413,7 +413,148 @@ fn table() -> Vec<(&'static str, &'static str, Value, Want)> {
             json!({"boiler_p": "100 bar", "boiler_T": "500 degC", "condenser_p": "0.005 bar"}),
             Error(1001, "triple-point"),
         ),
+        // --- site balances that once answered with a negative-flow warning (issue 21): each
+        // is refused, naming the unit and what to change
+        (
+            "let-down valve raising the pressure",
+            "balance.solve",
+            json!({"network": valve_uphill()}),
+            Error(1006, "valve LV: the downstream pressure 4.5 MPa is not below the upstream pressure 4 MPa"),
+        ),
+        (
+            "turbine exhausting at its inlet pressure",
+            "balance.solve",
+            json!({"network": site_with(&[("units.LP.p", json!("40 bar"))])}),
+            Error(1006, "turbine T: the downstream pressure 4 MPa is not below the upstream pressure 4 MPa"),
+        ),
+        (
+            "turbine outlet measured hotter than its inlet (negative power)",
+            "balance.solve",
+            json!({"network": site_with(&[("streams.t_lp.T", json!("420 degC"))])}),
+            Error(1006, "turbine T: the measured T of outlet stream t_lp gives h = "),
+        ),
+        (
+            "turbine outlet measured below the isentropic end point (efficiency above 1)",
+            "balance.solve",
+            json!({"network": site_with(&[("streams.t_lp.x", json!(0.8))])}),
+            Error(1006, "an expansion cannot lose entropy"),
+        ),
+        (
+            "let-down valve needed backwards",
+            "balance.solve",
+            json!({"network": site_with(&[("units.U.demand", json!(1))])}),
+            Error(1006, "let-down valve LV would have to pass steam back from its low-pressure side: header LP, which it feeds, has a surplus"),
+        ),
+        (
+            "header short of steam (its vent reversed)",
+            "balance.solve",
+            json!({"network": site_with(&[("streams.lp_vt.flow", Value::Null), ("streams.lv_lp.flow", json!(0))])}),
+            Error(1006, "header LP is short of steam by 5.2"),
+        ),
+        (
+            "deaerator fed water hotter than saturation (negative heating steam)",
+            "balance.solve",
+            json!({"network": site_with(&[("units.MK.T", json!("130 degC")), ("streams.mk_da.p", json!("3 bar"))])}),
+            Error(1006, "deaerator DA would need a negative heating-steam flow (lp_da)"),
+        ),
+        (
+            "desuperheater target above the steam temperature (negative spray)",
+            "balance.solve",
+            json!({"network": letdown("390 degC")}),
+            Error(1006, "desuperheater DS would need a negative spray flow (w)"),
+        ),
     ]
+}
+
+/// A small site of our own (invented): a 40 bar boiler and header, a back-pressure turbine
+/// (5 kg/s) and a let-down valve into a 3 bar header with a user of 10 kg/s, a deaerator, a
+/// feed pump, a make-up and a vent taking a fixed 0.2 kg/s.
+fn small_site() -> Value {
+    json!({
+        "units": {
+            "B": { "kind": "boiler", "p": "40 bar", "T": "400 degC", "efficiency": 0.9, "blowdown_fraction": 0.03 },
+            "HP": { "kind": "header", "p": "40 bar" },
+            "T": { "kind": "turbine", "efficiency": 0.75 },
+            "LV": { "kind": "valve" },
+            "LP": { "kind": "header", "p": "3 bar" },
+            "U": { "kind": "user", "demand": 10, "return_fraction": 0.5, "return_T": "80 degC" },
+            "DA": { "kind": "deaerator", "p": "1.2 bar", "steam": "lp_da", "vent_fraction": 0.01 },
+            "FP": { "kind": "pump", "efficiency": 0.7, "p": "50 bar" },
+            "MK": { "kind": "makeup", "T": "20 degC" },
+            "VT": { "kind": "vent" }
+        },
+        "streams": {
+            "b_hp": { "from": "B", "to": "HP" },
+            "hp_t": { "from": "HP", "to": "T", "flow": 5 },
+            "t_lp": { "from": "T", "to": "LP" },
+            "hp_lv": { "from": "HP", "to": "LV" },
+            "lv_lp": { "from": "LV", "to": "LP" },
+            "lp_u": { "from": "LP", "to": "U" },
+            "lp_da": { "from": "LP", "to": "DA" },
+            "lp_vt": { "from": "LP", "to": "VT", "flow": 0.2 },
+            "u_da": { "from": "U", "to": "DA" },
+            "mk_da": { "from": "MK", "to": "DA" },
+            "da_fp": { "from": "DA", "to": "FP" },
+            "fp_b": { "from": "FP", "to": "B" }
+        }
+    })
+}
+
+/// [`small_site`] with values set (null: removed) at dotted paths.
+fn site_with(changes: &[(&str, Value)]) -> Value {
+    let mut v = small_site();
+    for (path, x) in changes {
+        let keys: Vec<&str> = path.split('.').collect();
+        let (last, head) = keys.split_last().unwrap();
+        let mut o = &mut v;
+        for k in head {
+            o = &mut o[*k];
+        }
+        match x {
+            Value::Null => {
+                o.as_object_mut().unwrap().remove(*last);
+            }
+            _ => o[*last] = x.clone(),
+        }
+    }
+    v
+}
+
+/// [`small_site`] without its turbine and with the 3 bar header at 45 bar, above the 40 bar
+/// the let-down valve takes from.
+fn valve_uphill() -> Value {
+    let mut v = site_with(&[
+        ("units.LP.p", json!("45 bar")),
+        ("units.FP.p", json!("60 bar")),
+    ]);
+    v["units"].as_object_mut().unwrap().remove("T");
+    for s in ["hp_t", "t_lp"] {
+        v["streams"].as_object_mut().unwrap().remove(s);
+    }
+    v
+}
+
+/// A let-down station: 40 bar, 400 degC steam throttled to 10 bar and sprayed to `target`.
+fn letdown(target: &str) -> Value {
+    json!({
+        "units": {
+            "B": { "kind": "boiler", "p": "40 bar", "T": "400 degC", "efficiency": 0.9 },
+            "LV": { "kind": "valve" },
+            "DS": { "kind": "desuperheater", "water": "w", "T": target },
+            "LP": { "kind": "header", "p": "10 bar" },
+            "U": { "kind": "user", "demand": 8, "return_T": "80 degC" },
+            "MK": { "kind": "makeup", "T": "105 degC" },
+            "MK2": { "kind": "makeup", "T": "20 degC" }
+        },
+        "streams": {
+            "steam": { "from": "B", "to": "LV" },
+            "ld": { "from": "LV", "to": "DS" },
+            "w": { "from": "MK", "to": "DS", "p": "20 bar" },
+            "out": { "from": "DS", "to": "LP" },
+            "lp_u": { "from": "LP", "to": "U" },
+            "fw": { "from": "MK2", "to": "B", "p": "45 bar" }
+        }
+    })
 }
 
 #[test]
@@ -476,4 +617,358 @@ fn every_warning_code_is_documented() {
             c.name()
         );
     }
+}
+
+/// A request that makes each catalogue code fire that the table above does not (the table's
+/// warnings count too): a code that nothing can make fire is a defect (issue 21 removed six:
+/// the negative-flow warnings of the site balance, which refuses negative flows).
+fn firing() -> Vec<(&'static str, &'static str, Value)> {
+    // a bare 2.5-inch line carrying 1 kg/s of 10 bar steam into a 9.5 bar header: its drop
+    // at that flow exceeds the 0.5 bar between its ends
+    let line_site = |demand: f64| {
+        json!({"network": {
+            "units": {
+                "MK": { "kind": "makeup", "T": "20 degC" },
+                "P": { "kind": "pump", "p": "12 bar", "efficiency": 0.7 },
+                "B": { "kind": "boiler", "efficiency": 0.85 },
+                "H": { "kind": "header", "p": "10 bar" },
+                "L": { "kind": "line", "length": "150 m", "inner_diameter": "62.7 mm", "wall_thickness": "5.2 mm" },
+                "H2": { "kind": "header", "p": "9.5 bar" },
+                "U": { "kind": "user", "demand": demand, "return_T": "80 degC" }
+            },
+            "streams": {
+                "mk_p": { "from": "MK", "to": "P" },
+                "p_b": { "from": "P", "to": "B" },
+                "b_h": { "from": "B", "to": "H", "x": 1 },
+                "h_l": { "from": "H", "to": "L" },
+                "l_h2": { "from": "L", "to": "H2" },
+                "h2_u": { "from": "H2", "to": "U" }
+            }
+        }})
+    };
+    let exchanger = |hot_out_t: &str| {
+        json!({"network": {
+            "units": {
+                "M1": { "kind": "makeup", "T": "170 degC" },
+                "M2": { "kind": "makeup", "T": "20 degC" },
+                "X": { "kind": "exchanger", "hot_in": "hi", "hot_out": "ho" },
+                "V1": { "kind": "vent" },
+                "V2": { "kind": "vent" }
+            },
+            "streams": {
+                "hi": { "from": "M1", "to": "X", "flow": 5, "p": "10 bar" },
+                "ho": { "from": "X", "to": "V1", "T": hot_out_t },
+                "ci": { "from": "M2", "to": "X", "flow": 8, "p": "3 bar" },
+                "co": { "from": "X", "to": "V2" }
+            }
+        }})
+    };
+    // a header at 10 bar fed 1 kg/s of steam (T or x on the boiler's stream) into a pump
+    let pump_on_steam = |x: f64| {
+        json!({"network": {
+            "units": {
+                "MK": { "kind": "makeup", "T": "20 degC" },
+                "P0": { "kind": "pump", "p": "12 bar", "efficiency": 0.7 },
+                "B": { "kind": "boiler", "efficiency": 0.85 },
+                "H": { "kind": "header", "p": "10 bar" },
+                "P": { "kind": "pump", "p": "20 bar", "efficiency": 0.7 },
+                "V": { "kind": "vent" }
+            },
+            "streams": {
+                "mk_p": { "from": "MK", "to": "P0" },
+                "p_b": { "from": "P0", "to": "B" },
+                "b_h": { "from": "B", "to": "H", "flow": 1, "x": x },
+                "h_p": { "from": "H", "to": "P" },
+                "p_v": { "from": "P", "to": "V" }
+            }
+        }})
+    };
+    let mut venting: Value =
+        serde_json::from_str(include_str!("../../examples/site/site.json")).unwrap();
+    venting["streams"]["llp_vent"]
+        .as_object_mut()
+        .unwrap()
+        .remove("flow");
+    venting["streams"]["ct_to_llp"]["flow"] = json!("10 kg/s");
+    let bare = |inlet: Value, length: &str, d: &str, wall: &str| json!({"inlet": inlet, "length": length, "inner_diameter": d, "wall_thickness": wall});
+    vec![
+        (
+            "near_critical",
+            "orifice.flow",
+            json!({"inlet": {"p": "22 MPa", "T": "400 degC"}, "diameter": "1 mm"}),
+        ),
+        (
+            "turbine_inlet_not_superheated",
+            "turbine.expand",
+            json!({"inlet": {"p": "10 bar", "x": 0.98}, "outlet_p": "2 bar", "efficiency": 0.8}),
+        ),
+        (
+            "flash_inlet_superheated",
+            "flash.separate",
+            json!({"inlet": {"p": "10 bar", "T": "250 degC", "flow": 1}, "p": "2 bar"}),
+        ),
+        (
+            "orifice_beta_high",
+            "orifice.flow",
+            json!({"inlet": {"p": "10 barg", "x": 1}, "diameter": "9 mm", "pipe_diameter": "10 mm"}),
+        ),
+        (
+            "flashing_lower_estimate",
+            "orifice.flow",
+            json!({"inlet": {"p": "10 barg", "x": 0}, "diameter": "3 mm"}),
+        ),
+        (
+            "approach_velocity_high",
+            "orifice.flow",
+            json!({"inlet": {"p": "2 bar", "x": 1}, "diameter": "20 mm", "approach_velocity": "150 m/s"}),
+        ),
+        (
+            "surface_above_touch_limit",
+            "pipe.flow",
+            bare(
+                json!({"p": "5 barg", "x": 1, "flow": "3 t/h"}),
+                "25 m",
+                "62.7 mm",
+                "5.2 mm",
+            ),
+        ),
+        (
+            "velocity_high",
+            "pipe.flow",
+            bare(
+                json!({"p": "5 barg", "x": 1, "flow": "3 t/h"}),
+                "25 m",
+                "62.7 mm",
+                "5.2 mm",
+            ),
+        ),
+        (
+            "line_condensate",
+            "pipe.flow",
+            bare(
+                json!({"p": "5 barg", "x": 1, "flow": "3 t/h"}),
+                "25 m",
+                "62.7 mm",
+                "5.2 mm",
+            ),
+        ),
+        (
+            "pressure_drop_high",
+            "pipe.flow",
+            bare(
+                json!({"p": "5 barg", "x": 1, "flow": "3 t/h"}),
+                "25 m",
+                "62.7 mm",
+                "5.2 mm",
+            ),
+        ),
+        // water at Re of about 3000 in a half-inch line
+        (
+            "transitional_flow",
+            "pipe.flow",
+            bare(
+                json!({"p": "3 bar", "T": "20 degC", "flow": "0.037 kg/s"}),
+                "10 m",
+                "15.8 mm",
+                "2.8 mm",
+            ),
+        ),
+        // water 3.5 K below saturation losing 0.4 bar along the line
+        (
+            "line_flashing",
+            "pipe.flow",
+            json!({"inlet": {"p": "3 bar", "T": "130 degC", "flow": "2 kg/s"}, "length": "50 m", "inner_diameter": "40.9 mm", "wall_thickness": "3.7 mm", "insulation": [{"thickness": "50 mm", "conductivity": "0.04 W/(m K)"}]}),
+        ),
+        (
+            "mach_high",
+            "pipe.flow",
+            bare(
+                json!({"p": "10 bar", "T": "300 degC", "flow": "2 kg/s"}),
+                "5 m",
+                "52.5 mm",
+                "3.9 mm",
+            ),
+        ),
+        (
+            "desuperheater_target_saturated",
+            "balance.solve",
+            json!({"network": letdown("170 degC")}),
+        ),
+        (
+            "condensate_not_liquid",
+            "balance.solve",
+            json!({"network": {
+                "units": {
+                    "MK": { "kind": "makeup", "T": "20 degC" },
+                    "P": { "kind": "pump", "p": "12 bar", "efficiency": 0.7 },
+                    "B": { "kind": "boiler", "efficiency": 0.85, "T": "250 degC" },
+                    "H": { "kind": "header", "p": "10 bar" },
+                    "U": { "kind": "user", "demand": 1, "return_fraction": 0.5, "return_T": "150 degC" },
+                    "V": { "kind": "vent" }
+                },
+                "streams": {
+                    "mk_p": { "from": "MK", "to": "P" },
+                    "p_b": { "from": "P", "to": "B" },
+                    "b_h": { "from": "B", "to": "H" },
+                    "h_u": { "from": "H", "to": "U" },
+                    "u_v": { "from": "U", "to": "V", "p": "1 bar" }
+                }
+            }}),
+        ),
+        (
+            "user_receives_liquid",
+            "balance.solve",
+            json!({"network": {
+                "units": {
+                    "MK": { "kind": "makeup", "T": "20 degC" },
+                    "P": { "kind": "pump", "p": "5 bar", "efficiency": 0.7 },
+                    "U": { "kind": "user", "demand": 1, "return_T": "80 degC" }
+                },
+                "streams": {
+                    "mk_p": { "from": "MK", "to": "P" },
+                    "p_u": { "from": "P", "to": "U" }
+                }
+            }}),
+        ),
+        // the hot side leaves 1 K hotter than it came: the cold side gives it heat
+        (
+            "heat_flows_backwards",
+            "balance.solve",
+            exchanger("171 degC"),
+        ),
+        (
+            "temperature_cross_at_end",
+            "balance.solve",
+            exchanger("15 degC"),
+        ),
+        ("pump_inlet_not_liquid", "balance.solve", pump_on_steam(0.9)),
+        (
+            "exhaust_velocity_high",
+            "turbine.expand",
+            json!({"inlet": {"p": "40 bar", "T": "400 degC", "flow": 30}, "outlet_p": "0.05 bar", "efficiency": 0.85, "exhaust_area": "2 m2"}),
+        ),
+        // saturation at 2 bar is about 120.2 degC
+        (
+            "measured_outlet_near_saturation",
+            "turbine.expand",
+            json!({"inlet": {"p": "10 bar", "T": "300 degC"}, "outlet_p": "2 bar", "outlet": {"p": "2 bar", "T": "121.5 degC"}}),
+        ),
+        ("steam_vented", "balance.solve", json!({"network": venting})),
+        ("line_no_flow", "balance.solve", line_site(0.0)),
+        (
+            "line_drop_exceeds_available",
+            "balance.solve",
+            line_site(1.0),
+        ),
+    ]
+}
+
+#[test]
+fn every_warning_code_fires() {
+    let mut fired: Vec<String> = table()
+        .into_iter()
+        .filter_map(|(_, _, _, want)| match want {
+            Warning(code) => Some(code.to_string()),
+            _ => None,
+        })
+        .collect();
+    let mut failures = Vec::new();
+    for (code, method, params) in firing() {
+        match api::call(method, params) {
+            Ok(v) => {
+                let ws = v["warnings"].as_array().cloned().unwrap_or_default();
+                if ws.iter().any(|w| w["code"] == code) {
+                    fired.push(code.to_string());
+                } else {
+                    failures.push(format!("{code} ({method}): warnings {ws:?}"));
+                }
+            }
+            Err(e) => failures.push(format!("{code} ({method}): error {e}")),
+        }
+    }
+    assert!(failures.is_empty(), "{}", failures.join("\n"));
+    for c in Code::ALL {
+        assert!(
+            fired.iter().any(|f| f == c.name()),
+            "no request makes {} fire: remove it or add the request that does",
+            c.name()
+        );
+    }
+    // a pump fed superheated steam is warned about too (the check once asked for a quality,
+    // which vapour has none)
+    let v = api::call("balance.solve", {
+        let mut p = firing()
+            .into_iter()
+            .find(|(c, _, _)| *c == "pump_inlet_not_liquid")
+            .unwrap()
+            .2;
+        p["network"]["streams"]["b_h"]
+            .as_object_mut()
+            .unwrap()
+            .remove("x");
+        p["network"]["units"]["B"]["T"] = json!("250 degC");
+        p
+    })
+    .unwrap();
+    let hit = v["warnings"].as_array().unwrap().iter().any(|w| {
+        w["code"] == "pump_inlet_not_liquid" && w["message"].as_str().unwrap().contains("vapour")
+    });
+    assert!(hit, "{}", v["warnings"]);
+}
+
+/// The refusal of negative flows says what they mean at the units they join (the words of
+/// the warnings it replaced, naming the unit), in the caller's units, in the message, in the
+/// diagnosis and at a sweep's failed point.
+#[test]
+fn negative_flows_are_refused_naming_the_unit_and_what_to_change() {
+    let short = site_with(&[
+        ("streams.lp_vt.flow", Value::Null),
+        ("streams.lv_lp.flow", json!("0 kg/s")),
+        ("streams.hp_t.flow", json!("5 kg/s")),
+        ("units.U.demand", json!("10 kg/s")),
+    ]);
+    // in the us preset the shortage is in lb/h: 10 kg/s of demand against 5 from the turbine,
+    // about 5.2 kg/s short = about 41,400 lb/h (1 lb = 0.45359237 kg exactly, NIST SP 811)
+    let e = api::call("balance.solve", json!({"network": short, "units": "us"})).unwrap_err();
+    assert_eq!(e.code, 1006, "{e}");
+    let over = &e.data["diagnosis"]["over"][0];
+    assert_eq!(over["code"], "negative_flows", "{over}");
+    let hint = &over["hints"][0];
+    assert_eq!(hint["code"], "header_short_of_steam", "{over}");
+    assert_eq!(hint["unit"], "LP", "{over}");
+    assert_eq!(hint["streams"], json!(["lp_vt"]), "{over}");
+    let m = hint["message"].as_str().unwrap();
+    assert!(m.starts_with("header LP is short of steam by 41"), "{m}");
+    assert!(m.contains("lb/h") && !m.contains("kg/s"), "{m}");
+    assert!(e.message.contains(m), "{}", e.message);
+    // the let-down needed backwards, and a sweep point that needs it: not ok, with the reason
+    let backwards = site_with(&[("units.U.demand", json!(1))]);
+    let e = api::call("balance.solve", json!({"network": backwards})).unwrap_err();
+    let hint = &e.data["diagnosis"]["over"][0]["hints"][0];
+    assert_eq!(hint["code"], "let_down_backwards", "{hint}");
+    assert_eq!(hint["unit"], "LV", "{hint}");
+    let r = api::call(
+        "balance.sweep",
+        json!({"network": small_site(), "path": "units.U.demand", "from": 1, "to": 10, "points": 2}),
+    )
+    .unwrap();
+    let p = &r["points"][0];
+    assert_eq!(p["ok"], false, "{p}");
+    assert!(
+        p["error"]
+            .as_str()
+            .unwrap()
+            .contains("let-down valve LV would have to pass steam back"),
+        "{p}"
+    );
+    assert_eq!(r["points"][1]["ok"], true, "{}", r["points"][1]);
+    // the measured turbine outlet's enthalpies in the caller's units (Btu/lb)
+    let hot = site_with(&[("streams.t_lp.T", json!("420 degC"))]);
+    let e = api::call("balance.solve", json!({"network": hot, "units": "us"})).unwrap_err();
+    let f = &e.data["diagnosis"]["over"][0];
+    assert_eq!(f["code"], "measured_expansion_impossible", "{f}");
+    assert_eq!(f["streams"], json!(["t_lp"]), "{f}");
+    assert!(f["value"].as_f64().unwrap() < 0.0, "{f}");
+    let m = f["message"].as_str().unwrap();
+    assert!(m.contains("Btu/lb") && !m.contains("kJ/kg"), "{m}");
 }

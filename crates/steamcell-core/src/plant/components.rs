@@ -8,9 +8,10 @@
 //! Invariant: every result carries its [`Balance`]; a test checks closure to 1e-9 for each.
 
 use super::feasibility::{self, check_second_law, entropy_generation, entropy_scale};
-use super::warnings::{Code, Warning};
+use super::warnings::{Arg, Code, Quantity, Warning};
 use super::{ph, ps, pt, sat_liquid, sat_vapour, Balance, MOISTURE_WARNING};
 use crate::error::{Bound, Error, Result};
+use crate::units::Dim;
 use crate::water::state::{self, Phase, State, P_C, T_C};
 
 /// Standard acceleration of gravity for heads, m/s2 (CGPM 1901; common practice, no source).
@@ -465,10 +466,12 @@ pub fn leaving_loss(elep: &State, flow: f64, area: f64) -> Result<LeavingLoss> {
 /// Warning for a high exhaust annulus velocity.
 fn velocity_warning(l: &LeavingLoss) -> Option<Warning> {
     if l.velocity > EXHAUST_VELOCITY_WARNING {
-        Some(Warning::new(Code::ExhaustVelocityHigh, format!(
-            "exhaust annulus velocity {:.0} m/s is above about 300 m/s: exhaust losses climb steeply towards choking there and only V^2/2 is modelled; check the exhaust area and the flow",
-            l.velocity
-        )))
+        let v = |x: f64| Arg::from(Quantity::new("velocity", Dim::Speed, x));
+        Some(Warning::with(
+            Code::ExhaustVelocityHigh,
+            "exhaust annulus velocity {} is above about {}: exhaust losses climb steeply towards choking there and only V^2/2 is modelled; check the exhaust area and the flow",
+            &[v(l.velocity), v(EXHAUST_VELOCITY_WARNING)],
+        ))
     } else {
         None
     }
@@ -659,9 +662,13 @@ pub fn turbine_expand_with(
     if let TurbineSpec::Outlet(out) = spec {
         if let Some(sh) = superheat_of(&out) {
             if sh < MEASURED_SUPERHEAT_WARNING {
-                ex.warnings.push(Warning::new(Code::MeasuredOutletNearSaturation, format!(
-                    "the measured exhaust is only {sh:.2} K above saturation: within a thermocouple's uncertainty (about 1 K) it may be wet, where a temperature cannot fix the state; confirm with the exhaust quality or a heat balance"
-                )));
+                let dt =
+                    |x: f64| Arg::from(Quantity::new("superheat", Dim::TemperatureDifference, x));
+                ex.warnings.push(Warning::with(
+                    Code::MeasuredOutletNearSaturation,
+                    "the measured exhaust is only {} above saturation: within a thermocouple's uncertainty (about {}) it may be wet, where a temperature cannot fix the state; confirm with the exhaust quality or a heat balance",
+                    &[dt(sh), dt(1.0)],
+                ));
             }
         }
     }
@@ -1209,9 +1216,10 @@ pub fn pump_raise_from(
                 "the suction is saturated liquid, so its NPSH available from the state alone is 0 m: give suction_head (the liquid level above the pump inlet less the suction-line losses) for the NPSH available of the installation, and compare it with the pump maker's NPSH required plus a margin",
             ));
         } else if n < NPSH_WARNING {
-            warnings.push(Warning::new(
+            warnings.push(Warning::with(
                 Code::NpshLow,
-                format!("NPSH available is only {n:.2} m: compare with the pump maker's NPSH required plus a margin"),
+                "NPSH available is only {}: compare with the pump maker's NPSH required plus a margin",
+                &[Quantity::new("npsh_available", Dim::Length, n).into()],
             ));
         }
         Some(n)
@@ -1306,10 +1314,17 @@ pub fn valve_throttle(inlet: &State, outlet_p: f64, flow: Option<f64>) -> Result
                 Some(x) => format!("wet steam (x = {x:.4})"),
                 None => inlet.phase.name().to_string(),
             };
-            warnings.push(Warning::new(Code::ValveOutletWet, format!(
-                "the steam leaves the valve wet (x = {x_out:.4}) though it entered as {was}: throttled from {:.4} MPa to {outlet_p:.4} MPa its enthalpy {:.1} kJ/kg is below the saturated vapour's there (saturated steam above about 3 MPa gets wetter when throttled); provide drainage or a separator after the valve, or superheat the steam before the let-down",
-                inlet.props.p, inlet.props.h
-            )));
+            let pr = |x: f64| Arg::from(Quantity::new("p", Dim::Pressure, x));
+            warnings.push(Warning::with(
+                Code::ValveOutletWet,
+                &format!("the steam leaves the valve wet (x = {x_out:.4}) though it entered as {was}: throttled from {{}} to {{}} its enthalpy {{}} is below the saturated vapour's there (saturated steam above about {{}} gets wetter when throttled); provide drainage or a separator after the valve, or superheat the steam before the let-down"),
+                &[
+                    pr(inlet.props.p),
+                    pr(outlet_p),
+                    Quantity::new("h", Dim::SpecificEnergy, inlet.props.h).into(),
+                    pr(3.0),
+                ],
+            ));
         }
     }
     let m = flow.unwrap_or(1.0);
@@ -1433,16 +1448,20 @@ pub fn desuperheater_spray(
     let mw = ms * ratio;
     let mut warnings = Vec::new();
     if water.props.p < p {
-        warnings.push(Warning::new(Code::SprayWaterPressureLow, format!(
-            "the spray water pressure {:.4} MPa is below the outlet pressure {:.4} MPa: it cannot enter without a pump",
-            water.props.p, p
-        )));
+        let pr = |x: f64| Arg::from(Quantity::new("p", Dim::Pressure, x));
+        warnings.push(Warning::with(
+            Code::SprayWaterPressureLow,
+            "the spray water pressure {} is below the outlet pressure {}: it cannot enter without a pump",
+            &[pr(water.props.p), pr(p)],
+        ));
     }
     if t_out - ts < 5.0 {
-        warnings.push(Warning::new(Code::SmallSuperheat, format!(
-            "outlet superheat {:.1} K is small: spray may not evaporate fully (common practice, no source)",
-            t_out - ts
-        )));
+        let dt = |x: f64| Arg::from(Quantity::new("superheat", Dim::TemperatureDifference, x));
+        warnings.push(Warning::with(
+            Code::SmallSuperheat,
+            "outlet superheat {} is below {}: spray may not evaporate fully (common practice, no source)",
+            &[dt(t_out - ts), dt(5.0)],
+        ));
     }
     let ins = [(ms, steam), (mw, water)];
     let outs = [(ms + mw, &outlet)];
@@ -1607,12 +1626,11 @@ pub fn header_mix(inlets: &[(State, f64)], p: f64) -> Result<MixResult> {
         m += f;
         e += f * st.props.h;
         if st.props.p < p * (1.0 - 1e-9) {
-            warnings.push(Warning::new(
+            let pr = |x: f64| Arg::from(Quantity::new("p", Dim::Pressure, x));
+            warnings.push(Warning::with(
                 Code::InletBelowHeaderPressure,
-                format!(
-                "inlet {i} is at {:.4} MPa, below the header pressure {:.4} MPa: it cannot flow in",
-                st.props.p, p
-            ),
+                &format!("inlet {i} is at {{}}, below the header pressure {{}}: it cannot flow in"),
+                &[pr(st.props.p), pr(p)],
             ));
         }
     }
@@ -1842,12 +1860,14 @@ pub fn exchanger_balance(hot: &Side, cold: &Side) -> Result<ExchangerResult> {
     let dca = if prof.hot_condenses { Some(dt2) } else { None };
     let mut warnings = Vec::new();
     if pinch < PINCH_WARNING {
-        warnings.push(Warning::new(
+        let dt = |x: f64| Arg::from(Quantity::new("pinch", Dim::TemperatureDifference, x));
+        warnings.push(Warning::with(
             Code::SmallPinch,
-            format!(
-                "the pinch is only {pinch:.2} K (at {}): a very large surface would be needed",
+            &format!(
+                "the pinch is only {{}} (at {}), below {{}}: a very large surface would be needed",
                 prof.pinch.describe()
             ),
+            &[dt(pinch), dt(PINCH_WARNING)],
         ));
     }
     let ins = [(mh, &hot.inlet), (mc, &cold.inlet)];
@@ -2069,12 +2089,11 @@ pub fn deaerator_balance(
         )));
     }
     if steam.props.p < p {
-        warnings.push(Warning::new(
+        let pr = |x: f64| Arg::from(Quantity::new("p", Dim::Pressure, x));
+        warnings.push(Warning::with(
             Code::HeatingSteamPressureLow,
-            format!(
-                "the heating steam pressure {:.4} MPa is below the deaerator pressure {p:.4} MPa: it cannot flow in; check the heating-steam supply",
-                steam.props.p
-            ),
+            "the heating steam pressure {} is below the deaerator pressure {}: it cannot flow in; check the heating-steam supply",
+            &[pr(steam.props.p), pr(p)],
         ));
     }
     let mv = ms * vent_fraction;

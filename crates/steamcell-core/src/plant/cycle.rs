@@ -35,9 +35,10 @@ use super::components::{
     pump_raise, throttle_valve, DriveLoss, EfficiencyBasis, LeavingLoss, LineEnd, MoistureLoss,
     PumpEfficiencyKind, EXHAUST_VELOCITY_WARNING,
 };
-use super::warnings::{Code, Warning};
+use super::warnings::{Arg, Code, Quantity, Warning};
 use super::{ph, ps as ps_state, pt, sat_liquid, sat_vapour};
 use crate::error::{Bound, Error, Result};
+use crate::units::Dim;
 use crate::water::state::{self, Phase, State};
 
 /// IT Btu in kJ (exact by definition; common practice, no source).
@@ -1512,10 +1513,12 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
 
 fn velocity_warning(l: &LeavingLoss) -> Option<Warning> {
     if l.velocity > EXHAUST_VELOCITY_WARNING {
-        Some(Warning::new(Code::ExhaustVelocityHigh, format!(
-            "LP exhaust annulus velocity {:.0} m/s is above about 300 m/s: exhaust losses climb steeply towards choking there and only V^2/2 is modelled; check the exhaust area and the flow",
-            l.velocity
-        )))
+        let v = |x: f64| Arg::from(Quantity::new("velocity", Dim::Speed, x));
+        Some(Warning::with(
+            Code::ExhaustVelocityHigh,
+            "LP exhaust annulus velocity {} is above about {}: exhaust losses climb steeply towards choking there and only V^2/2 is modelled; check the exhaust area and the flow",
+            &[v(l.velocity), v(EXHAUST_VELOCITY_WARNING)],
+        ))
     } else {
         None
     }

@@ -26,6 +26,8 @@
 use super::correlations::{self as cor, FrictionModel};
 use super::{ph, Balance};
 use crate::error::{Bound, Error, Result};
+use crate::plant::warnings::{Arg, Code, Quantity, Warning};
+use crate::units::Dim;
 use crate::water::state::{self, Phase, State};
 use crate::water::transport;
 use crate::water::Formulation;
@@ -686,6 +688,98 @@ pub fn line_flow(inlet: &State, flow: f64, spec: &LineSpec) -> Result<LineResult
 /// enthalpy of the tested lines by far less than 1e-4 relative).
 pub fn default_segments(length: f64) -> usize {
     ((length / 5.0).ceil() as usize).clamp(40, 4000)
+}
+
+/// The velocity limit of a line ([`V_MAX_WATER`], [`V_MAX_SATURATED`] or
+/// [`V_MAX_SUPERHEATED`], m/s), the usual range below it (m/s) and the line's name, from its
+/// inlet phase and whether it runs wet anywhere.
+pub fn velocity_limit(liquid: bool, wet: bool) -> (f64, (f64, f64), &'static str) {
+    if liquid {
+        (V_MAX_WATER, (1.0, 3.0), "a water line")
+    } else if wet {
+        (
+            V_MAX_SATURATED,
+            (25.0, 40.0),
+            "a saturated or wet steam line",
+        )
+    } else {
+        (V_MAX_SUPERHEATED, (35.0, 60.0), "a superheated steam line")
+    }
+}
+
+/// Mach number above which a steam line is warned about (0.3, the usual incompressibility
+/// limit; common practice, no source).
+pub const MACH_WARNING: f64 = 0.3;
+
+/// The warnings of a marched line `r` (pipe.flow): its surface above `touch_limit` (K; `built`
+/// names the surface, "bare" or "insulated"), a velocity above [`velocity_limit`],
+/// laminar-turbulent transition, water flashing, condensate in a steam line, a pressure drop
+/// above 10 % of the inlet pressure, a Mach number above [`MACH_WARNING`]. Their values are
+/// [`Quantity`]s, stated in the caller's units by the API.
+pub fn line_warnings(r: &LineResult, built: &str, touch_limit: f64) -> Vec<Warning> {
+    let mut w = Vec::new();
+    let steam = r.inlet.phase != Phase::Liquid;
+    if r.max_surface_t > touch_limit {
+        w.push(Warning::with(
+            Code::SurfaceAboveTouchLimit,
+            &format!("the {built} surface reaches {{}} above the touch limit {{}}: personnel protection (insulation, guards) is needed where it can be touched (common practice; follow local codes)"),
+            &[
+                Quantity::new("surface_T", Dim::Temperature, r.max_surface_t).into(),
+                Quantity::new("touch_limit_T", Dim::Temperature, touch_limit).into(),
+            ],
+        ));
+    }
+    let wet = r.points.iter().any(|pt| pt.state.phase == Phase::Wet);
+    let (limit, (lo, hi), what) = velocity_limit(!steam, wet);
+    if r.max_velocity > limit {
+        let v = |x: f64| Arg::from(Quantity::new("velocity", Dim::Speed, x));
+        w.push(Warning::with(
+            Code::VelocityHigh,
+            &format!("the velocity reaches {{}} above about {{}} for {what} ({{}} to {{}} is usual): expect noise, erosion and a large pressure drop (common practice, no source)"),
+            &[v(r.max_velocity), v(limit), v(lo), v(hi)],
+        ));
+    }
+    if r.transitional {
+        w.push(Warning::new(Code::TransitionalFlow, "the flow is in laminar-turbulent transition (2300 < Re < 4000) somewhere along the line: the friction factor there is an interpolation and uncertain"));
+    }
+    if !steam && r.outlet.phase == Phase::Wet {
+        w.push(Warning::new(Code::LineFlashing, format!(
+            "the water flashes in the line (outlet quality {:.4}): the line runs two-phase, with the risk of water hammer",
+            r.outlet.x.unwrap_or(0.0)
+        )));
+    }
+    if let Some(c) = r.condensate.filter(|&c| steam && c > 0.0) {
+        w.push(Warning::with(
+            Code::LineCondensate,
+            "{} of condensate forms along the line: drain it with traps at low points (the calculation carries it along with the steam, homogeneously)",
+            &[Quantity::new("condensate", Dim::MassFlow, c).into()],
+        ));
+    }
+    if r.pressure_drop > 0.1 * r.inlet.props.p {
+        w.push(Warning::with(
+            Code::PressureDropHigh,
+            &format!(
+                "the pressure drop {{}} is {:.1} % of the inlet pressure {{}}: consider a larger line (common practice, no source)",
+                100.0 * r.pressure_drop / r.inlet.props.p
+            ),
+            &[
+                Quantity::new("pressure_drop", Dim::PressureDifference, r.pressure_drop).into(),
+                Quantity::new("p", Dim::Pressure, r.inlet.props.p).into(),
+            ],
+        ));
+    }
+    if steam && r.inlet.phase == Phase::Vapour {
+        let mach = r
+            .points
+            .iter()
+            .filter(|pt| pt.state.props.w.is_finite())
+            .map(|pt| pt.velocity / pt.state.props.w)
+            .fold(0.0, f64::max);
+        if mach > MACH_WARNING {
+            w.push(Warning::new(Code::MachHigh, format!("the Mach number reaches {mach:.2}: the flow is strongly compressible; check the outlet pressure against the choking limit")));
+        }
+    }
+    w
 }
 
 #[cfg(test)]

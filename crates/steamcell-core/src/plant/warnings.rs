@@ -8,39 +8,204 @@
 //! refused with an error instead, never warned. No warning fires on a nominal case (the README's
 //! examples, the demo and the audit's leaks: `feasibility.rs::nominal_examples_give_no_warnings`).
 //!
-//! Units: messages carry their values in internal units (p MPa, T K, ...) unless the caller
-//! re-states them (the distribution methods speak the caller's preset).
+//! Units: a warning's `message` carries its values in internal units (p MPa, T K, flow kg/s,
+//! ...). A warning built with [`Warning::with`] also keeps its values as [`Quantity`]s (value,
+//! dimension, field name), so that the API states them in the caller's units
+//! ([`Warning::message_in`]); the core stays free of the request's units.
 //!
 //! Invariant: [`CATALOGUE`] lists every [`Code`] exactly once, in the order of [`Code::ALL`]
-//! (a test checks it), and codes are stable wire names: rename none, only add.
+//! (a test checks it), and codes are stable wire names: rename none; a code is removed only
+//! when nothing can make it fire any more (issue 21: the negative-flow warnings of the site
+//! balance, once it refused negative flows).
 
+use crate::error::fmt_sig;
+use crate::units::Dim;
 use std::fmt;
+
+/// A value named in a warning's message: internal units, with its dimension and the name of
+/// the field it is (a request may choose a unit by field name, e.g. `flow` in t/h).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Quantity {
+    /// Field name whose unit it takes (`flow`, `pressure_drop`, `surface_T`, ...).
+    pub name: &'static str,
+    /// Its dimension.
+    pub dim: Dim,
+    /// Its value, internal units.
+    pub value: f64,
+}
+
+impl Quantity {
+    /// The quantity `name` of dimension `dim` with the internal value `value`.
+    pub fn new(name: &'static str, dim: Dim, value: f64) -> Quantity {
+        Quantity { name, dim, value }
+    }
+}
+
+/// What fills one `{}` of a [`Warning::with`] template: a value, or text taken as it is (a
+/// stream or unit name, which may itself hold braces).
+#[derive(Debug, Clone, PartialEq)]
+pub enum Arg {
+    /// A value stated in some unit.
+    Value(Quantity),
+    /// Text.
+    Text(String),
+}
+
+impl From<Quantity> for Arg {
+    fn from(q: Quantity) -> Arg {
+        Arg::Value(q)
+    }
+}
+
+impl From<&str> for Arg {
+    fn from(t: &str) -> Arg {
+        Arg::Text(t.to_string())
+    }
+}
+
+/// A piece of a message: text, or a value to be stated in some unit.
+#[derive(Debug, Clone, PartialEq)]
+enum Part {
+    Text(String),
+    Value(Quantity),
+}
+
+/// Fewest significant digits of a value in a message; more (up to [`DIGITS_MAX`]) when two
+/// different values of one dimension would print alike (a value beside its limit).
+const DIGITS: usize = 4;
+/// Most significant digits of a value in a message.
+const DIGITS_MAX: usize = 6;
 
 /// A warning: its code in the catalogue and a one-line message with the values of the case.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Warning {
     /// The catalogue code.
     pub code: Code,
-    /// One line: what was found, with its values, and what to check.
+    /// One line: what was found, with its values (internal units), and what to check.
     pub message: String,
+    /// The message as text and values, when built with [`Warning::with`] (else empty).
+    parts: Vec<Part>,
 }
 
 impl Warning {
-    /// A warning of `code` with its message.
+    /// A warning of `code` with its message (no values to re-state).
     pub fn new(code: Code, message: impl Into<String>) -> Warning {
         Warning {
             code,
             message: message.into(),
+            parts: Vec::new(),
         }
+    }
+
+    /// A warning of `code` whose message `template` is filled with `args` in order, one per
+    /// `{}`: a value is stated as "value unit" (a pure number without unit), text as it is.
+    /// Names given by the caller go in as [`Arg::Text`], never into the template.
+    pub fn with(code: Code, template: &str, args: &[Arg]) -> Warning {
+        let mut parts = Vec::with_capacity(2 * args.len() + 1);
+        let mut rest = template;
+        let mut vals = args.iter();
+        while let Some(i) = rest.find("{}") {
+            if i > 0 {
+                parts.push(Part::Text(rest[..i].to_string()));
+            }
+            parts.push(match vals.next() {
+                Some(Arg::Value(q)) => Part::Value(*q),
+                Some(Arg::Text(t)) => Part::Text(t.clone()),
+                None => Part::Text("{}".into()),
+            });
+            rest = &rest[i + 2..];
+        }
+        if !rest.is_empty() {
+            parts.push(Part::Text(rest.to_string()));
+        }
+        debug_assert!(vals.next().is_none(), "more values than {{}} in {template}");
+        let mut w = Warning {
+            code,
+            message: String::new(),
+            parts,
+        };
+        w.message = w.message_in(|q| (q.value, q.dim.internal_symbol()));
+        w
+    }
+
+    /// The values the message names (internal units), in order.
+    pub fn quantities(&self) -> impl Iterator<Item = &Quantity> {
+        self.parts.iter().filter_map(|p| match p {
+            Part::Value(q) => Some(q),
+            Part::Text(_) => None,
+        })
+    }
+
+    /// The message with every value stated as `to` gives it: (value, unit symbol) of a
+    /// quantity. Values get 4 significant digits (a value written in full with up to 6 keeps
+    /// them, e.g. a limit of 333.15 K), up to 6 where two different values of one dimension
+    /// would otherwise print alike. A warning without values gives its message.
+    pub fn message_in(&self, to: impl Fn(&Quantity) -> (f64, &'static str)) -> String {
+        if self.parts.is_empty() {
+            return self.message.clone();
+        }
+        let stated: Vec<(Quantity, f64, &str)> = self
+            .quantities()
+            .map(|q| {
+                let (v, u) = to(q);
+                (*q, v, u)
+            })
+            .collect();
+        let text = |v: f64, d: usize| short(v, d);
+        let clash = |d: usize| {
+            stated.iter().enumerate().any(|(i, a)| {
+                stated[..i]
+                    .iter()
+                    .any(|b| a.0.dim == b.0.dim && a.1 != b.1 && text(a.1, d) == text(b.1, d))
+            })
+        };
+        let digits = (DIGITS..DIGITS_MAX)
+            .find(|&d| !clash(d))
+            .unwrap_or(DIGITS_MAX);
+        let mut out = String::new();
+        let mut k = 0;
+        for p in &self.parts {
+            match p {
+                Part::Text(t) => out.push_str(t),
+                Part::Value(_) => {
+                    let (_, v, u) = stated[k];
+                    k += 1;
+                    out.push_str(&text(v, digits));
+                    if !(u.is_empty() || u == "1") {
+                        out.push(' ');
+                        out.push_str(u);
+                    }
+                }
+            }
+        }
+        out
     }
 
     /// The same warning with its message prefixed (e.g. "stage 2: ", "turbine BPT: ").
     pub fn prefixed(&self, prefix: &str) -> Warning {
+        let mut parts = self.parts.clone();
+        if !parts.is_empty() {
+            parts.insert(0, Part::Text(prefix.to_string()));
+        }
         Warning {
             code: self.code,
             message: format!("{prefix}{}", self.message),
+            parts,
         }
     }
+}
+
+/// `v` with `digits` significant digits, or with the fewest more (up to [`DIGITS_MAX`]) that
+/// write it exactly (to 1e-9): a limit such as 333.15 K stays as given, a computed value gets
+/// `digits`.
+fn short(v: f64, digits: usize) -> String {
+    (digits..=DIGITS_MAX)
+        .map(|d| fmt_sig(v, d))
+        .find(|t| {
+            t.parse::<f64>()
+                .is_ok_and(|x| (x - v).abs() <= 1e-9 * v.abs())
+        })
+        .unwrap_or_else(|| fmt_sig(v, digits))
 }
 
 impl fmt::Display for Warning {
@@ -115,13 +280,7 @@ codes! {
     LineCondensate => "line_condensate",
     PressureDropHigh => "pressure_drop_high",
     MachHigh => "mach_high",
-    NegativeFlow => "negative_flow",
-    ValveRunsBackwards => "valve_runs_backwards",
-    NegativePower => "negative_power",
-    HeaderShortOfSteam => "header_short_of_steam",
-    NegativeHeatingSteam => "negative_heating_steam",
     DesuperheaterTargetSaturated => "desuperheater_target_saturated",
-    NegativeSpray => "negative_spray",
     CondensateNotLiquid => "condensate_not_liquid",
     UserReceivesLiquid => "user_receives_liquid",
     HeatFlowsBackwards => "heat_flows_backwards",
@@ -295,46 +454,10 @@ pub const CATALOGUE: &[Entry] = &[
         source: "common practice, no source (0.3 is the usual incompressibility limit)",
     },
     Entry {
-        code: Code::NegativeFlow,
-        meaning: "a stream of a solved site balance has a negative flow",
-        check: "the balance needs that stream reversed: change the specifications (demands, fixed flows) so that it runs forward",
-        source: "physical fact",
-    },
-    Entry {
-        code: Code::ValveRunsBackwards,
-        meaning: "a let-down valve of a site balance would have to pass steam from its low-pressure side",
-        check: "the header it feeds has a surplus: vent it or cut an extraction",
-        source: "physical fact",
-    },
-    Entry {
-        code: Code::NegativePower,
-        meaning: "a turbine of a site balance has negative power",
-        check: "check the flows through the turbine",
-        source: "physical fact",
-    },
-    Entry {
-        code: Code::HeaderShortOfSteam,
-        meaning: "a header of a site balance is short of steam: its vent would run backwards",
-        check: "send more steam into the header (let-down, extraction) or lower its demand",
-        source: "physical fact",
-    },
-    Entry {
-        code: Code::NegativeHeatingSteam,
-        meaning: "a deaerator of a site balance needs a negative heating-steam flow",
-        check: "the water entering is already hotter than saturation: lower the inflow temperatures or raise the pressure",
-        source: "physical fact",
-    },
-    Entry {
         code: Code::DesuperheaterTargetSaturated,
         meaning: "a desuperheater's target is at or below saturation; the outlet is set to saturated vapour",
         check: "a desuperheater cannot make wet steam: aim for 5 to 10 K of superheat",
         source: NO_SOURCE,
-    },
-    Entry {
-        code: Code::NegativeSpray,
-        meaning: "a desuperheater of a site balance needs a negative spray flow",
-        check: "the steam is already below the target: check the target and the steam state",
-        source: "physical fact",
     },
     Entry {
         code: Code::CondensateNotLiquid,
@@ -411,6 +534,70 @@ impl Code {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    fn kelvin_to_celsius(q: &Quantity) -> (f64, &'static str) {
+        match q.dim {
+            // the Celsius scale: t/degC = T/K - 273.15 (ITS-90 definition)
+            Dim::Temperature => (q.value - 273.15, "degC"),
+            Dim::Pressure | Dim::PressureDifference => (q.value * 10.0, "bar"),
+            d => (q.value, d.internal_symbol()),
+        }
+    }
+
+    #[test]
+    fn a_warning_with_values_states_them_in_the_units_asked() {
+        let t = |v: f64| Arg::from(Quantity::new("surface_T", Dim::Temperature, v));
+        let w = Warning::with(
+            Code::SurfaceAboveTouchLimit,
+            "stream {} reaches {}, above the touch limit {} ({} % over)",
+            &[
+                "main {}".into(),
+                t(432.754_321),
+                t(333.15),
+                Quantity::new("ratio", Dim::Dimensionless, 29.9).into(),
+            ],
+        );
+        // internal units: 4 significant digits for a computed value, a limit written in full;
+        // a name holding braces is taken as it is; a pure number has no unit
+        assert_eq!(
+            w.message,
+            "stream main {} reaches 432.8 K, above the touch limit 333.15 K (29.9 % over)"
+        );
+        assert_eq!(w.quantities().count(), 3);
+        assert_eq!(
+            w.message_in(kelvin_to_celsius),
+            "stream main {} reaches 159.6 degC, above the touch limit 60 degC (29.9 % over)"
+        );
+        // a prefix joins the text, the values stay values
+        let p = w.prefixed("line L: ");
+        assert!(p
+            .message
+            .starts_with("line L: stream main {} reaches 432.8 K"));
+        assert!(p
+            .message_in(kelvin_to_celsius)
+            .starts_with("line L: stream main {} reaches 159.6 degC"));
+        // a warning without values is its message in any units
+        let plain = Warning::new(Code::LineCondensate, "condensate forms");
+        assert_eq!(plain.message_in(kelvin_to_celsius), "condensate forms");
+    }
+
+    #[test]
+    fn close_values_of_one_dimension_get_the_digits_that_tell_them_apart() {
+        let p = |v: f64| Arg::from(Quantity::new("p", Dim::Pressure, v));
+        let w = Warning::with(
+            Code::InletBelowHeaderPressure,
+            "enters at {}, below {}",
+            &[p(0.999_931_7), p(1.0)],
+        );
+        assert_eq!(w.message, "enters at 0.9999 MPa, below 1 MPa");
+        // both print as 1 with 4 digits; 5 tell them apart
+        let w = Warning::with(
+            Code::InletBelowHeaderPressure,
+            "enters at {}, below {}",
+            &[p(0.999_993_1), p(0.999_996_2)],
+        );
+        assert_eq!(w.message, "enters at 0.99999 MPa, below 1 MPa");
+    }
 
     #[test]
     fn the_catalogue_lists_every_code_once_in_order() {

@@ -4,14 +4,15 @@
 //! all hold) names its units, streams and quantity; each stream's status says who fixes its
 //! flow, pressure and state; each unit lists the specifications it was given.
 //!
-//! Units: values inside findings are in the internal units of the balance (MPa, K, kg/s).
+//! Units: values inside findings are in the internal units of the balance (MPa, K, kg/s);
+//! those with a dimension are [`Amount`]s, which [`Diagnosis::restate`] puts in the caller's
+//! units.
 //!
 //! Invariant: text is rendered only by the `Display` impls here, from the data; the
 //! rendering of a [`Diagnosis`] is the one-line message of the refusal (the under-specified
 //! findings, then the over-specified ones, each in the order found).
 
 use crate::units::Dim;
-use crate::water::state::P_C;
 use std::fmt;
 
 /// A unit named in a finding: its name and kind.
@@ -76,6 +77,14 @@ impl Amount {
             unit: "kW",
         }
     }
+    /// A specific enthalpy in kJ/kg.
+    pub fn specific_energy(value: f64) -> Amount {
+        Amount {
+            value,
+            dim: Dim::SpecificEnergy,
+            unit: "kJ/kg",
+        }
+    }
 }
 
 /// At most six significant digits, trailing zeros dropped.
@@ -110,6 +119,118 @@ pub struct ReversedFlow {
     pub to: UnitRef,
     /// Its flow (negative).
     pub flow: Amount,
+}
+
+/// What a stream running backwards means at a unit it joins, and what to change there.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Reversal {
+    /// A header's vent stream would run backwards: the header is short of steam.
+    HeaderShort {
+        /// The header.
+        header: String,
+        /// Its vent stream.
+        vent: String,
+        /// How much steam it lacks.
+        by: Amount,
+    },
+    /// A let-down valve would pass steam back from its low-pressure side: what it feeds has
+    /// a surplus.
+    LetDownBackwards {
+        /// The valve.
+        valve: String,
+        /// The unit its outlet feeds.
+        feeds: UnitRef,
+    },
+    /// A deaerator's heating steam would be negative: the water entering is already hotter
+    /// than saturation at its pressure.
+    DeaeratorOverheated {
+        /// The deaerator.
+        deaerator: String,
+        /// Its heating-steam stream.
+        steam: String,
+    },
+    /// A desuperheater's spray would be negative: the steam is already at or below its target.
+    SprayNotNeeded {
+        /// The desuperheater.
+        desuperheater: String,
+        /// Its spray-water stream.
+        water: String,
+    },
+    /// The make-up would be negative: more water comes back than the site loses.
+    WaterSurplus {
+        /// The make-up.
+        makeup: String,
+    },
+}
+
+impl Reversal {
+    /// Stable snake-case name of the hint.
+    pub fn code(&self) -> &'static str {
+        match self {
+            Reversal::HeaderShort { .. } => "header_short_of_steam",
+            Reversal::LetDownBackwards { .. } => "let_down_backwards",
+            Reversal::DeaeratorOverheated { .. } => "deaerator_overheated",
+            Reversal::SprayNotNeeded { .. } => "spray_not_needed",
+            Reversal::WaterSurplus { .. } => "water_surplus",
+        }
+    }
+    /// The unit the hint is about.
+    pub fn unit(&self) -> &str {
+        match self {
+            Reversal::HeaderShort { header: u, .. }
+            | Reversal::LetDownBackwards { valve: u, .. }
+            | Reversal::DeaeratorOverheated { deaerator: u, .. }
+            | Reversal::SprayNotNeeded {
+                desuperheater: u, ..
+            }
+            | Reversal::WaterSurplus { makeup: u } => u,
+        }
+    }
+    /// The streams the hint names.
+    pub fn streams(&self) -> Vec<&str> {
+        match self {
+            Reversal::HeaderShort { vent: s, .. }
+            | Reversal::DeaeratorOverheated { steam: s, .. }
+            | Reversal::SprayNotNeeded { water: s, .. } => vec![s.as_str()],
+            Reversal::LetDownBackwards { .. } | Reversal::WaterSurplus { .. } => Vec::new(),
+        }
+    }
+}
+
+impl fmt::Display for Reversal {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Reversal::HeaderShort { header, vent, by } => {
+                let by = Amount {
+                    value: by.value.abs(),
+                    ..*by
+                };
+                write!(
+                    f,
+                    "header {header} is short of steam by {by} (its vent stream {vent} would have to run backwards): send more steam into {header} (a let-down, an extraction) or lower the demand on it"
+                )
+            }
+            Reversal::LetDownBackwards { valve, feeds } => write!(
+                f,
+                "let-down valve {valve} would have to pass steam back from its low-pressure side: {feeds}, which it feeds, has a surplus; send it to a vent or a user, or cut the steam into that header (an extraction)"
+            ),
+            Reversal::DeaeratorOverheated { deaerator, steam } => write!(
+                f,
+                "deaerator {deaerator} would need a negative heating-steam flow ({steam}): the water entering is already hotter than saturation at its pressure; lower the inflow temperatures or raise its pressure"
+            ),
+            Reversal::SprayNotNeeded {
+                desuperheater,
+                water,
+            } => write!(
+                f,
+                "desuperheater {desuperheater} would need a negative spray flow ({water}): the steam is already at or below its target; check the target and the steam state"
+            ),
+            Reversal::WaterSurplus { makeup } => write!(
+                f,
+                "make-up {makeup} would run backwards: more water comes back than the site loses; check the return fractions and the fixed flows"
+            ),
+        }
+    }
 }
 
 /// One specification changed alone that brings every reversed flow to zero (just above),
@@ -369,12 +490,12 @@ pub enum Finding {
         /// Which ends are allowed.
         interval: Interval,
     },
-    /// A user's steam demand is negative (kg/s).
+    /// A user's steam demand is negative.
     NegativeDemand {
         /// The user.
         unit: UnitRef,
-        /// The demand, kg/s.
-        value: f64,
+        /// The demand.
+        value: Amount,
     },
     // ---- streams ----
     /// A stream carries T, h or x although its source unit sets its state.
@@ -386,14 +507,14 @@ pub enum Finding {
         /// How the unit sets it, e.g. "mixing at the header pressure".
         by: &'static str,
     },
-    /// A stream carries a pressure other than the one its source unit sets (MPa).
+    /// A stream carries a pressure other than the one its source unit sets.
     PressureSetBySource {
         /// The stream.
         stream: String,
         /// Its source unit.
         unit: UnitRef,
-        /// The unit's pressure, MPa.
-        p: f64,
+        /// The unit's pressure.
+        p: Amount,
     },
     /// Nothing fixes a stream's pressure.
     PressureNotFixed {
@@ -404,12 +525,12 @@ pub enum Finding {
         /// Its destination unit.
         to: UnitRef,
     },
-    /// A stream's pressure is zero or negative (MPa).
+    /// A stream's pressure is zero or negative.
     PressureNotPositive {
         /// The stream.
         stream: String,
-        /// Its pressure, MPa.
-        p: f64,
+        /// Its pressure.
+        p: Amount,
     },
     /// A stream carries more than one of T, h and x.
     StateGivenTwice {
@@ -425,22 +546,24 @@ pub enum Finding {
         /// The quality given.
         x: f64,
     },
-    /// A pump's discharge pressure is not above its suction pressure (MPa).
+    /// A pump's discharge pressure is not above its suction pressure.
     PumpDoesNotRaise {
         /// The pump.
         unit: UnitRef,
-        /// Discharge pressure, MPa.
-        discharge: f64,
-        /// Suction pressure, MPa.
-        suction: f64,
+        /// Discharge pressure.
+        discharge: Amount,
+        /// Suction pressure.
+        suction: Amount,
     },
-    /// A desuperheater's outlet is at or above the critical pressure (MPa), where steam has
-    /// no superheat.
+    /// A desuperheater's outlet is at or above the critical pressure, where steam has no
+    /// superheat.
     DesuperheaterAboveCritical {
         /// The desuperheater.
         unit: UnitRef,
-        /// Outlet pressure, MPa.
-        p: f64,
+        /// Outlet pressure.
+        p: Amount,
+        /// The critical pressure.
+        critical: Amount,
     },
     // ---- missing specifications (under-specified) ----
     /// A boiler without a steam temperature (neither on the boiler nor on its steam stream).
@@ -606,8 +729,27 @@ pub enum Finding {
     NegativeFlows {
         /// The reversed streams.
         flows: Vec<ReversedFlow>,
+        /// What they mean at the units they join, each once.
+        hints: Vec<Reversal>,
         /// Single specifications that would bring them all to zero (at most five).
         changes: Vec<SpecChange>,
+    },
+    /// A turbine outlet whose measured state no adiabatic expansion from its section's inlet
+    /// gives: its enthalpy is not below the section inlet's (the section would take in work)
+    /// or its entropy is below it (an isentropic efficiency above 1).
+    MeasuredExpansionImpossible {
+        /// The turbine.
+        unit: UnitRef,
+        /// The outlet stream with the measured state.
+        stream: String,
+        /// What was measured on it: "T", "h" or "x".
+        measured: &'static str,
+        /// Specific enthalpy at the section inlet.
+        inlet_h: Amount,
+        /// Specific enthalpy of the measured outlet.
+        outlet_h: Amount,
+        /// The section's isentropic efficiency the measurement means.
+        efficiency: f64,
     },
     // ---- the flow equations ----
     /// The flow equations leave flows free.
@@ -669,6 +811,7 @@ impl Finding {
             | FlowSetByUnit { .. }
             | NoPressureDrop { .. }
             | NegativeFlows { .. }
+            | MeasuredExpansionImpossible { .. }
             | EquationsClash { .. } => Side::Over,
         }
     }
@@ -710,6 +853,7 @@ impl Finding {
             FlowSetByUnit { .. } => "flow_set_by_unit",
             NoPressureDrop { .. } => "no_pressure_drop",
             NegativeFlows { .. } => "negative_flows",
+            MeasuredExpansionImpossible { .. } => "measured_expansion_impossible",
             FlowsNotFixed { .. } => "flows_not_fixed",
             EquationsClash { .. } => "equations_clash",
         }
@@ -752,6 +896,7 @@ impl Finding {
             | EquationsClash { .. }
             | FlowSetByUnit { .. }
             | NegativeFlows { .. } => Some("flow"),
+            MeasuredExpansionImpossible { measured, .. } => Some(measured),
         }
     }
 
@@ -761,11 +906,12 @@ impl Finding {
         use Finding::*;
         match self {
             OutOfRange { value, .. } => Some((*value, "")),
-            NegativeDemand { value, .. } => Some((*value, "kg/s")),
-            PressureSetBySource { p, .. }
-            | PressureNotPositive { p, .. }
-            | DesuperheaterAboveCritical { p, .. } => Some((*p, "MPa")),
-            PumpDoesNotRaise { discharge, .. } => Some((*discharge, "MPa")),
+            NegativeDemand { value: a, .. }
+            | PressureSetBySource { p: a, .. }
+            | PressureNotPositive { p: a, .. }
+            | DesuperheaterAboveCritical { p: a, .. }
+            | PumpDoesNotRaise { discharge: a, .. } => Some((a.value, a.unit)),
+            MeasuredExpansionImpossible { efficiency, .. } => Some((*efficiency, "")),
             QualityOutOfRange { x, .. } => Some((*x, "")),
             StateGivenTwice { count, .. } => Some((*count as f64, "")),
             ReturnWithoutStream {
@@ -829,7 +975,8 @@ impl Finding {
             | MissingTrapSteam { unit, .. }
             | MissingLineGeometry { unit, .. }
             | FlowSetByUnit { unit, .. }
-            | NoPressureDrop { unit, .. } => vec![unit],
+            | NoPressureDrop { unit, .. }
+            | MeasuredExpansionImpossible { unit, .. } => vec![unit],
             NegativeFlows { flows, .. } => {
                 let mut v: Vec<&UnitRef> = Vec::new();
                 for r in flows {
@@ -881,7 +1028,8 @@ impl Finding {
             | DemandTwice { stream, .. }
             | ReturnTemperatureTwice { stream, .. }
             | MakeupTemperatureTwice { stream, .. }
-            | FlowSetByUnit { stream, .. } => vec![stream.as_str()],
+            | FlowSetByUnit { stream, .. }
+            | MeasuredExpansionImpossible { stream, .. } => vec![stream.as_str()],
             NegativeFlows { flows, .. } => flows.iter().map(|r| r.stream.as_str()).collect(),
             MissingTurbineEfficiency { outlets, .. } => {
                 outlets.iter().map(String::as_str).collect()
@@ -955,7 +1103,7 @@ impl fmt::Display for Finding {
                 interval(f, *low, *high, *i)
             }
             NegativeDemand { unit, value } => {
-                write!(f, "{unit}: demand = {value} kg/s is negative")
+                write!(f, "{unit}: demand = {value} is negative")
             }
             StateSetBySource { stream, unit, by } => write!(
                 f,
@@ -963,14 +1111,14 @@ impl fmt::Display for Finding {
             ),
             PressureSetBySource { stream, unit, p } => write!(
                 f,
-                "stream {stream}: its pressure is set by {unit} ({p} MPa); remove p from the stream"
+                "stream {stream}: its pressure is set by {unit} ({p}); remove p from the stream"
             ),
             PressureNotFixed { stream, from, to } => write!(
                 f,
                 "stream {stream}: its pressure is not fixed: give p on the stream or on {from} or {to}"
             ),
             PressureNotPositive { stream, p } => {
-                write!(f, "stream {stream}: pressure {p} MPa is not positive")
+                write!(f, "stream {stream}: pressure {p} is not positive")
             }
             StateGivenTwice { stream, count } => write!(
                 f,
@@ -985,11 +1133,11 @@ impl fmt::Display for Finding {
                 suction,
             } => write!(
                 f,
-                "{unit}: the discharge pressure {discharge} MPa is not above the suction pressure {suction} MPa"
+                "{unit}: the discharge pressure {discharge} is not above the suction pressure {suction}"
             ),
-            DesuperheaterAboveCritical { unit, p } => write!(
+            DesuperheaterAboveCritical { unit, p, critical } => write!(
                 f,
-                "{unit}: the outlet pressure {p} MPa is at or above the critical pressure {P_C} MPa, where steam has no superheat"
+                "{unit}: the outlet pressure {p} is at or above the critical pressure {critical}, where steam has no superheat"
             ),
             MissingSteamTemperature { unit, stream } => write!(
                 f,
@@ -1087,9 +1235,13 @@ impl fmt::Display for Finding {
                 downstream,
             } => write!(
                 f,
-                "{unit}: the downstream pressure {downstream} is not below the upstream pressure {upstream}: nothing flows through it"
+                "{unit}: the downstream pressure {downstream} is not below the upstream pressure {upstream}: nothing flows through it; check the pressures of its streams (or of the units that set them)"
             ),
-            NegativeFlows { flows, changes } => {
+            NegativeFlows {
+                flows,
+                hints,
+                changes,
+            } => {
                 let list: Vec<String> = flows
                     .iter()
                     .map(|r| format!("stream {} ({} -> {}) {}", r.stream, r.from, r.to, r.flow))
@@ -1099,6 +1251,9 @@ impl fmt::Display for Finding {
                     "the balance needs negative flows, which no stream can carry (steam and water run from a stream's source to its destination): {}; ",
                     list.join(", ")
                 )?;
+                for h in hints {
+                    write!(f, "{h}; ")?;
+                }
                 if changes.is_empty() {
                     f.write_str("no single fixed flow, demand or power brings them to zero: check the specifications around these streams (a header short of steam needs a source, one with a surplus a vent or a user)")
                 } else {
@@ -1108,6 +1263,35 @@ impl fmt::Display for Finding {
                         join(changes, ", or ")
                     )
                 }
+            }
+            MeasuredExpansionImpossible {
+                unit,
+                stream,
+                measured,
+                inlet_h,
+                outlet_h,
+                efficiency,
+            } => {
+                write!(
+                    f,
+                    "{unit}: the measured {measured} of outlet stream {stream} gives h = {outlet_h}, "
+                )?;
+                let (why, check) = if outlet_h.value >= inlet_h.value {
+                    (
+                        format!("not below the {inlet_h} entering its section: the section would take in work instead of giving it"),
+                        "a temperature reading high, or inlet and outlet swapped",
+                    )
+                } else {
+                    (
+                        format!("below what an isentropic expansion from the {inlet_h} entering its section reaches: an expansion cannot lose entropy"),
+                        "a temperature reading low, or a quality or enthalpy too low",
+                    )
+                };
+                write!(
+                    f,
+                    "{why} (an isentropic efficiency of {}, outside (0, 1]); check the measurement ({check}) or give the turbine's efficiency instead",
+                    crate::error::fmt_sig(*efficiency, 4)
+                )
             }
             FlowsNotFixed {
                 missing,
@@ -1209,25 +1393,48 @@ impl Diagnosis {
                     one(upstream);
                     one(downstream);
                 }
-                Finding::NegativeFlows { flows, changes } => {
+                Finding::NegativeFlows {
+                    flows,
+                    hints,
+                    changes,
+                } => {
                     for r in flows {
                         one(&mut r.flow);
+                    }
+                    for h in hints {
+                        if let Reversal::HeaderShort { by, .. } = h {
+                            one(by);
+                        }
                     }
                     for c in changes {
                         one(&mut c.now);
                         one(&mut c.by);
                     }
                 }
+                Finding::NegativeDemand { value: a, .. }
+                | Finding::PressureSetBySource { p: a, .. }
+                | Finding::PressureNotPositive { p: a, .. } => one(a),
+                Finding::PumpDoesNotRaise {
+                    discharge: a,
+                    suction: b,
+                    ..
+                }
+                | Finding::DesuperheaterAboveCritical {
+                    p: a, critical: b, ..
+                }
+                | Finding::MeasuredExpansionImpossible {
+                    inlet_h: a,
+                    outlet_h: b,
+                    ..
+                } => {
+                    one(a);
+                    one(b);
+                }
                 Finding::OutOfRange { .. }
-                | Finding::NegativeDemand { .. }
                 | Finding::StateSetBySource { .. }
-                | Finding::PressureSetBySource { .. }
                 | Finding::PressureNotFixed { .. }
-                | Finding::PressureNotPositive { .. }
                 | Finding::StateGivenTwice { .. }
                 | Finding::QualityOutOfRange { .. }
-                | Finding::PumpDoesNotRaise { .. }
-                | Finding::DesuperheaterAboveCritical { .. }
                 | Finding::MissingSteamTemperature { .. }
                 | Finding::MissingBoilerEfficiency { .. }
                 | Finding::MissingTurbineEfficiency { .. }

@@ -14,7 +14,9 @@
 //! pressures). Only the count of
 //! the flow equations, which needs the stream states, is left to the solver.
 
-use super::diagnosis::{Diagnosis, Finding, FlowStatus, Side, Source, StreamStatus, UnitStatus};
+use super::diagnosis::{
+    Amount, Diagnosis, Finding, FlowStatus, Side, Source, StreamStatus, UnitStatus,
+};
 use super::units::{self, Draft, UnitKind};
 use super::{FixedState, Network, SiteCosting, StreamSpec, UnitRef};
 use super::{HOURS_PER_YEAR_DEFAULT, MAKEUP_T_DEFAULT};
@@ -421,7 +423,7 @@ fn resolve_pressures(
                         given.push(Finding::PressureSetBySource {
                             stream: w.stream(s),
                             unit: w.unit(u),
-                            p: q,
+                            p: Amount::pressure(q),
                         });
                     }
                 }
@@ -466,7 +468,7 @@ fn resolve_pressures(
         } else if p <= 0.0 {
             last.push(Finding::PressureNotPositive {
                 stream: w.stream(s),
-                p,
+                p: Amount::pressure(p),
             });
         }
     }

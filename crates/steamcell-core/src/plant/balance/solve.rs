@@ -2,7 +2,9 @@
 //! states (each unit sets its outlets from its inlets) and the linear flow system (every
 //! unit's balances and specifications, every fixed flow), with the count of the flow
 //! equations before the first solve; the refusal of a balance that needs negative flows (with
-//! the specifications that fix it, found by solving again); then results, totals, the costing
+//! what they mean at the units they join and the specifications that fix them, found by
+//! solving again) or whose solved states no unit can give (a measured turbine outlet that
+//! means an efficiency outside (0, 1]); then results, totals, the costing
 //! of the losses and the energy-flow summary.
 //!
 //! Units: internal (MPa, K, kJ/kg, kg/s, kW).
@@ -17,8 +19,9 @@ use super::units::{At, Boundary, Loss, LossKind, Report};
 use super::*;
 use crate::error::{Error, Result};
 use crate::plant::losses::{Costing, Price, YearlyLoss};
-use crate::plant::warnings::{Code, Warning};
+use crate::plant::warnings::{Code, Quantity, Warning};
 use crate::plant::{ph, sat_vapour};
+use crate::units::Dim;
 use crate::water::state::P_C;
 
 const MAX_ITER: usize = 200;
@@ -118,6 +121,12 @@ impl Model {
                 })
             })
             .collect::<Result<_>>()?;
+        let impossible: Vec<Finding> = (0..self.units.len())
+            .filter_map(|u| self.units[u].unit.solved_finding(self.at(u), &st))
+            .collect();
+        if !impossible.is_empty() {
+            return Err(self.refuse(impossible, &[]));
+        }
         let mut sol = self.results(&m, &st)?;
         sol.iterations = iterations;
         sol.residual = sol.residual.max(res);
@@ -371,7 +380,22 @@ impl Model {
                 break;
             }
         }
-        Finding::NegativeFlows { flows, changes }
+        // what each reversed stream means: at its destination first (a spray not needed
+        // says more than the make-up feeding it), else at its source
+        let mut hints = Vec::new();
+        for &s in reversed {
+            let hint = [self.streams[s].to, self.streams[s].from]
+                .into_iter()
+                .find_map(|u| self.units[u].unit.reversal(self.at(u), s, m));
+            if let Some(h) = hint {
+                uniq(&mut hints, h);
+            }
+        }
+        Finding::NegativeFlows {
+            flows,
+            hints,
+            changes,
+        }
     }
 
     fn equation(&self, row: &Row) -> Equation {
@@ -522,15 +546,21 @@ impl Model {
                     None => String::new(),
                 };
                 // A header sends steam to a vent in the solved balance: a continuous loss
-                let w = Warning::new(Code::SteamVented, format!(
-                    "vents {:.4} kg/s of steam continuously through {} ({:.0} t/yr over {} h; {:.0} kW of boiler heat to replace it{priced}): a surplus in a normal balance; lower the steam sent into {} (an extraction, a let-down) or find a user for it (a vent that opens only on upsets has flow 0 here)",
-                    l.steam,
-                    self.streams[stream].name,
-                    y.steam / 1000.0,
-                    c.hours_per_year,
-                    makeup_heat,
-                    slot.name
-                ));
+                let w = Warning::with(
+                    Code::SteamVented,
+                    &format!(
+                        "vents {{}} of steam continuously through {{}} ({{}} a year over {} h; {{}} of boiler heat to replace it{{}}): a surplus in a normal balance; lower the steam sent into {{}} (an extraction, a let-down) or find a user for it (a vent that opens only on upsets has flow 0 here)",
+                        c.hours_per_year
+                    ),
+                    &[
+                        Quantity::new("flow", Dim::MassFlow, l.steam).into(),
+                        self.streams[stream].name.as_str().into(),
+                        Quantity::new("steam", Dim::Mass, y.steam).into(),
+                        Quantity::new("makeup_heat", Dim::HeatFlow, makeup_heat).into(),
+                        priced.as_str().into(),
+                        slot.name.as_str().into(),
+                    ],
+                );
                 all_warn.push(w.prefixed(&format!("{} {}: ", slot.kind, slot.name)));
                 r.warnings.push(w);
                 continue;
@@ -607,16 +637,6 @@ impl Model {
                 loss: None,
                 warnings: Vec::new(),
             };
-            if slot.unit.warns_negative_outlets() {
-                for &o in &slot.outs {
-                    if m[o] < 0.0 {
-                        r.warnings.push(Warning::new(Code::NegativeFlow, format!(
-                            "stream {} leaving {nm} has a negative flow ({:.6} kg/s): the balance needs it reversed",
-                            self.streams[o].name, m[o]
-                        )));
-                    }
-                }
-            }
             let mut out = Report {
                 r: &mut r,
                 t: &mut t,
@@ -691,17 +711,6 @@ impl Model {
             residual = residual.max(t.mass_residual());
         }
         residual = residual.max(t.energy_residual());
-        for (s, sl) in self.streams.iter().enumerate() {
-            if m[s] < 0.0 && self.units[sl.from].unit.boundary() == Some(Boundary::Source) {
-                all_warn.push(Warning::new(
-                    Code::NegativeFlow,
-                    format!(
-                        "stream {}: negative make-up flow: the site has a water surplus",
-                        sl.name
-                    ),
-                ));
-            }
-        }
         Ok(Solution {
             streams,
             units,

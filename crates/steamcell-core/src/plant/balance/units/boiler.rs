@@ -9,17 +9,17 @@
 //! fraction of the feedwater below 0.5.
 
 use super::{
-    check_efficiency, count, find_port, fixed_state, At, Boundary, Draft, Report, UnitKind,
+    check_efficiency, count, find_port, fixed_state, is_wet, At, Boundary, Draft, Report, UnitKind,
 };
 use crate::error::{Error, Result};
 use crate::plant::balance::diagnosis::Amount;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
 use crate::plant::sat_liquid;
 use crate::plant::warnings::Code;
-use crate::water::state::{Phase, State, P_C};
+use crate::water::state::{State, P_C};
 
 /// A boiler's specification as given.
 pub(super) struct Given<'a> {
@@ -238,7 +238,7 @@ impl UnitKind for Boiler {
                 "the feedwater pressure is below the steam pressure: a feed pump is needed upstream",
             );
         }
-        if ss.phase == Phase::Wet {
+        if is_wet(&ss) {
             out.warn(Code::WetSteam, "the steam leaving is wet");
         }
         Ok(())
@@ -248,7 +248,11 @@ impl UnitKind for Boiler {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, _: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        None
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

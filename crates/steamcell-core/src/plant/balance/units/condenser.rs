@@ -7,7 +7,7 @@
 
 use super::{count, At, Boundary, Draft, Report, UnitKind};
 use crate::error::Result;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::sat_liquid;
@@ -96,7 +96,11 @@ impl UnitKind for Condenser {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, _: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        None
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

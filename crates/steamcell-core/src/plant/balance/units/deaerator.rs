@@ -8,7 +8,7 @@
 
 use super::{count, find_port, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::warnings::Code;
@@ -182,9 +182,6 @@ impl UnitKind for Deaerator {
                 out.link(at.name(), "losses", e, mass);
             }
         }
-        if m[self.steam] < 0.0 {
-            out.warn(Code::NegativeHeatingSteam, "the heating-steam flow is negative: the water entering is already hotter than saturation; lower the inflow temperatures or raise the pressure");
-        }
         if st[self.steam].props.p < self.p {
             out.warn(
                 Code::HeatingSteamPressureLow,
@@ -198,7 +195,14 @@ impl UnitKind for Deaerator {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, at: At, s: usize, _: &[f64]) -> Option<Reversal> {
+        (s == self.steam).then(|| Reversal::DeaeratorOverheated {
+            deaerator: at.name().to_string(),
+            steam: at.stream(s).to_string(),
+        })
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

@@ -9,12 +9,13 @@
 
 use super::{count, find_port, fixed_state, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
-use crate::plant::warnings::Code;
+use crate::plant::warnings::{Arg, Code, Quantity};
 use crate::plant::{pt, sat_vapour};
+use crate::units::Dim;
 use crate::water::state::{self, State, P_C};
 
 struct Wired {
@@ -75,7 +76,8 @@ impl Draft for Wired {
         if p >= P_C {
             f.note(Finding::DesuperheaterAboveCritical {
                 unit: w.unit(self.u),
-                p,
+                p: Amount::pressure(p),
+                critical: Amount::pressure(P_C),
             });
         }
         let stream = w.stream(self.out);
@@ -187,15 +189,19 @@ impl UnitKind for Desuperheater {
         None
     }
 
-    fn results(&self, _: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()> {
+    fn results(&self, _: At, _: &[f64], st: &[State], out: &mut Report) -> Result<()> {
         let po = st[self.out].props.p;
         if let Aim::BelowSaturation(tt) = self.aim(po)? {
-            out.warn(Code::DesuperheaterTargetSaturated, format!("the target temperature {tt:.3} K is at or below saturation at {po:.4} MPa: a desuperheater cannot make wet steam; the outlet is set to saturated vapour (aim for 5 to 10 K superheat; common practice, no source)"));
-        }
-        if m[self.water] < 0.0 {
-            out.warn(
-                Code::NegativeSpray,
-                "the spray flow is negative: the steam is already below the target",
+            let sh = |x: f64| Arg::from(Quantity::new("superheat", Dim::TemperatureDifference, x));
+            out.warn_with(
+                Code::DesuperheaterTargetSaturated,
+                "the target temperature {} is at or below saturation at {}: a desuperheater cannot make wet steam; the outlet is set to saturated vapour (aim for {} to {} of superheat; common practice, no source)",
+                &[
+                    Quantity::new("T", Dim::Temperature, tt).into(),
+                    Quantity::new("p", Dim::Pressure, po).into(),
+                    sh(5.0),
+                    sh(10.0),
+                ],
             );
         }
         if st[self.water].props.p < po {
@@ -208,7 +214,14 @@ impl UnitKind for Desuperheater {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, at: At, s: usize, _: &[f64]) -> Option<Reversal> {
+        (s == self.water).then(|| Reversal::SprayNotNeeded {
+            desuperheater: at.name().to_string(),
+            water: at.stream(s).to_string(),
+        })
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

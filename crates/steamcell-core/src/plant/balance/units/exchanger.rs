@@ -8,7 +8,7 @@
 
 use super::{count, find_port, fixed_state, h, At, Boundary, Draft, Report, UnitKind};
 use crate::error::Result;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
@@ -194,7 +194,11 @@ impl UnitKind for Exchanger {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, _: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        None
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

@@ -9,7 +9,7 @@
 
 use super::{count, find_port, mix, At, Boundary, Draft, Report, UnitKind};
 use crate::error::Result;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::{ph, sat_liquid, sat_vapour};
@@ -138,7 +138,11 @@ impl UnitKind for Flash {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, _: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        None
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

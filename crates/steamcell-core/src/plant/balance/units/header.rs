@@ -5,13 +5,14 @@
 //!
 //! Invariant: the validated header holds its pressure.
 
-use super::{count, mix, At, Boundary, Draft, Loss, LossKind, Report, UnitKind};
+use super::{count, is_wet, mix, At, Boundary, Draft, Loss, LossKind, Report, UnitKind};
 use crate::error::Result;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::ph;
-use crate::plant::warnings::Code;
+use crate::plant::warnings::{Arg, Code, Quantity};
+use crate::units::Dim;
 use crate::water::state::{Phase, State};
 
 /// Steam flow to a vent above which a header is said to vent continuously, kg/s (1e-6 kg/s,
@@ -107,10 +108,15 @@ impl UnitKind for Header {
     }
 
     fn results(&self, at: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()> {
-        let (nm, p) = (at.name(), self.p);
+        let p = self.p;
         for &i in at.ins() {
             if st[i].props.p < p * (1.0 - 1e-9) {
-                out.warn(Code::InletBelowHeaderPressure, format!("stream {} enters at {:.4} MPa, below the header pressure {p:.4} MPa: it cannot flow in", at.stream(i), st[i].props.p));
+                let q = |x: f64| Arg::from(Quantity::new("p", Dim::Pressure, x));
+                out.warn_with(
+                    Code::InletBelowHeaderPressure,
+                    "stream {} enters at {}, below the header pressure {}: it cannot flow in",
+                    &[at.stream(i).into(), q(st[i].props.p), q(p)],
+                );
             }
         }
         for &o in at.outs() {
@@ -125,12 +131,9 @@ impl UnitKind for Header {
                     Loss::steam(LossKind::Vented { stream: o }, m[o], st[o].props.h, p),
                 );
             }
-            if m[o] < 0.0 && at.boundary_of(to) == Some(Boundary::Sink) {
-                out.warn(Code::HeaderShortOfSteam, format!("header {nm} is short of steam by {:.6} kg/s: its vent stream {} would have to run backwards; send more steam into {nm} (let-down, extraction) or lower its demand", -m[o], at.stream(o)));
-            }
         }
         if let Some(&o) = at.outs().first() {
-            if st[o].phase == Phase::Wet {
+            if is_wet(&st[o]) {
                 out.warn(
                     Code::WetSteam,
                     format!(
@@ -147,7 +150,18 @@ impl UnitKind for Header {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, at: At, s: usize, m: &[f64]) -> Option<Reversal> {
+        let to = at.model.streams[s].to;
+        (at.outs().contains(&s) && at.boundary_of(to) == Some(Boundary::Sink)).then(|| {
+            Reversal::HeaderShort {
+                header: at.name().to_string(),
+                vent: at.stream(s).to_string(),
+                by: Amount::mass_flow(-m[s]),
+            }
+        })
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

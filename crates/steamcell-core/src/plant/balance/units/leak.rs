@@ -16,7 +16,7 @@ use super::{
     P_ATM,
 };
 use crate::error::{Bound, Error, Result};
-use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::orifice::{self, Approach, Flashing, OrificeSpec, CD_SHARP_EDGED};
@@ -218,7 +218,11 @@ impl UnitKind for Leak {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, _: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        None
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

@@ -25,13 +25,14 @@ use super::{
     count, find_port, tag_field, At, Boundary, Draft, Loss, LossKind, Memo, Report, UnitKind,
 };
 use crate::error::{Error, Result};
-use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::LineUnit;
 use crate::plant::pipe::{self, LineSpec, Surroundings, Wall};
-use crate::plant::warnings::Code;
+use crate::plant::warnings::{Arg, Code, Quantity};
 use crate::plant::{ph, sat_liquid};
+use crate::units::Dim;
 use crate::water::state::{Phase, State};
 
 struct Wired {
@@ -321,39 +322,59 @@ impl UnitKind for Line {
         };
         let p_in = si.props.p;
         let available = p_in - st[self.main].props.p;
+        let dp = |x: f64| Arg::from(Quantity::new("pressure_drop", Dim::PressureDifference, x));
+        let flow = |x: f64| Arg::from(Quantity::new("flow", Dim::MassFlow, x));
         if available > 1e-12 * p_in {
             if r.dp > available {
                 // The line needs a larger
                 // drop at its flow than the pressures at its ends allow (Darcy-Weisbach march)
-                out.warn(Code::LineDropExceedsAvailable, format!("it needs {:.4} MPa to carry {mi:.4} kg/s but only {available:.4} MPa lie between its ends: the pressure downstream cannot be held at this flow (a larger line, or a higher pressure upstream)", r.dp));
+                out.warn_with(
+                    Code::LineDropExceedsAvailable,
+                    "it needs a pressure drop of {} to carry {} but only {} lie between its ends: the pressure downstream cannot be held at this flow (a larger line, or a higher pressure upstream)",
+                    &[dp(r.dp), flow(mi), dp(available)],
+                );
             }
         } else if r.dp > 0.1 * p_in {
             // The drop exceeds 10 % of the
             // inlet pressure (common practice, no source); the balance carries the outlet at
             // the inlet pressure
-            out.warn(Code::PressureDropHigh, format!("it loses {:.1} % of its inlet pressure ({:.4} MPa) at this flow, which the balance does not impose (its outlet is carried at the inlet pressure): consider a larger line", 100.0 * r.dp / p_in, r.dp));
+            out.warn_with(
+                Code::PressureDropHigh,
+                &format!("it loses {:.1} % of its inlet pressure {{}} ({{}}) at this flow, which the balance does not impose (its outlet is carried at the inlet pressure): consider a larger line", 100.0 * r.dp / p_in),
+                &[Quantity::new("p", Dim::Pressure, p_in).into(), dp(r.dp)],
+            );
         }
-        let (limit, what) = if si.phase == Phase::Liquid {
-            (pipe::V_MAX_WATER, "a water line")
-        } else if r.wet {
-            (pipe::V_MAX_SATURATED, "a saturated or wet steam line")
-        } else {
-            (pipe::V_MAX_SUPERHEATED, "a superheated steam line")
-        };
+        let (limit, _, what) = pipe::velocity_limit(si.phase == Phase::Liquid, r.wet);
         if r.v_max > limit {
             // Velocity above the good-practice
             // range (common practice, no source; the limits of pipe.flow)
-            out.warn(Code::VelocityHigh, format!("the velocity reaches {:.1} m/s, above about {limit:.0} m/s for {what}: expect noise, erosion and a large pressure drop (common practice, no source)", r.v_max));
+            let v = |x: f64| Arg::from(Quantity::new("velocity", Dim::Speed, x));
+            out.warn_with(
+                Code::VelocityHigh,
+                &format!("the velocity reaches {{}}, above about {{}} for {what}: expect noise, erosion and a large pressure drop (common practice, no source)"),
+                &[v(r.v_max), v(limit)],
+            );
         }
         if r.surface_t > self.touch_limit {
             // The outer surface is above the touch
             // limit (default 60 degC; common practice, no source)
-            out.warn(Code::SurfaceAboveTouchLimit, format!("its surface reaches {:.1} K ({:.1} degC), above the touch limit {:.1} K: personnel protection (insulation, guards) is needed where it can be touched (common practice; follow local codes)", r.surface_t, r.surface_t - 273.15, self.touch_limit));
+            out.warn_with(
+                Code::SurfaceAboveTouchLimit,
+                "its surface reaches {}, above the touch limit {}: personnel protection (insulation, guards) is needed where it can be touched (common practice; follow local codes)",
+                &[
+                    Quantity::new("surface_T", Dim::Temperature, r.surface_t).into(),
+                    Quantity::new("touch_limit_T", Dim::Temperature, self.touch_limit).into(),
+                ],
+            );
         }
         if self.drain.is_none() && condensate > 0.0 {
             // Condensate forms in a line
             // without a drain; it is carried on as moisture (common practice, no source)
-            out.warn(Code::LineCondensate, format!("{condensate:.4} kg/s of condensate forms and is carried on as moisture: drain it (a drain stream to a trap) at low points and before users"));
+            out.warn_with(
+                Code::LineCondensate,
+                "{} of condensate forms and is carried on as moisture: drain it (a drain stream to a trap) at low points and before users",
+                &[Quantity::new("condensate", Dim::MassFlow, condensate).into()],
+            );
         }
         Ok(())
     }
@@ -362,7 +383,11 @@ impl UnitKind for Line {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, _: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        None
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

@@ -8,7 +8,7 @@
 
 use super::{count, fixed_state, At, Boundary, Draft, Report, UnitKind, P_ATM};
 use crate::error::Result;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
@@ -117,7 +117,13 @@ impl UnitKind for Makeup {
         Some(Boundary::Source)
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, at: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        Some(Reversal::WaterSurplus {
+            makeup: at.name().to_string(),
+        })
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

@@ -12,12 +12,12 @@
 //! Invariant: behaviour that depends on the kind of a unit lives in its module, reached
 //! through the two traits; nothing matches on unit kinds with a fallback arm.
 
-use super::diagnosis::{ClashHint, FlowHint, UnitRef};
+use super::diagnosis::{ClashHint, Finding, FlowHint, Reversal, UnitRef};
 use super::dof::{Of, Row};
 use super::model::{Findings, Model, Refused, Wiring};
 use super::{FixedState, SankeyLink, Totals, Unit, UnitResult};
 use crate::error::{Error, Result};
-use crate::plant::warnings::{Code, Warning};
+use crate::plant::warnings::{Arg, Code, Warning};
 use crate::water::state::{self, State};
 use std::fmt;
 
@@ -175,9 +175,13 @@ pub(super) trait UnitKind: fmt::Debug + Send + Sync {
     fn results(&self, at: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()>;
     /// The boundary it is, if any.
     fn boundary(&self) -> Option<Boundary>;
-    /// Whether a negative outlet flow is warned about in the common words (a valve has
-    /// its own warning).
-    fn warns_negative_outlets(&self) -> bool;
+    /// What its stream `s` (an inlet or outlet) running backwards at the flows `m` means
+    /// here, and what to change, if the unit has words for it (for the refusal of negative
+    /// flows).
+    fn reversal(&self, at: At, s: usize, m: &[f64]) -> Option<Reversal>;
+    /// A finding that refuses the solved balance at this unit (a measured state no real
+    /// process gives), if any.
+    fn solved_finding(&self, at: At, st: &[State]) -> Option<Finding>;
 }
 
 /// Unit `u` of a model, as the solve step sees it.
@@ -468,10 +472,24 @@ impl Report<'_> {
     pub fn warn(&mut self, code: Code, w: impl Into<String>) {
         self.r.warnings.push(Warning::new(code, w));
     }
+    /// Adds a warning of catalogue code `code` whose `template` is filled with `args`, one
+    /// per `{}` ([`Warning::with`]: the API states the values in the caller's units).
+    pub fn warn_with(&mut self, code: Code, template: &str, args: &[Arg]) {
+        self.r.warnings.push(Warning::with(code, template, args));
+    }
     /// Records a loss of unit `u` for the costing.
     pub fn lose(&mut self, u: usize, l: Loss) {
         self.losses.push((u, l));
     }
+}
+
+/// Moisture below which steam counts as dry saturated (1e-6: the round-off of a (p, h) state
+/// of saturated vapour lies far below it; a given x = 1 has none).
+const DRY: f64 = 1e-6;
+
+/// Whether steam is wet, beyond round-off: dry saturated steam (x = 1) is not.
+pub(super) fn is_wet(s: &State) -> bool {
+    s.phase == state::Phase::Wet && s.x.is_some_and(|x| x < 1.0 - DRY)
 }
 
 /// Specific enthalpy of stream `i` at the current states (NaN while unknown).

@@ -8,12 +8,12 @@
 
 use super::{check_efficiency, count, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::warnings::Code;
 use crate::plant::{ph, ps};
-use crate::water::state::State;
+use crate::water::state::{Phase, State};
 
 struct Wired {
     u: usize,
@@ -63,8 +63,8 @@ impl Draft for Wired {
         if discharge <= suction {
             f.note(Finding::PumpDoesNotRaise {
                 unit: w.unit(self.u),
-                discharge,
-                suction,
+                discharge: Amount::pressure(discharge),
+                suction: Amount::pressure(suction),
             });
         }
         let efficiency = self.efficiency.ok_or_else(|| {
@@ -134,8 +134,18 @@ impl UnitKind for Pump {
         out.t.pump_power += pw;
         out.link("power", at.name(), pw, 0.0);
         out.r.efficiency = Some(self.efficiency);
-        if st[self.inlet].x.is_some_and(|x| x > 1e-9) {
-            out.warn(Code::PumpInletNotLiquid, "the pump inlet is not liquid");
+        // vapour, or a mixture beyond the round-off of saturated liquid (x = 0)
+        let si = st[self.inlet];
+        let steam = match si.phase {
+            Phase::Vapour => true,
+            Phase::Wet => si.x.is_some_and(|x| x > 1e-9),
+            Phase::Liquid | Phase::Supercritical => false,
+        };
+        if steam {
+            out.warn(
+                Code::PumpInletNotLiquid,
+                format!("the pump inlet is {}, not liquid", si.phase.name()),
+            );
         }
         Ok(())
     }
@@ -144,7 +154,11 @@ impl UnitKind for Pump {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, _: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        None
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

@@ -10,7 +10,7 @@
 use super::{check_efficiency, count, fixed_state, h, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
 use crate::plant::balance::diagnosis::Amount;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
@@ -63,6 +63,20 @@ impl Draft for Wired {
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
         check_efficiency(w, self.u, self.efficiency, f);
+        // every outlet below the inlet pressure: steam expands through a turbine
+        let p_in = w.p[self.inlet];
+        let top = self
+            .outs
+            .iter()
+            .map(|&o| w.p[o])
+            .fold(f64::NEG_INFINITY, f64::max);
+        if p_in.is_finite() && top.is_finite() && top >= p_in {
+            f.note(Finding::NoPressureDrop {
+                unit: w.unit(self.u),
+                upstream: Amount::pressure(p_in),
+                downstream: Amount::pressure(top),
+            });
+        }
         let mut order = self.outs.clone();
         order.sort_by(|&a, &b| w.p[b].total_cmp(&w.p[a]));
         let mut outlets = Vec::with_capacity(order.len());
@@ -215,12 +229,6 @@ impl UnitKind for Turbine {
                 format!("the inlet is {} (not superheated steam)", sin.phase.name()),
             );
         }
-        if pw < 0.0 {
-            out.warn(
-                Code::NegativePower,
-                "the turbine power is negative: check the flows",
-            );
-        }
         Ok(())
     }
 
@@ -228,7 +236,38 @@ impl UnitKind for Turbine {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, _: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        None
+    }
+
+    fn solved_finding(&self, at: At, st: &[State]) -> Option<Finding> {
+        // each measured section must expand adiabatically from the state entering it: less
+        // enthalpy and no less entropy (IAPWS-IF97 states; second law)
+        let mut prev = st[self.inlet];
+        for o in &self.outlets {
+            let so = st[o.stream];
+            if let OutletState::Measured(x) = o.state {
+                if so.props.p < prev.props.p * (1.0 - 1e-12) {
+                    let s_tol = 1e-9 * prev.props.s.abs().max(1.0);
+                    if so.props.h >= prev.props.h || so.props.s < prev.props.s - s_tol {
+                        let iso = ps(so.props.p, prev.props.s).ok()?;
+                        return Some(Finding::MeasuredExpansionImpossible {
+                            unit: at.unit_ref(),
+                            stream: at.stream(o.stream).to_string(),
+                            measured: match x {
+                                FixedState::T(_) => "T",
+                                FixedState::H(_) => "h",
+                                FixedState::X(_) => "x",
+                            },
+                            inlet_h: Amount::specific_energy(prev.props.h),
+                            outlet_h: Amount::specific_energy(so.props.h),
+                            efficiency: (prev.props.h - so.props.h) / (prev.props.h - iso.props.h),
+                        });
+                    }
+                }
+            }
+            prev = so;
+        }
+        None
     }
 }

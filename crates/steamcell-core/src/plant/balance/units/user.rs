@@ -9,7 +9,7 @@
 use super::{count, fixed_state, At, Boundary, Draft, Report, UnitKind};
 use crate::error::Result;
 use crate::plant::balance::diagnosis::Amount;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
@@ -83,7 +83,7 @@ impl Draft for Wired {
             } else if d < 0.0 {
                 f.note(Finding::NegativeDemand {
                     unit: w.unit(u),
-                    value: d,
+                    value: Amount::mass_flow(d),
                 });
             }
         }
@@ -243,7 +243,11 @@ impl UnitKind for User {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        true
+    fn reversal(&self, _: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        None
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }

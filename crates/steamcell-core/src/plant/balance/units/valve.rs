@@ -7,14 +7,14 @@
 
 use super::{count, At, Boundary, Draft, Report, UnitKind};
 use crate::error::Result;
-use crate::plant::balance::diagnosis::{ClashHint, FlowHint};
+use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::ph;
-use crate::plant::warnings::Code;
 use crate::water::state::State;
 
 struct Wired {
+    u: usize,
     inlet: usize,
     out: usize,
     p: Option<f64>,
@@ -25,6 +25,7 @@ pub(super) fn draft(w: &Wiring, u: usize, p: Option<f64>) -> Result<Box<dyn Draf
     count(w, u, "inlet", i, 1, 1)?;
     count(w, u, "outlet", o, 1, 1)?;
     Ok(Box::new(Wired {
+        u,
         inlet: i[0],
         out: o[0],
         p,
@@ -47,7 +48,16 @@ impl Draft for Wired {
     fn default_p(&self, _: usize, _: &Wiring) -> Option<f64> {
         None
     }
-    fn validate(&self, _: &Wiring, _: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
+    fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
+        // throttling lowers the pressure; equal pressures pass (a valve wide open)
+        let (p_in, p_out) = (w.p[self.inlet], w.p[self.out]);
+        if p_in.is_finite() && p_out.is_finite() && p_out > p_in * (1.0 + 1e-12) {
+            f.note(Finding::NoPressureDrop {
+                unit: w.unit(self.u),
+                upstream: Amount::pressure(p_in),
+                downstream: Amount::pressure(p_out),
+            });
+        }
         Ok(Box::new(Valve {
             inlet: self.inlet,
             out: self.out,
@@ -90,14 +100,7 @@ impl UnitKind for Valve {
         None
     }
 
-    fn results(&self, _: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()> {
-        let (si, so) = (st[self.inlet], st[self.out]);
-        if si.props.p < so.props.p || m[self.inlet] < 0.0 {
-            out.warn(Code::ValveRunsBackwards, format!(
-                "the let-down valve runs backwards (flow {:.6} kg/s from {:.4} MPa to {:.4} MPa): steam would have to flow from the low-pressure side; the header it feeds has a surplus — vent it or cut an extraction",
-                m[self.inlet], si.props.p, so.props.p
-            ));
-        }
+    fn results(&self, _: At, _: &[f64], _: &[State], _: &mut Report) -> Result<()> {
         Ok(())
     }
 
@@ -105,7 +108,18 @@ impl UnitKind for Valve {
         None
     }
 
-    fn warns_negative_outlets(&self) -> bool {
-        false
+    fn reversal(&self, at: At, _: usize, _: &[f64]) -> Option<Reversal> {
+        Some(Reversal::LetDownBackwards {
+            valve: at.name().to_string(),
+            feeds: At {
+                model: at.model,
+                u: at.model.streams[self.out].to,
+            }
+            .unit_ref(),
+        })
+    }
+
+    fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
+        None
     }
 }
