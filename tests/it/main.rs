@@ -42,6 +42,7 @@ mod plant_components;
 mod schema;
 mod security;
 mod site_route;
+mod solver_edges;
 mod state95_pairs;
 mod state_pairs;
 mod sweep_units;

@@ -8,9 +8,21 @@
 //! changes and solve each bracket with a safeguarded secant/bisection iteration, so that a pair
 //! with two solutions is detected and reported, never silently resolved.
 //!
+//! Region boundaries: where two IF97 equations meet (623.15 K, B23, 1073.15 K) they differ
+//! within IF97's consistency, so near the boundary a pair can have a state in each region (or
+//! in neither). Every pair is answered with the state of the region that owns the boundary, the
+//! one `regions::region_pt` gives the boundary points to (region 1 at 623.15 K, region 2 on B23
+//! and at 1073.15 K): a state on the boundary round-trips through every pair. A state of the
+//! other region inside that narrow band (at most ~0.1 K) comes back as the owner's state with
+//! the same pair; a pair in a gap between the two is answered by the non-owner's equation
+//! carried past the boundary by less than the band ((p,h), (p,s), (h,s), (u,v), and (T,v) on
+//! B23; the other scanned pairs refuse it as no state). Answers a rounding error beyond an
+//! outer limit (273.15 K, 2273.15 K, 1 Pa, 50 MPa, 100 MPa) are put on the limit.
+//!
 //! Internal units: p MPa, T K, v m3/kg, rho kg/m3, h u kJ/kg, s kJ/(kg K).
 //!
-//! Invariant: a returned [`State`] always satisfies the region's validity limits; two-phase states
+//! Invariant: a returned [`State`] always satisfies the region's validity limits (up to the
+//! boundary band above for a gap answer); two-phase states
 //! carry NaN for cp, cv, w and the other single-phase derivatives (the API reports them as null
 //! with a reason).
 
@@ -209,6 +221,138 @@ fn single(props: Props, region: Region, iterations: u32) -> State {
     }
 }
 
+/// Relative distance within which an iterated answer counts as lying on a limit or boundary
+/// it has crossed: the rounding of a converged iteration (~1e-13), far below the 1e-9 promise.
+const EDGE_SLACK: f64 = 1e-9;
+
+/// Relative width of the band along a region boundary where the neighbouring IF97 equations
+/// can both (or neither) have a state for the same pair: their inconsistency on the boundary
+/// (at most ~6e-5 in T at 1073.15 K and ~2e-4 in p on B23, as computed with the basic
+/// equations) with a wide margin.
+const BAND: f64 = 1e-3;
+
+/// The region that owns the boundary between two neighbouring single-phase regions: the one
+/// [`regions::region_pt`] gives the boundary points to (region 1 at 623.15 K, region 2 on
+/// B23 and at 1073.15 K). Where both equations have a state for the same pair (their overlap
+/// within IF97's consistency), the owner's is the answer, so that a state on the boundary
+/// round-trips through every pair to the equation that the forward (p, T) call uses.
+fn boundary_owner(a: Region, b: Region) -> Option<Region> {
+    match (a, b) {
+        (Region::R1, Region::R3) | (Region::R3, Region::R1) => Some(Region::R1),
+        (Region::R2, Region::R3)
+        | (Region::R3, Region::R2)
+        | (Region::R2, Region::R5)
+        | (Region::R5, Region::R2) => Some(Region::R2),
+        _ => None,
+    }
+}
+
+/// The regions across a boundary from `region` when (p, T) lies within [`BAND`] of that
+/// boundary: the 623.15 K isotherm above the saturation pressure (regions 1 and 3), B23
+/// (regions 2 and 3), the 1073.15 K isotherm up to 50 MPa (regions 2 and 5). Near the corner
+/// at 623.15 K and 16.53 MPa, region 3 has both regions 1 and 2 as neighbours.
+fn neighbours_near(region: Region, p: f64, t: f64) -> Vec<Region> {
+    let near_13 = (t - T_13).abs() <= BAND * T_13 && p >= p_sat_13() * (1.0 - BAND);
+    let near_b23 = (T_13 * (1.0 - BAND)..=regions::T_B23_MAX * (1.0 + BAND)).contains(&t)
+        && (p - b23::p_b23(t)).abs() <= BAND * p;
+    let near_25 = (t - T_MAX_123).abs() <= BAND * T_MAX_123 && p <= P_MAX_5 * (1.0 + BAND);
+    let mut out = Vec::new();
+    match region {
+        Region::R1 if near_13 => out.push(Region::R3),
+        Region::R3 => {
+            if near_13 {
+                out.push(Region::R1);
+            }
+            if near_b23 {
+                out.push(Region::R2);
+            }
+        }
+        Region::R2 => {
+            if near_25 {
+                out.push(Region::R5);
+            }
+            if near_b23 {
+                out.push(Region::R3);
+            }
+        }
+        Region::R5 if near_25 => out.push(Region::R2),
+        _ => {}
+    }
+    out
+}
+
+/// Whether the single-phase state `st` lies in its region, counting a point within rounding
+/// ([`EDGE_SLACK`]) of the region's boundary as inside (an iterated answer for a state on the
+/// boundary lands a hair on either side of it). Region 3 below Tc also holds the two-phase
+/// dome, where its equation gives no stable state: there the pressure must be on the side of
+/// the saturation pressure that the density is on (liquid-like above, vapour-like below).
+fn in_region(st: &State) -> bool {
+    const STEPS: [(f64, f64); 9] = [
+        (0.0, 0.0),
+        (1.0, 0.0),
+        (-1.0, 0.0),
+        (0.0, 1.0),
+        (0.0, -1.0),
+        (1.0, 1.0),
+        (1.0, -1.0),
+        (-1.0, 1.0),
+        (-1.0, -1.0),
+    ];
+    let (region, p, t) = (st.region, st.props.p, st.props.t);
+    let inside = STEPS.iter().any(|&(a, b)| {
+        regions::region_pt(p * (1.0 + a * EDGE_SLACK), t * (1.0 + b * EDGE_SLACK)).ok()
+            == Some(region)
+    });
+    if !inside || region != Region::R3 || t >= T_C {
+        return inside;
+    }
+    let ps = region4::psat(t);
+    if st.props.rho > RHO_C {
+        p >= ps * (1.0 - EDGE_SLACK)
+    } else {
+        p <= ps * (1.0 + EDGE_SLACK)
+    }
+}
+
+/// Moves `x` onto `lo` or `hi` when it lies beyond it by no more than [`EDGE_SLACK`].
+fn clamp_near(x: f64, lo: f64, hi: f64) -> f64 {
+    if x < lo && x >= lo * (1.0 - EDGE_SLACK) {
+        lo
+    } else if x > hi && x <= hi * (1.0 + EDGE_SLACK) {
+        hi
+    } else {
+        x
+    }
+}
+
+/// An iterated single-phase answer that lies beyond an outer limit of IF97 (273.15 K and
+/// 2273.15 K; 1 Pa, 50 MPa above 1073.15 K and 100 MPa) by rounding only is put on that limit
+/// and evaluated there, so that a state on the limit is returned inside the range; anything
+/// else is returned unchanged (and the range checks judge it).
+fn snap_to_range(region: Region, pr: Props) -> Result<Props> {
+    let (p, t) = (pr.p, pr.t);
+    let mut tc = clamp_near(t, T_MIN, T_MAX_5);
+    if region != Region::R5 && p > P_MAX_5 && t > T_MAX_123 {
+        tc = clamp_near(t, T_MIN, T_MAX_123);
+    }
+    let p_top = if tc <= T_MAX_123 { P_MAX } else { P_MAX_5 };
+    let pc = clamp_near(p, P_MIN, p_top);
+    if pc == p && tc == t {
+        return Ok(pr);
+    }
+    match region {
+        Region::R1 => Ok(region1::props(pc, tc)),
+        Region::R2 => Ok(region2::props(pc, tc)),
+        Region::R5 => Ok(region5::props(pc, tc)),
+        Region::R3 => {
+            let mut out = region3::props(region3_rho(pc, tc, pr.v)?, tc);
+            out.p = pc;
+            Ok(out)
+        }
+        Region::R4 => Ok(pr),
+    }
+}
+
 /// Region-3 density at (p, T) from the SR5-05 backward equation `v0`, refined on the basic
 /// equation by Newton; where Newton stalls (near the critical point, where (dp/drho)_T
 /// vanishes) a bracketing search around the starting value on the same side of the critical
@@ -241,10 +385,14 @@ fn region3_rho(p: f64, t: f64, v0: f64) -> Result<f64> {
     ))
 }
 
-/// Region-3 properties at (p, T).
+/// Region-3 properties at (p, T), with the given p (the density iteration reproduces it to
+/// ~1e-14 relative; the state carries the pressure asked for, so that a state at 100 MPa is
+/// not returned a rounding error above the limit).
 fn region3_pt(p: f64, t: f64) -> Result<Props> {
     let v0 = backward::region3_vpt::v_pt(p, t);
-    Ok(region3::props(region3_rho(p, t, v0)?, t))
+    let mut pr = region3::props(region3_rho(p, t, v0)?, t);
+    pr.p = p;
+    Ok(pr)
 }
 
 /// Properties at (p, T) in a known single-phase region.
@@ -586,7 +734,7 @@ fn newton2(
         let fa = qa.of(&pr) - a;
         let fb = qb.of(&pr) - b;
         if fa.abs() <= opts.tol * sa && fb.abs() <= opts.tol * sb {
-            return Ok((pr, it));
+            return Ok((snap_to_range(region, pr)?, it));
         }
         let ((a1, a2), (b1, b2)) = if region == Region::R3 {
             (d_rt(qa, &pr), d_rt(qb, &pr))
@@ -618,7 +766,7 @@ fn newton2(
     let fa = qa.of(&pr) - a;
     let fb = qb.of(&pr) - b;
     if fa.abs() <= 1e-9 * sa && fb.abs() <= 1e-9 * sb {
-        return Ok((pr, opts.max_iter));
+        return Ok((snap_to_range(region, pr)?, opts.max_iter));
     }
     Err(Error::not_converged(
         format!(
@@ -645,7 +793,7 @@ fn newton_t(region: Region, p: f64, q: Q, target: f64, t0: f64, opts: &Options) 
     for it in 0..opts.max_iter {
         let f = q.of(&pr) - target;
         if f.abs() <= opts.tol * scale {
-            return Ok(single(pr, region, it));
+            return Ok(single(snap_to_range(region, pr)?, region, it));
         }
         let d = d_pt(q, &pr).1;
         if !(d.is_finite() && d > 0.0) {
@@ -657,12 +805,12 @@ fn newton_t(region: Region, p: f64, q: Q, target: f64, t0: f64, opts: &Options) 
         if step.abs() <= 4.0 * f64::EPSILON * t {
             // At the rounding floor: accept if within the documented promise.
             if (q.of(&pr) - target).abs() <= 1e-9 * scale {
-                return Ok(single(pr, region, it + 1));
+                return Ok(single(snap_to_range(region, pr)?, region, it + 1));
             }
         }
     }
     if (q.of(&pr) - target).abs() <= 1e-9 * scale {
-        return Ok(single(pr, region, opts.max_iter));
+        return Ok(single(snap_to_range(region, pr)?, region, opts.max_iter));
     }
     Err(Error::not_converged(
         format!(
@@ -712,49 +860,51 @@ fn below_range(p: f64, q: Q, target: f64) -> Result<()> {
 }
 
 /// Region 2 or, above 1073.15 K, region 5 for a target above the saturated vapour / B23 value.
+///
+/// Region 2 owns the 1073.15 K isotherm (`regions::region_pt`), and the two equations differ
+/// there by IF97's consistency (up to ~0.06 K in T): region 5 answers only a target beyond
+/// region 2's own value at 1073.15 K, so that a state on the isotherm round-trips to region 2.
+/// Where region 5's value there lies higher still (a gap of the two equations), such a target
+/// is answered by region 5 carried a few mK below 1073.15 K.
 fn vapour_side(p: f64, q: Q, target: f64, t_low: f64, opts: &Options) -> Result<State> {
     let t0 = backward_t(Region::R2, p, q, target);
-    if t0 > T_MAX_123 - 10.0 {
-        let t_top = limits_t_for_p(p);
-        let hi_state = if t_top > T_MAX_123 {
-            region5::props(p, t_top)
-        } else {
-            region2::props(p, t_top)
-        };
-        if target > q.of(&hi_state) {
-            return Err(oor(
-                q.name(),
-                target,
-                q.of(&hi_state),
-                q.unit(),
-                Bound::Above,
-            ));
-        }
-        // Region 5 when the target reaches region 5's own value at 1073.15 K (the two
-        // equations differ slightly there; a target in that tiny gap is taken in region 2).
-        if p <= P_MAX_5 {
-            let b5 = region5::props(p, T_MAX_123);
-            if target >= q.of(&b5) {
-                let slope = if q == Q::S { b5.cp / b5.t } else { b5.cp };
-                let t0 = (T_MAX_123 + (target - q.of(&b5)) / slope).clamp(T_MAX_123, T_MAX_5);
-                return newton_t(Region::R5, p, q, target, t0, opts);
-            }
-        }
-    }
-    let st = finish_gibbs(Region::R2, p, q, target, t0.clamp(t_low, T_MAX_123), opts)?;
-    if st.props.t > T_MAX_123 && !opts.backward_only {
-        // The backward equation was extrapolated beyond region 2 (far into region 5, where it
-        // is not valid); decide again with the region-5 boundary value.
-        if p <= P_MAX_5 {
-            let b5 = region5::props(p, T_MAX_123);
-            if target >= q.of(&b5) {
-                return newton_t(Region::R5, p, q, target, st.props.t.min(T_MAX_5), opts);
-            }
-        }
-        if st.props.t > T_MAX_123 * (1.0 + 1e-6) {
-            let top = region2::props(p, T_MAX_123);
+    let region5 = |t0: f64| -> Result<State> {
+        let top = region5::props(p, T_MAX_5);
+        if target > q.of(&top) {
             return Err(oor(q.name(), target, q.of(&top), q.unit(), Bound::Above));
         }
+        // Region 5 has no backward equation: it is always solved on the basic equation.
+        newton_t(Region::R5, p, q, target, t0, opts)
+    };
+    // The backward equation is exact to tens of mK inside region 2; a start near or beyond
+    // 1073.15 K (or no start: far outside its range) is decided with the boundary value.
+    if t0.is_nan() || t0 > T_MAX_123 - 10.0 {
+        let b2 = region2::props(p, T_MAX_123);
+        if target > q.of(&b2) {
+            if p > P_MAX_5 {
+                return Err(oor(q.name(), target, q.of(&b2), q.unit(), Bound::Above));
+            }
+            let slope = if q == Q::S { b2.cp / b2.t } else { b2.cp };
+            return region5((T_MAX_123 + (target - q.of(&b2)) / slope).clamp(T_MAX_123, T_MAX_5));
+        }
+    }
+    let start = if t0.is_nan() { T_MAX_123 } else { t0 };
+    let st = finish_gibbs(
+        Region::R2,
+        p,
+        q,
+        target,
+        start.clamp(t_low, T_MAX_123),
+        opts,
+    )?;
+    if st.props.t > T_MAX_123 * (1.0 + EDGE_SLACK) && !opts.backward_only {
+        // A backward start far off (outside the backward equation's range) led past
+        // 1073.15 K: decide again with the boundary value.
+        let b2 = region2::props(p, T_MAX_123);
+        if p <= P_MAX_5 && target > q.of(&b2) {
+            return region5(st.props.t.min(T_MAX_5));
+        }
+        return Err(oor(q.name(), target, q.of(&b2), q.unit(), Bound::Above));
     }
     Ok(st)
 }
@@ -872,9 +1022,12 @@ fn at_p_q(p: f64, q: Q, target: f64, opts: &Options) -> Result<State> {
         }
         return finish_gibbs(Region::R1, p, q, target, t0.clamp(T_MIN, T_13), opts);
     }
-    let t23 = crate::water::if97::b23::t_b23(p);
+    let t23 = t_b23_owned(p);
     let b23 = region2::props(p, t23);
-    if target >= q.of(&b23) {
+    // Eq. (5) itself is rounded (not monotonic at the last ulp), so the owned edge is known
+    // to ~1e-15 relative in T: a target within the solver's tolerance of region 2's value
+    // there is region 2's.
+    if target >= q.of(&b23) - opts.tol * q.scale(target) {
         return vapour_side(p, q, target, t23, opts);
     }
     // Region 3, possibly two-phase below the critical pressure.
@@ -903,8 +1056,35 @@ fn at_p_q(p: f64, q: Q, target: f64, opts: &Options) -> Result<State> {
     if opts.backward_only {
         return Ok(backward_state(Region::R3, 1.0 / v0, t0));
     }
-    let (pr, it) = newton2(Region::R3, Q::P, p, q, target, 1.0 / v0, t0, opts)?;
+    let (mut pr, it) = newton2(Region::R3, Q::P, p, q, target, 1.0 / v0, t0, opts)?;
+    // The iteration meets p to its tolerance; the state carries the pressure given.
+    pr.p = p;
     Ok(single(pr, Region::R3, it))
+}
+
+/// The lowest temperature at pressure p (16.5292 MPa <= p <= 100 MPa) that region 2 owns:
+/// `regions::region_pt` gives region 2 where p <= p_B23(T). T_B23(p) (R7-97(2012) Eq. (6))
+/// inverts Eq. (5) only to ~1e-12 relative (1.4e-10 K at 17.66 MPa), which put a state on B23
+/// a hair inside region 3 for the (p, h) and (p, s) decision, and so sent it to the
+/// region-3 equation, ~0.01 K away; bisection on Eq. (5) itself finds the edge to a few ulps.
+fn t_b23_owned(p: f64) -> f64 {
+    let t0 = b23::t_b23(p);
+    let (mut lo, mut hi) = (t0 * (1.0 - EDGE_SLACK), t0 * (1.0 + EDGE_SLACK));
+    if !(p > b23::p_b23(lo) && p <= b23::p_b23(hi)) {
+        return t0;
+    }
+    for _ in 0..64 {
+        let mid = 0.5 * (lo + hi);
+        if mid <= lo || mid >= hi {
+            break;
+        }
+        if p <= b23::p_b23(mid) {
+            hi = mid;
+        } else {
+            lo = mid;
+        }
+    }
+    hi
 }
 
 fn backward_state(region: Region, x1: f64, t: f64) -> State {
@@ -942,11 +1122,19 @@ pub fn at_ps(p: f64, s: f64, opts: &Options) -> Result<State> {
 }
 
 /// State from (h, s), with the SR4-04 region map and the SR2-01/SR4-04 backward equations as
-/// starting points.
+/// starting points. SR4-04 maps regions 1 to 4 only: an enthalpy above every state of regions
+/// 1 to 3 (region 2 at 1073.15 K and 1 Pa) goes straight to region 5, and an answer the map
+/// placed in a neighbouring region is settled there (`settle`).
 pub fn at_hs(h: f64, s: f64, opts: &Options) -> Result<State> {
     Error::check_finite("h", h)?;
     Error::check_finite("s", s)?;
     use backward::hs::RegionHs;
+    if h > h_max_123() {
+        // Beyond the map's reach, where its region-2 test can still pass by extrapolation
+        // and start region 2 at an absurd temperature (e.g. 6.8e15 K for the state at
+        // 0.084 MPa, 2273.15 K).
+        return generic_hs(h, s, opts);
+    }
     match backward::hs::region_hs(h, s) {
         Some(RegionHs::R1) => {
             let p0 = backward::region1::p_hs(h, s);
@@ -965,10 +1153,14 @@ pub fn at_hs(h: f64, s: f64, opts: &Options) -> Result<State> {
             finish_hs(Region::R3, h, s, 1.0 / v0, t0, opts)
         }
         Some(RegionHs::R4) => {
+            // The map's two-phase test reaches a hair beyond the saturation lines: a
+            // single-phase state beside them (within IF97's consistency) is found by seeds.
             let t0 = backward::hs::tsat_hs(h, s);
-            wet_hs(h, s, t0, opts)
+            wet_hs(h, s, t0, opts).or_else(|e| generic_hs(h, s, opts).map_err(|_| e))
         }
-        None => generic_hs(h, s, opts),
+        // Off the map (e.g. a wet state on the 273.15 K isotherm, a rounding error below the
+        // map's lower edge): single-phase seeds, then the saturation line.
+        None => generic_hs(h, s, opts).or_else(|e| wet_hs(h, s, f64::NAN, opts).map_err(|_| e)),
     }
 }
 
@@ -978,130 +1170,263 @@ fn finish_hs(region: Region, h: f64, s: f64, x1: f64, t0: f64, opts: &Options) -
     }
     match newton2(region, Q::H, h, Q::S, s, x1, t0, opts) {
         Ok((pr, it)) => {
-            let st = single(pr, region, it);
-            if region == Region::R2 && pr.t > T_MAX_123 && pr.p <= P_MAX_5 {
-                // SR4-04 has no region 5: continue there from the region-2 answer.
-                let (pr5, it5) = newton2(Region::R5, Q::H, h, Q::S, s, pr.p, pr.t, opts)?;
-                let st5 = single(pr5, Region::R5, it + it5);
-                validate_region(&st5)?;
-                return Ok(st5);
+            settle_hs(single(pr, region, it), h, s, opts).or_else(|e| hs_fallback(h, s, opts, e))
+        }
+        Err(e) => hs_fallback(h, s, opts, e),
+    }
+}
+
+/// When the map's region does not settle: single-phase seeds, then the saturation line (the
+/// map's single-phase regions reach a hair into the two-phase region, e.g. x = 1e-7 at
+/// 280 K); the first error is the one reported.
+fn hs_fallback(h: f64, s: f64, opts: &Options, e: Error) -> Result<State> {
+    generic_hs(h, s, opts)
+        .or_else(|_| wet_hs(h, s, f64::NAN, opts))
+        .map_err(|_| e)
+}
+
+/// The pair (qa = a, qb = b) solved by Newton in `region` from the state `from` (its p, or its
+/// rho in region 3, and T).
+fn newton_pair(
+    region: Region,
+    (qa, a): (Q, f64),
+    (qb, b): (Q, f64),
+    from: &Props,
+    opts: &Options,
+) -> Result<State> {
+    let x1 = if region == Region::R3 {
+        from.rho
+    } else {
+        from.p
+    };
+    let (pr, it) = newton2(region, qa, a, qb, b, x1, from.t, opts)?;
+    Ok(single(pr, region, it))
+}
+
+fn settle_hs(st: State, h: f64, s: f64, opts: &Options) -> Result<State> {
+    settle(st, (Q::H, h), (Q::S, s), opts)
+}
+
+/// The state IF97 gives for a pair (qa = a, qb = b) of two properties that vary with both p
+/// and T ((h, s), (u, v)), from an answer `st` solved in the region a map or a scan chose.
+///
+/// - `st` inside its region: the answer, unless it lies within IF97's consistency band of a
+///   boundary a neighbour owns and the neighbour's own equation reaches the pair inside its
+///   region too (the overlap of the two equations): then the owner's state, so that a state
+///   on the boundary round-trips ([`boundary_owner`]).
+/// - `st` outside its region (the map picked a neighbour, or region 2 ran past 1073.15 K, or
+///   past 100 MPa beside region 3): solved again in the region its (p, T) lies in and in the
+///   neighbours across nearby boundaries, and the first inside its region kept. If none is (a
+///   gap between two equations on a boundary), the non-owner's answer carried past the
+///   boundary by less than the band, as the (p, h) and (T, v) paths do.
+fn settle(mut st: State, qa: (Q, f64), qb: (Q, f64), opts: &Options) -> Result<State> {
+    // An answer of a scan met the pair only to its bracketing (at a region boundary, to the
+    // edge of the jump, ~1e-10): polish it on its own equation to the solver's tolerance.
+    let meets = |s: &State| {
+        (qa.0.of(&s.props) - qa.1).abs() <= opts.tol * qa.0.scale(qa.1)
+            && (qb.0.of(&s.props) - qb.1).abs() <= opts.tol * qb.0.scale(qb.1)
+    };
+    if !meets(&st) {
+        if let Ok(o) = newton_pair(st.region, qa, qb, &st.props, opts) {
+            if in_region(&o) {
+                st = o;
             }
-            // Near a region boundary the SR4-04 map may pick the neighbour: when the answer
-            // lies in another region, refine it there too and keep that one if it stays inside.
-            if let Ok(expect) = regions::region_pt(pr.p, pr.t) {
-                if expect != region && matches!(expect, Region::R1 | Region::R2 | Region::R3) {
-                    let x1 = if expect == Region::R3 { pr.rho } else { pr.p };
-                    if let Ok((pr2, it2)) = newton2(expect, Q::H, h, Q::S, s, x1, pr.t, opts) {
-                        if regions::region_pt(pr2.p, pr2.t).ok() == Some(expect) {
-                            return Ok(single(pr2, expect, it + it2));
-                        }
+        }
+    }
+    let (p, t) = (st.props.p, st.props.t);
+    if in_region(&st) {
+        for nb in neighbours_near(st.region, p, t) {
+            if boundary_owner(st.region, nb) == Some(nb) {
+                if let Ok(o) = newton_pair(nb, qa, qb, &st.props, opts) {
+                    if in_region(&o) {
+                        return Ok(o);
                     }
                 }
             }
-            match validate_region(&st) {
-                Ok(()) => Ok(st),
-                Err(e) => generic_hs(h, s, opts).map_err(|_| e),
-            }
         }
-        Err(e) => generic_hs(h, s, opts).map_err(|_| e),
+        return Ok(st);
     }
-}
-
-/// Checks that a Newton answer really lies in the region it was computed in.
-fn validate_region(st: &State) -> Result<()> {
-    let p = st.props.p;
-    let t = st.props.t;
+    let mut homes: Vec<Region> = Vec::new();
+    for r in regions::region_pt(p, t)
+        .into_iter()
+        .chain(neighbours_near(st.region, p, t))
+    {
+        if r != st.region && !homes.contains(&r) {
+            homes.push(r);
+        }
+    }
+    let mut tried = Vec::new();
+    for &home in &homes {
+        if let Ok(o) = newton_pair(home, qa, qb, &st.props, opts) {
+            if in_region(&o) {
+                return Ok(o);
+            }
+            tried.push(o);
+        }
+    }
+    for o in tried {
+        let Some(owner) = boundary_owner(st.region, o.region) else {
+            continue;
+        };
+        let guest = if st.region == owner { o } else { st };
+        let (gp, gt) = (guest.props.p, guest.props.t);
+        if neighbours_near(guest.region, gp, gt).contains(&owner)
+            && check_p(gp).is_ok()
+            && check_t(gt).is_ok()
+        {
+            return Ok(guest);
+        }
+    }
     check_p(p)?;
     check_t(t)?;
-    let expect = regions::region_pt(p, t)?;
-    if expect != st.region && !(st.region == Region::R3 || expect == Region::R3) {
-        return Err(Error::no_unique(format!(
-            "the state found (p = {p} MPa, T = {t} K) is not in IF97 region {}",
-            st.region.number()
-        )));
-    }
-    Ok(())
+    Err(Error::no_unique(format!(
+        "the state found (p = {p} MPa, T = {t} K) is not in IF97 region {}",
+        st.region.number()
+    )))
 }
 
-/// Two-phase (h, s): find T where the qualities from h and from s agree.
+/// Quality within which a two-phase (h, s) answer is checked against the single-phase
+/// equation of the nearer saturated side ([`single_beside_saturation`]).
+const X_NEAR_SATURATION: f64 = 1e-3;
+
+/// Two-phase (h, s): the temperature T on the saturation line where the qualities from h and
+/// from s agree, x_h = (h - h')/(h'' - h') = x_s = (s - s')/(s'' - s').
+///
+/// G(T) = (h - h')(s'' - s') - (s - s')(h'' - h') vanishes there. With h'' - h' = T (s'' - s')
+/// (to IF97's consistency), G = (s'' - s')(h - T s - g'(T)) and d(h - T s - g')/dT = s' - s
+/// (plus the small v' dp_s/dT), negative while s' < s: so G falls through zero once on the
+/// temperatures where s' <= s <= s'' (from 273.15 K up to where s leaves that window, which
+/// only narrows as T rises). Above that window G is taken as negative, so that the answer is
+/// the only sign change on 273.15 K to Tc. (An earlier version signed the mixture by its
+/// quality instead; that assumption fails near the critical point, where x runs to large
+/// values of either sign, and missed e.g. x = 0.5 at 645 K.)
+///
+/// An answer within [`X_NEAR_SATURATION`] of a saturated side is the single-phase state there
+/// when that side's equation reaches (h, s) on its own side of the saturation line.
 fn wet_hs(h: f64, s: f64, t0: f64, opts: &Options) -> Result<State> {
-    let f = |t: f64| -> Result<(f64, State)> {
+    let at = |t: f64| -> Result<State> {
         let (p, l, v) = saturation_t(t)?;
-        let x = (h - l.h) / (v.h - l.h);
-        let st = wet(p, t, x, &l, &v);
-        Ok((st.props.s - s, st))
+        Ok(wet(p, t, (h - l.h) / (v.h - l.h), &l, &v))
     };
     if opts.backward_only {
-        return Ok(f(t0.clamp(T_MIN, T_C))?.1);
+        return at(t0.clamp(T_MIN, T_C));
     }
-    let (lo, hi) = (T_MIN, T_C - 1e-3);
-    // Outside 0 <= x <= 1 the mixture is not a state; return a value of the sign of the side
-    // it is on (x < 0: above the answer's temperature, x > 1: below), so that the root is the
-    // only sign change along the saturation line.
-    let fs = |t: f64| {
-        f(t).map(|(d, st)| match st.x {
-            Some(x) if x < 0.0 => -1.0 - x.abs(),
-            Some(x) if x > 1.0 => x,
-            _ => d,
-        })
-    };
-    // SR4-04 Tsat(h,s) is valid only on the high-entropy side; near it bracket the guess,
-    // elsewhere scan the saturation line for sign changes with 0 <= x <= 1.
-    let mut t_found = None;
-    if (lo..=hi).contains(&t0) {
-        for w in [0.05, 0.5, 5.0] {
-            let (a, b) = ((t0 - w).max(lo), (t0 + w).min(hi));
-            if fs(a)?.signum() != fs(b)?.signum() {
-                let t = brent(fs, a, b, Some(t0), opts)?;
-                let x = f(t)?.1.x.unwrap_or(-1.0);
-                if (-1e-9..=1.0 + 1e-9).contains(&x) {
-                    t_found = Some(t);
-                }
-                break;
-            }
-        }
-    }
-    if t_found.is_none() {
-        let n = 128;
-        let ts: Vec<f64> = (0..=n)
-            .map(|i| lo + (hi - lo) * i as f64 / n as f64)
-            .collect();
-        let fv: Vec<f64> = ts.iter().map(|&t| fs(t)).collect::<Result<_>>()?;
-        for i in 0..n {
-            if fv[i] == 0.0 || fv[i].signum() != fv[i + 1].signum() {
-                let t = if fv[i] == 0.0 {
-                    ts[i]
-                } else {
-                    brent(fs, ts[i], ts[i + 1], None, opts)?
-                };
-                let x = f(t)?.1.x.unwrap_or(-1.0);
-                if (-1e-9..=1.0 + 1e-9).contains(&x) {
-                    t_found = Some(t);
-                    break;
-                }
-            }
-        }
-    }
-    let Some(t) = t_found else {
-        return Err(Error::no_unique(format!(
+    let not_wet = || {
+        Error::no_unique(format!(
             "(h = {h} kJ/kg, s = {s} kJ/(kg K)) is not a two-phase state of IAPWS-IF97"
-        )));
+        ))
     };
-    let (_, st) = f(t)?;
-    if let Some(x) = st.x {
-        if !(-1e-9..=1.0 + 1e-9).contains(&x) {
-            return Err(Error::no_unique(format!(
-                "(h = {h} kJ/kg, s = {s} kJ/(kg K)) is not a two-phase state"
-            )));
+    let g = |t: f64| -> Result<f64> {
+        let (_, l, v) = saturation_t(t)?;
+        let tol = 1e-12 * s.abs().max(1.0);
+        if s < l.s - tol || s > v.s + tol {
+            return Ok(-1.0);
+        }
+        Ok((h - l.h) * (v.s - l.s) - (s - l.s) * (v.h - l.h))
+    };
+    // Whether the mixture at T with the quality from h has the entropy s (to the solver's
+    // tolerance): a state exactly at 273.15 K or 623.15 K, where the sign of G is rounding.
+    let exact_at = |t: f64| -> Result<bool> {
+        let st = at(t)?;
+        Ok(st.x.is_some_and(|x| (-1e-9..=1.0 + 1e-9).contains(&x))
+            && (st.props.s - s).abs() <= opts.tol * s.abs().max(0.01))
+    };
+    let (lo, hi) = (T_MIN, T_C - 1e-3);
+    let g_lo = g(lo)?;
+    let on_lo = g_lo == 0.0 || exact_at(lo)?;
+    if g_lo < 0.0 && !on_lo {
+        // Outside the window at 273.15 K, or the answer lies below it.
+        return Err(not_wet());
+    }
+    // The saturated states switch from regions 1 and 2 to region 3 above 623.15 K, and G
+    // jumps there by the equations' inconsistency: a state at 623.15 K itself (saturation
+    // evaluated with regions 1 and 2 there) is taken at the edge, and each side is searched
+    // on its own.
+    let t = if on_lo {
+        lo
+    } else if exact_at(T_13)? {
+        T_13
+    } else {
+        let g13 = g(T_13)?;
+        let (a, b) = if g13 < 0.0 { (lo, T_13) } else { (T_13, hi) };
+        if g(b)? >= 0.0 {
+            return Err(not_wet());
+        }
+        let guess = (t0 > a && t0 < b).then_some(t0);
+        brent(g, a, b, guess, opts)?
+    };
+    let st = at(t)?;
+    let x = st.x.unwrap_or(-1.0);
+    if !(-1e-9..=1.0 + 1e-9).contains(&x) || (st.props.s - s).abs() > 1e-9 * s.abs().max(0.01) {
+        return Err(not_wet());
+    }
+    let (p, l, v) = saturation_t(t)?;
+    let mut st = wet(p, t, x.clamp(0.0, 1.0), &l, &v);
+    if !(X_NEAR_SATURATION..=1.0 - X_NEAR_SATURATION).contains(&x) {
+        let side = if x < 0.5 { &l } else { &v };
+        if let Some(single) = single_beside_saturation(h, s, side, x < 0.5, opts) {
+            st = single;
         }
     }
     Ok(st)
 }
 
-/// (h, s) outside the SR4-04 map's reach: a 2-D search seeded over a grid of (p, T).
+/// The single-phase state with (h, s) next to the saturated state `sat`, on the liquid
+/// (`liquid`) or the vapour side of the saturation line, if that side's equation reaches it
+/// there. Beside the saturation line IF97's single-phase equations and its saturation-pressure
+/// equation agree only within their consistency, so (h, s) of a liquid a few ppm above the
+/// saturation pressure can also be met by a wet mixture with x ~ 1e-6; the saturation line
+/// belongs to the single phase (`regions::region_pt`), and so does such a state.
+fn single_beside_saturation(
+    h: f64,
+    s: f64,
+    sat: &Props,
+    liquid: bool,
+    opts: &Options,
+) -> Option<State> {
+    let region = if sat.t <= T_13 {
+        if liquid {
+            Region::R1
+        } else {
+            Region::R2
+        }
+    } else {
+        Region::R3
+    };
+    let st = newton_pair(region, (Q::H, h), (Q::S, s), sat, opts).ok()?;
+    let (p, t) = (st.props.p, st.props.t);
+    if !in_region(&st) || t > T_C {
+        return None;
+    }
+    let ps = region4::psat(t);
+    let beside = if liquid { p >= ps } else { p <= ps };
+    if !beside || (p - sat.p).abs() > BAND * sat.p {
+        return None;
+    }
+    Some(st)
+}
+
+/// (h, s) outside the SR4-04 map's reach (or where its choice did not settle): Newton from
+/// the backward equations' starts of regions 1 to 3 taken beyond their ranges (e.g. a state
+/// at 100 MPa, whose backward pressure lies a hair above the limit), from a near-ideal-gas
+/// start in region 5 when the enthalpy is above regions 1 to 3, then from a few fixed seeds.
 fn generic_hs(h: f64, s: f64, opts: &Options) -> Result<State> {
-    // Try each single-phase region with a few seeds.
-    let seeds = [
+    let mut seeds: Vec<(Region, f64, f64)> = Vec::new();
+    if h > h_min_5() {
+        let (p0, t0) = region5_hs_start(h, s);
+        seeds.push((Region::R5, p0, t0));
+    }
+    let p1 = backward::region1::p_hs(h, s);
+    seeds.push((Region::R1, p1, backward::region1::t_ph(p1, h)));
+    let p2 = backward::region2::p_hs(h, s);
+    seeds.push((Region::R2, p2, backward::region2::t_ph(p2, h)));
+    let p3 = backward::region3::p_hs(h, s);
+    seeds.push((
+        Region::R3,
+        1.0 / backward::region3::v_ph(p3, h),
+        backward::region3::t_ph(p3, h),
+    ));
+    seeds.extend([
         (Region::R2, 0.01, 400.0),
         (Region::R2, 1.0, 600.0),
         (Region::R2, 10.0, 900.0),
@@ -1109,11 +1434,13 @@ fn generic_hs(h: f64, s: f64, opts: &Options) -> Result<State> {
         (Region::R5, 20.0, 2000.0),
         (Region::R1, 10.0, 300.0),
         (Region::R1, 50.0, 500.0),
-    ];
-    for (region, p0, t0) in seeds {
-        if let Ok((pr, it)) = newton2(region, Q::H, h, Q::S, s, p0, t0, opts) {
-            let st = single(pr, region, it);
-            if validate_region(&st).is_ok() && regions::region_pt(pr.p, pr.t).ok() == Some(region) {
+    ]);
+    for (region, x1, t0) in seeds {
+        if !(x1.is_finite() && x1 > 0.0 && t0.is_finite() && t0 > 0.0) {
+            continue;
+        }
+        if let Ok((pr, it)) = newton2(region, Q::H, h, Q::S, s, x1, t0, opts) {
+            if let Ok(st) = settle_hs(single(pr, region, it), h, s, opts) {
                 return Ok(st);
             }
         }
@@ -1123,8 +1450,41 @@ fn generic_hs(h: f64, s: f64, opts: &Options) -> Result<State> {
     )))
 }
 
+/// The highest enthalpy of regions 1 to 3, kJ/kg: region 2 at 1073.15 K and the lowest
+/// pressure (about 4160.7), computed once.
+fn h_max_123() -> f64 {
+    static H: std::sync::OnceLock<f64> = std::sync::OnceLock::new();
+    *H.get_or_init(|| region2::props(P_MIN, T_MAX_123).h)
+}
+
+/// The lowest enthalpy of region 5, kJ/kg: 1073.15 K at 50 MPa, computed once.
+fn h_min_5() -> f64 {
+    static H: std::sync::OnceLock<f64> = std::sync::OnceLock::new();
+    *H.get_or_init(|| region5::props(P_MAX_5, T_MAX_123).h)
+}
+
+/// A start for region 5 at (h, s): steam there is close to an ideal gas, so T follows from h
+/// at 1 MPa (h depends little on p) and p from s with ds = -R d(ln p).
+fn region5_hs_start(h: f64, s: f64) -> (f64, f64) {
+    let p1 = 1.0;
+    let mut t = 1500.0;
+    for _ in 0..40 {
+        let pr = region5::props(p1, t);
+        let step = (pr.h - h) / pr.cp;
+        t = (t - step).clamp(0.5 * T_MAX_123, 2.0 * T_MAX_5);
+        if step.abs() <= 1e-9 * t {
+            break;
+        }
+    }
+    let s1 = region5::props(p1, t).s;
+    let p = p1 * ((s1 - s) / regions::R).exp();
+    (p.clamp(P_MIN, P_MAX_5), t.clamp(T_MAX_123, T_MAX_5))
+}
+
 /// Safeguarded secant/bisection (Brent-style) root finding of f on [a, b], with f(a), f(b)
-/// of opposite signs.
+/// of opposite signs. When the bracket closes to rounding, the point of smallest |f| seen is
+/// returned: where f jumps at a region boundary (two IF97 equations meeting within their
+/// consistency) and the root is the boundary point itself, that is the side that holds it.
 fn brent<F>(mut f: F, a: f64, b: f64, guess: Option<f64>, opts: &Options) -> Result<f64>
 where
     F: FnMut(f64) -> Result<f64>,
@@ -1141,11 +1501,19 @@ where
     if fa.signum() == fb.signum() {
         return Err(Error::no_unique("no sign change in the search interval"));
     }
+    let mut best = if fa.abs() <= fb.abs() {
+        (a, fa.abs())
+    } else {
+        (b, fb.abs())
+    };
     if let Some(g) = guess {
         if g > a.min(b) && g < a.max(b) {
             let fg = f(g)?;
             if fg == 0.0 {
                 return Ok(g);
+            }
+            if fg.abs() < best.1 {
+                best = (g, fg.abs());
             }
             if fg.signum() == fa.signum() {
                 a = g;
@@ -1164,8 +1532,14 @@ where
             c = 0.5 * (a + b);
         }
         let fc = f(c)?;
-        if fc == 0.0 || (b - a).abs() <= 4.0 * f64::EPSILON * c.abs().max(1e-300) {
+        if fc.abs() < best.1 {
+            best = (c, fc.abs());
+        }
+        if fc == 0.0 {
             return Ok(c);
+        }
+        if (b - a).abs() <= 4.0 * f64::EPSILON * c.abs().max(1e-300) {
+            return Ok(best.0);
         }
         if fc.signum() == fb.signum() {
             b = c;
@@ -1183,10 +1557,10 @@ where
             side = 1;
         }
         if (b - a).abs() <= 1e-15 * c.abs() {
-            return Ok(c);
+            return Ok(best.0);
         }
     }
-    Ok(0.5 * (a + b))
+    Ok(best.0)
 }
 
 /// A single-phase branch along which one independent variable runs.
@@ -1211,8 +1585,9 @@ enum Branch {
 /// Properties at (p, T) knowing which side of the saturation line the point is on.
 fn props_side(p: f64, t: f64, liquid: bool) -> Result<(Props, Region)> {
     let mut region = regions::region_pt(p, t)?;
-    // Exactly on the saturation line region_pt may pick the other side.
-    if t < T_13 {
+    // Exactly on the saturation line region_pt may pick the other side (up to and including
+    // 623.15 K, where region_pt gives the saturation point to region 1).
+    if t <= T_13 {
         let ts = region4::tsat(p.min(region4::psat(T_13)));
         if (t - ts).abs() <= 1e-9 * ts && p <= region4::psat(T_13) {
             region = if liquid { Region::R1 } else { Region::R2 };
@@ -1225,7 +1600,9 @@ fn props_side(p: f64, t: f64, liquid: bool) -> Result<(Props, Region)> {
             t * (1.0 + 1e-9)
         };
         let v0 = backward::region3_vpt::v_pt(p, guess_t);
-        return Ok((region3::props(region3_rho(p, t, v0)?, t), region));
+        let mut pr = region3::props(region3_rho(p, t, v0)?, t);
+        pr.p = p;
+        return Ok((pr, region));
     }
     Ok((props_in(region, p, t)?, region))
 }
@@ -1234,6 +1611,31 @@ fn branch_point(br: &Branch, x: f64) -> Result<(Props, Region)> {
     match *br {
         Branch::Isotherm { t, liquid, .. } => props_side(x, t, liquid),
         Branch::Isobar { p, liquid, .. } => props_side(p, x, liquid),
+    }
+}
+
+/// The region boundaries a branch may cross, as values of its running variable: on an
+/// isotherm between 623.15 K and 863.15 K the B23 pressure; on an isobar 623.15 K (above the
+/// saturation pressure there), the owned B23 temperature ([`t_b23_owned`]) and 1073.15 K.
+fn branch_boundaries(br: &Branch) -> Vec<f64> {
+    match *br {
+        Branch::Isotherm { t, .. } => {
+            if t > T_13 && t <= regions::T_B23_MAX {
+                vec![b23::p_b23(t)]
+            } else {
+                vec![]
+            }
+        }
+        Branch::Isobar { p, .. } => {
+            let mut out = vec![T_MAX_123];
+            if p > p_sat_13() {
+                out.push(T_13);
+            }
+            if p >= b23::p_b23(T_13) && p <= P_MAX {
+                out.push(t_b23_owned(p));
+            }
+            out
+        }
     }
 }
 
@@ -1246,10 +1648,10 @@ fn solve_branch(br: &Branch, q: Q, target: f64, opts: &Options) -> Result<Vec<St
     if hi <= lo {
         return Ok(vec![]);
     }
-    const N: usize = 48;
-    let xs: Vec<f64> = (0..=N)
+    const M: usize = 48;
+    let mut xs: Vec<f64> = (0..=M)
         .map(|i| {
-            let f = i as f64 / N as f64;
+            let f = i as f64 / M as f64;
             if log {
                 (lo.ln() + f * (hi.ln() - lo.ln())).exp()
             } else {
@@ -1258,6 +1660,18 @@ fn solve_branch(br: &Branch, q: Q, target: f64, opts: &Options) -> Result<Vec<St
         })
         .map(|x| x.clamp(lo, hi))
         .collect();
+    // The region boundaries the branch crosses join the grid: q jumps there by the two
+    // equations' inconsistency, and a state on the boundary (the owner's, as
+    // `regions::region_pt` evaluates it) is a root at the edge of a jump that no sign change
+    // reveals.
+    xs.extend(
+        branch_boundaries(br)
+            .into_iter()
+            .filter(|&x| x > lo && x < hi),
+    );
+    xs.sort_by(f64::total_cmp);
+    xs.dedup();
+    let n = xs.len() - 1;
     let mut vals = Vec::with_capacity(xs.len());
     for &x in &xs {
         vals.push(branch_point(br, x).map(|(pr, _)| q.of(&pr) - target).ok());
@@ -1266,7 +1680,7 @@ fn solve_branch(br: &Branch, q: Q, target: f64, opts: &Options) -> Result<Vec<St
     // around a local extremum of q (e.g. the enthalpy minimum of a hot liquid isotherm).
     let eval = |x: f64| branch_point(br, x).map(|(pr, _)| q.of(&pr) - target);
     let mut brackets: Vec<(f64, f64)> = Vec::new();
-    for i in 0..N {
+    for i in 0..n {
         let (Some(fa), Some(fb)) = (vals[i], vals[i + 1]) else {
             continue;
         };
@@ -1274,11 +1688,19 @@ fn solve_branch(br: &Branch, q: Q, target: f64, opts: &Options) -> Result<Vec<St
             brackets.push((xs[i], xs[i + 1]));
         }
     }
+    // Grid points that are roots to rounding (a state on a region boundary or a branch end;
+    // only to rounding: along a liquid isotherm v changes by ~1e-13 over a pressure change of
+    // 1e-6 relative, so a looser test would add near-duplicate states).
+    for (i, v) in vals.iter().enumerate() {
+        if v.is_some_and(|f| f.abs() <= 8.0 * f64::EPSILON * q.scale(target)) {
+            brackets.push((xs[i], xs[i]));
+        }
+    }
     // Interior grid points where |f| has a local minimum, and the two end cells when |f| is
     // smallest at the end of the branch (the extremum may hide inside the end cell).
-    let mut cells: Vec<(usize, usize, usize)> = (1..N).map(|i| (i - 1, i, i + 1)).collect();
+    let mut cells: Vec<(usize, usize, usize)> = (1..n).map(|i| (i - 1, i, i + 1)).collect();
     cells.push((0, 0, 1));
-    cells.push((N - 1, N, N));
+    cells.push((n - 1, n, n));
     for (ia, im, ib) in cells {
         let (Some(fa), Some(fm), Some(fb)) = (vals[ia], vals[im], vals[ib]) else {
             continue;
@@ -1343,8 +1765,28 @@ fn solve_branch(br: &Branch, q: Q, target: f64, opts: &Options) -> Result<Vec<St
     Ok(out)
 }
 
+/// Removes from `cands` a state of a non-owner region that has an owner's twin across their
+/// shared boundary (within [`BAND`] in p and T): the overlap of two IF97 equations within
+/// their consistency, not two states of water ([`boundary_owner`]).
+fn drop_overlap_twins(cands: &mut Vec<State>) {
+    let twin = |a: &State, b: &State| {
+        (a.props.p - b.props.p).abs() <= BAND * a.props.p
+            && (a.props.t - b.props.t).abs() <= BAND * a.props.t
+    };
+    let snapshot = cands.clone();
+    cands.retain(|c| {
+        !snapshot.iter().any(|o| {
+            o.region != c.region
+                && boundary_owner(c.region, o.region) == Some(o.region)
+                && neighbours_near(c.region, c.props.p, c.props.t).contains(&o.region)
+                && twin(c, o)
+        })
+    });
+}
+
 /// Pick one state from the candidates, or explain the ambiguity.
-fn choose(cands: Vec<State>, what: &str, opts: &Options) -> Result<State> {
+fn choose(mut cands: Vec<State>, what: &str, opts: &Options) -> Result<State> {
+    drop_overlap_twins(&mut cands);
     match cands.len() {
         0 => Err(Error::no_unique(format!(
             "no IF97 state has {what} (outside the range of validity or not a physical state)"
@@ -1399,6 +1841,14 @@ fn region3_tv(t: f64, v: f64) -> Result<Option<State>> {
     if !(p > 0.0 && p <= P_MAX) || regions::region_pt(p, t).ok() != Some(Region::R3) {
         return Ok(None);
     }
+    // Region 2 owns B23: when its own equation reaches v at or below the B23 pressure (the
+    // two equations overlap there within their consistency), the state is region 2's.
+    if t <= regions::T_B23_MAX {
+        let pb = b23::p_b23(t);
+        if v >= region2::props(pb, t).v && p <= pb * (1.0 + BAND) {
+            return Ok(None);
+        }
+    }
     if t < T_C {
         let (ps, l, vap) = saturation_t(t)?;
         if rho < l.rho && rho > vap.rho {
@@ -1425,6 +1875,11 @@ fn region3_tv_b23_gap(t: f64, v: f64) -> Option<State> {
         return Some(single(region3::props(1.0 / v, t), Region::R3, 0));
     }
     None
+}
+
+/// Whether a candidate lies at (p, T) to 1e-9 relative (a saturated end of a branch).
+fn at_point(c: &State, p: f64, t: f64) -> bool {
+    (c.props.p - p).abs() <= 1e-9 * p && (c.props.t - t).abs() <= 1e-9 * t
 }
 
 /// States at fixed T with q = target (q is H, S or V), with the two-phase part.
@@ -1466,8 +1921,10 @@ fn at_t_q(t: f64, q: Q, target: f64, opts: &Options) -> Result<State> {
         let (ql, qv) = (q.of(&l), q.of(&v));
         if (target - ql) * (target - qv) <= 0.0 && qv != ql {
             let x = (target - ql) / (qv - ql);
-            // The saturated ends are already found by the branches.
-            if x > 1e-12 && x < 1.0 - 1e-12 {
+            // A saturated end the branches found already is not added twice; any other
+            // mixture is (a test on x alone, x > 1e-12, lost targets within ~1e-7 of v' at
+            // low temperatures, where v'' is 1e5 times v').
+            if x > 0.0 && x < 1.0 && !cands.iter().any(|c| at_point(c, ps, t)) {
                 cands.push(wet(ps, t, x, &l, &v));
             }
         }
@@ -1524,7 +1981,7 @@ fn at_p_generic(p: f64, q: Q, target: f64, opts: &Options) -> Result<State> {
         let (ql, qv) = (q.of(&l), q.of(&v));
         if (target - ql) * (target - qv) <= 0.0 && qv != ql {
             let x = (target - ql) / (qv - ql);
-            if x > 1e-12 && x < 1.0 - 1e-12 {
+            if x > 0.0 && x < 1.0 && !cands.iter().any(|c| at_point(c, p, ts)) {
                 cands.push(wet(p, ts, x, &l, &v));
             }
         }
@@ -1552,22 +2009,34 @@ fn at_uv(u: f64, v: f64, opts: &Options) -> Result<State> {
         return Err(oor("v", v, 0.0, "m3/kg", Bound::Below));
     }
     let f = |t: f64| -> Result<f64> { Ok(at_t_q(t, Q::V, v, opts)?.props.u - u) };
-    // Find the temperatures where (T, v) exists, scanning upward.
-    const N: usize = 64;
-    let ts: Vec<f64> = (0..=N)
-        .map(|i| T_MIN + (T_MAX_5 - T_MIN) * i as f64 / N as f64)
+    // Find the temperatures where (T, v) exists, scanning upward. The region boundaries at
+    // fixed T (623.15 K, 1073.15 K) join the grid: u jumps there by the two equations'
+    // inconsistency, and a state on the boundary is a root at the edge of the jump; so are
+    // states at 273.15 K and 2273.15 K, where rounding may give f the sign of its neighbour.
+    const M: usize = 64;
+    let mut ts: Vec<f64> = (0..=M)
+        .map(|i| T_MIN + (T_MAX_5 - T_MIN) * i as f64 / M as f64)
         .collect();
+    ts.extend([T_13, T_MAX_123]);
+    ts.sort_by(f64::total_cmp);
+    ts.dedup();
+    let n = ts.len() - 1;
     let vals: Vec<Option<f64>> = ts.iter().map(|&t| f(t).ok()).collect();
-    for i in 0..N {
+    for i in 0..=n {
+        if vals[i].is_some_and(|fe| fe.abs() <= 1e-12 * Q::U.scale(u)) {
+            return settle_uv(at_t_q(ts[i], Q::V, v, opts)?, u, v, opts);
+        }
+    }
+    for i in 0..n {
         if let (Some(fa), Some(fb)) = (vals[i], vals[i + 1]) {
             if fa == 0.0 || fa.signum() != fb.signum() {
                 let t = brent(f, ts[i], ts[i + 1], None, opts)?;
-                return at_t_q(t, Q::V, v, opts);
+                return settle_uv(at_t_q(t, Q::V, v, opts)?, u, v, opts);
             }
         }
     }
     // The valid T range can end between grid points (p reaching 100 MPa): refine the edges.
-    for i in 0..N {
+    for i in 0..n {
         match (vals[i], vals[i + 1]) {
             (Some(fa), None) | (None, Some(fa)) => {
                 let (mut good, mut bad) = if vals[i].is_some() {
@@ -1591,15 +2060,44 @@ fn at_uv(u: f64, v: f64, opts: &Options) -> Result<State> {
                         (good, ts[i + 1])
                     };
                     let t = brent(f, a.min(b), a.max(b), None, opts)?;
-                    return at_t_q(t, Q::V, v, opts);
+                    return settle_uv(at_t_q(t, Q::V, v, opts)?, u, v, opts);
                 }
             }
             _ => {}
         }
     }
+    // A state the scan cannot reach: in a sliver of the range between grid temperatures
+    // (e.g. region 3 at 100 MPa a hair above 623.15 K, where (T, v) exists only within
+    // ~1e-6 K). Newton on (u, v) directly: region 3 at rho = 1/v, and the Gibbs regions from a
+    // few seeds.
+    let seeds = [
+        (Region::R3, 1.0 / v, 650.0),
+        (Region::R3, 1.0 / v, 800.0),
+        (Region::R1, 50.0, 400.0),
+        (Region::R2, 1.0, 600.0),
+        (Region::R5, 1.0, 1500.0),
+    ];
+    for (region, x1, t0) in seeds {
+        if let Ok((pr, it)) = newton2(region, Q::U, u, Q::V, v, x1, t0, opts) {
+            if let Ok(st) = settle_uv(single(pr, region, it), u, v, opts) {
+                if in_region(&st) {
+                    return Ok(st);
+                }
+            }
+        }
+    }
     Err(Error::no_unique(format!(
         "no IF97 state has u = {u} kJ/kg and v = {v} m3/kg (outside the range of validity)"
     )))
+}
+
+/// A (u, v) answer of the T scan, settled between neighbouring regions as (h, s) is
+/// ([`settle`]); two-phase states are returned as found.
+fn settle_uv(st: State, u: f64, v: f64, opts: &Options) -> Result<State> {
+    if st.region == Region::R4 {
+        return Ok(st);
+    }
+    settle(st, (Q::U, u), (Q::V, v), opts)
 }
 
 /// Solves any supported pair.
