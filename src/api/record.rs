@@ -267,6 +267,41 @@ fn grid(region: u8, n: usize, t_max5: f64) -> Vec<(f64, f64)> {
     out
 }
 
+/// The (p, T) nodes of one IF97 region's `n` x `n` cells, the ends included exactly: points on
+/// its limits of validity (273.15 K, 100 MPa, 50 MPa and 2273.15 K for region 5) and on the
+/// region boundaries 623.15 K and 1073.15 K, where neighbouring equations agree only within
+/// IF97's consistency and the region that owns the boundary answers every pair. Kept where
+/// IF97 puts the point in that region, clear of saturation.
+fn edge_grid(region: u8, n: usize) -> Vec<(f64, f64)> {
+    let (plo, phi, tlo, thi) = match region {
+        1 => (1e-3, 100.0, 273.15, 623.15),
+        2 => (1e-3, 100.0, 273.15, 1073.15),
+        3 => (16.53, 100.0, 623.15, 863.15),
+        _ => (1e-2, 50.0, 1073.15, 2273.15),
+    };
+    let node = |lo: f64, hi: f64, i: usize, geometric: bool| match i {
+        0 => lo,
+        i if i == n => hi,
+        i if geometric => log(lo, hi, i, n),
+        i => lin(lo, hi, i, n),
+    };
+    let mut out = Vec::new();
+    for i in 0..=n {
+        for j in 0..=n {
+            let (p, t) = (node(plo, phi, i, true), node(tlo, thi, j, false));
+            let on_edge = i == 0 || i == n || j == 0 || j == n;
+            if !on_edge || near_saturation(p, t) {
+                continue;
+            }
+            match water::solve(Given::PT(p, t), &Options::STANDARD, Formulation::If97) {
+                Ok(s) if s.region.number() == region => out.push((p, t)),
+                _ => {}
+            }
+        }
+    }
+    out
+}
+
 fn rel(a: f64, b: f64) -> f64 {
     (a - b).abs() / b.abs().max(1e-300)
 }
@@ -338,10 +373,17 @@ pub fn round_trips() -> Vec<RoundTrip> {
         ("(p,u)", |s| Given::PU(s.p, s.u)),
     ];
     let mut rows = Vec::new();
-    for region in [1u8, 2, 3, 5] {
-        let points = grid(region, 9, 2273.15);
+    let grids = [1u8, 2, 3, 5]
+        .into_iter()
+        .map(|r| (r, r.to_string(), grid(r, 9, 2273.15)))
+        .chain(
+            [1u8, 2, 3, 5]
+                .into_iter()
+                .map(|r| (r, format!("{r} edges"), edge_grid(r, 12))),
+        );
+    for (_, label, points) in grids {
         for (name, make) in pairs {
-            let mut acc = Acc::new(&region.to_string(), name, false);
+            let mut acc = Acc::new(&label, name, false);
             for &(p, t) in &points {
                 let answer = water::solve(Given::PT(p, t), &Options::STANDARD, Formulation::If97)
                     .and_then(|st| {
@@ -436,7 +478,7 @@ pub fn comparison_basis() -> String {
 /// The basis of the round-trip summary, printed with it.
 pub fn round_trip_basis() -> String {
     format!(
-        "Single-phase states of IF97 regions 1, 2, 3 and 5 at the centres of a 9 x 9 grid of (p, T) cells per region (pressures geometric, temperatures linear; so no point lies on a region boundary or a limit of validity; points within 0.5 % of the saturation pressure left out), each solved from (p, T), then from each pair of its own properties with its own phase preferred; wet states of region 4 at 9 temperatures from 280 K to 640 K and vapour fractions 0.05, 0.25, 0.5, 0.75, 0.95. The promise of water.state: the recovered T within {ROUND_TRIP_T:e} relative, p within {ROUND_TRIP_P:e} relative, x within {ROUND_TRIP_X:e}."
+        "Single-phase states of IF97 regions 1, 2, 3 and 5 at the centres of a 9 x 9 grid of (p, T) cells per region (pressures geometric, temperatures linear; so no point lies on a region boundary or a limit of validity; points within 0.5 % of the saturation pressure left out), and, in the rows marked \"edges\", the nodes on the edges of a 12 x 12 grid of the same kind (the limits of validity 273.15 K, 100 MPa, 50 MPa, 2273.15 K and the region boundaries 623.15 K and 1073.15 K, where the region that owns the boundary answers), each solved from (p, T), then from each pair of its own properties with its own phase preferred; wet states of region 4 at 9 temperatures from 280 K to 640 K and vapour fractions 0.05, 0.25, 0.5, 0.75, 0.95. The promise of water.state: the recovered T within {ROUND_TRIP_T:e} relative, p within {ROUND_TRIP_P:e} relative, x within {ROUND_TRIP_X:e}."
     )
 }
 
