@@ -1201,3 +1201,175 @@ fn every_numeric_field_is_in_the_units_vocabulary() {
     );
     assert!(names.len() > 100, "{}", names.len());
 }
+
+// ------------------------------------------------ issue 22, a new user's trial of the units
+
+/// Reproduction: `steamcell get p p=42barg T=410degC ambient=0.98barg --unit bar` answered
+/// 43.99325, the ambient read as 0.98 bar over the standard ambient (1.99 bar absolute). The
+/// ambient pressure is absolute: a gauge unit for it is refused on every path (params, /cell
+/// and `steamcell get`, a component, the bulk paths), saying so.
+#[test]
+fn ambient_in_a_gauge_unit_is_refused_on_every_path() {
+    use steamcell::api::cell;
+    let pairs =
+        cell::pairs_from_args(&["p=42barg", "T=410degC", "ambient=0.98barg", "unit=bar"]).unwrap();
+    let e = cell::cell("p", &pairs).unwrap_err();
+    assert_eq!(e.status, 400, "{e:?}");
+    assert!(
+        e.reason.contains("'0.98barg' is a gauge pressure")
+            && e.reason.contains("ambient pressure is absolute"),
+        "{e:?}"
+    );
+    let e = cell::cell(
+        "p",
+        &cell::pairs_from_query("p=42barg&T=410degC&ambient=2%20psig"),
+    )
+    .unwrap_err();
+    assert!(e.reason.contains("ambient pressure is absolute"), "{e:?}");
+    // written absolute, the same ambient is used: 42 barg over 0.98 bar is 42.98 bar
+    // (definition of a gauge pressure; common practice, no source)
+    let pairs =
+        cell::pairs_from_args(&["p=42barg", "T=410degC", "ambient=0.98bar", "unit=bar"]).unwrap();
+    let p: f64 = cell::cell("p", &pairs).unwrap().parse().unwrap();
+    assert!((p - 42.98).abs() < 1e-12, "{p}");
+
+    let absolute = |e: &api::ApiError| {
+        assert_eq!(e.code, 1006, "{e}");
+        assert!(e.message.contains("ambient pressure is absolute"), "{e}");
+    };
+    absolute(&fails(
+        "water.state",
+        json!({"given": {"p": "42 barg", "T": "410 degC"}, "ambient": "0.98 barg"}),
+    ));
+    absolute(&fails(
+        "turbine.expand",
+        json!({"inlet": {"p": "42 barg", "T": "410 degC"}, "outlet_p": "4 barg",
+               "efficiency": 0.8, "ambient": "14 psig"}),
+    ));
+    absolute(&fails(
+        "water.batch",
+        json!({"given": {"p": ["42 barg"], "T": [410]}, "want": ["h"], "ambient": "1 kPag"}),
+    ));
+    let header = json!({"given": ["p", "T"], "rows": 1, "want": ["h"],
+                        "given_units": {"p": "barg"}, "ambient": "0.98 barg"});
+    let body = api::columns::frame(&header, &[vec![42.0], vec![410.0]]);
+    absolute(&api::columns::columns(&api::server_ctx::ServerCtx::default(), &body).unwrap_err());
+    // units.ambient was refused already
+    let e = fails(
+        "water.state",
+        json!({"given": {"p": 1, "T": 300}, "units": {"ambient": "barg"}}),
+    );
+    assert!(e.message.contains("ambient pressure is absolute"), "{e}");
+}
+
+/// Reproduction: `ambient = 2 barg` was refused as "0.301325 MPa is not a plausible ambient
+/// pressure (0 to 0.2 MPa absolute)", in a unit the caller never wrote. An implausible ambient
+/// is refused in the unit it was given in (a bare number: the request's unit for it).
+#[test]
+fn an_implausible_ambient_is_refused_in_the_callers_unit() {
+    let msg = |ambient: Value, units: Value| {
+        let mut p = json!({"given": {"p": 1, "T": 300}, "ambient": ambient});
+        if !units.is_null() {
+            p["units"] = units;
+        }
+        fails("water.state", p).message
+    };
+    // 0.2 MPa is 2 bar and 29.0075 psi (6 significant digits; exact definitions of the bar and
+    // the psi, common practice, no source)
+    let m = msg(json!("3 bar"), Value::Null);
+    assert!(
+        m.contains("ambient = 3 bar") && m.contains("0 to 2 bar"),
+        "{m}"
+    );
+    let m = msg(json!("30 psia"), Value::Null);
+    assert!(m.contains("30 psia") && m.contains("29.0075 psia"), "{m}");
+    let m = msg(json!(3), json!("bar"));
+    assert!(
+        m.contains("ambient = 3 bar") && m.contains("0 to 2 bar"),
+        "{m}"
+    );
+    let m = msg(json!("-5 kPa"), Value::Null);
+    assert!(m.contains("-5 kPa") && m.contains("0 to 200 kPa"), "{m}");
+}
+
+/// Reproduction: `/cell/h?p=42&T=410&unit=barg` and `steamcell get h p=42 T=410 --unit barg`
+/// answered "units.h: 'barg' …", a key the caller never wrote. The refusal names `unit` and the
+/// quantity.
+#[test]
+fn a_cell_unit_refusal_names_unit_and_the_quantity() {
+    use steamcell::api::cell;
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&unit=barg")).unwrap_err();
+    assert_eq!(e.status, 400, "{e:?}");
+    assert!(
+        e.reason.starts_with("unit: 'barg'")
+            && e.reason.contains("h is a specific energy")
+            && !e.reason.contains("units."),
+        "{e:?}"
+    );
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&unit=bar")).unwrap_err();
+    assert!(
+        e.reason.starts_with("unit 'bar (pressure)'")
+            && e.reason.contains("which h needs")
+            && !e.reason.contains("units."),
+        "{e:?}"
+    );
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&unit=furlong")).unwrap_err();
+    assert!(
+        e.reason.starts_with("unit for h: unknown unit 'furlong'") && e.reason.contains("kJ/kg"),
+        "{e:?}"
+    );
+    let e = cell::cell(
+        "h",
+        &cell::pairs_from_query("p=42&T=410&unit=kJ/kg&units.h=Btu/lb"),
+    )
+    .unwrap_err();
+    assert!(
+        e.reason
+            .contains("unit = 'kJ/kg' and units.h = 'Btu/lb' both give the unit of h"),
+        "{e:?}"
+    );
+    // a key the caller did write is still named as written
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&units.h=barg")).unwrap_err();
+    assert!(e.reason.starts_with("units.h: 'barg'"), "{e:?}");
+}
+
+/// Reproduction: `/cell/h?p=42&T=410&foo=1` answered "expected one of p, T, …" without the
+/// options a cell accepts. The refusal lists the given quantities and every option.
+#[test]
+fn an_unknown_cell_name_lists_the_quantities_and_the_options() {
+    use steamcell::api::cell;
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&foo=1")).unwrap_err();
+    assert_eq!(e.status, 400, "{e:?}");
+    for name in ["'foo'", "p, T, h, s, u, v, rho, x", "units.KEY"]
+        .into_iter()
+        .chain(cell::RESERVED.iter().copied())
+    {
+        assert!(e.reason.contains(name), "{name}: {e:?}");
+    }
+    // each listed option is accepted
+    let pairs = cell::pairs_from_query(
+        "p=42&T=410&units=bar&unit=kJ/kg&ambient=1%20bar&formulation=if97&prefer=liquid&backward_only=false&metastable=false",
+    );
+    cell::cell("h", &pairs).unwrap();
+}
+
+/// Reproduction: `POST /columns` with `"given_units": {"p": "degC"}` said "which given.p.unit
+/// needs", a key of `water.batch`; the bulk route names `given_units.p`, as written.
+#[test]
+fn a_columns_unit_refusal_names_given_units() {
+    let header =
+        json!({"given": ["p", "T"], "rows": 1, "want": ["h"], "given_units": {"p": "degC"}});
+    let body = api::columns::frame(&header, &[vec![1.0], vec![300.0]]);
+    let e = api::columns::columns(&api::server_ctx::ServerCtx::default(), &body).unwrap_err();
+    assert_eq!(e.code, 1005, "{e}");
+    assert!(
+        e.message.contains("which given_units.p needs") && !e.message.contains("given.p.unit"),
+        "{e}"
+    );
+    // water.batch names its own key
+    let e = fails(
+        "water.batch",
+        json!({"given": {"p": {"values": [1], "unit": "degC"}, "T": [300]}, "want": ["h"]}),
+    );
+    assert!(e.message.contains("which given.p.unit needs"), "{e}");
+}
