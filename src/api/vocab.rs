@@ -513,6 +513,9 @@ struct Log {
     /// The first gauge unit of the request (in or out): the ambient is echoed in its absolute
     /// unit unless the request names a unit for `ambient`.
     gauge: Option<Unit>,
+    /// Every output field converted through [`Ctx::out_unit`], by its name, with its unit
+    /// (for the component methods' `units` maps, [`Ctx::output_units`]).
+    outputs: BTreeMap<String, &'static str>,
 }
 
 /// Context shared by every conversion of one request: its units and ambient pressure, and a log
@@ -674,8 +677,11 @@ impl Ctx {
         if is_ambient(name) {
             return u.absolute();
         }
+        let mut log = self.log();
+        if !log.outputs.contains_key(name) {
+            log.outputs.insert(name.to_string(), u.symbol);
+        }
         if u.gauge || self.system.has_names() {
-            let mut log = self.log();
             log.gauge_out |= u.gauge;
             if u.gauge && log.gauge.is_none() {
                 log.gauge = Some(u);
@@ -718,6 +724,13 @@ impl Ctx {
     /// The unit symbol of the output field `name` (of dimension `dim`), for the `units` maps.
     pub fn unit(&self, name: &str, dim: Dim) -> &'static str {
         self.out_unit(name, dim).symbol
+    }
+
+    /// Every output field converted so far ([`Ctx::out`], [`Ctx::unit`], ...), by the name
+    /// it was converted under (a field name, or a dotted path such as "balance.mass_in" or
+    /// "stages.power" for the fields of nested objects and lists), with its unit symbol.
+    pub fn output_units(&self) -> BTreeMap<String, &'static str> {
+        self.log().outputs.clone()
     }
 
     /// The unit the ambient pressure is echoed in: the one the request names for `ambient`,

@@ -1373,3 +1373,98 @@ fn a_columns_unit_refusal_names_given_units() {
     );
     assert!(e.message.contains("which given.p.unit needs"), "{e}");
 }
+
+/// Reproduction: the component answers' `units` maps named their mass flows, heat flows and
+/// powers by group (`flows`, `heat`, `power`) only, so `steam_flow` of `boiler.fire` had no
+/// key of its own (and the uncertainty of `balance.energy_in` no unit). Every numeric field at
+/// the top of a component's answer and in its `balance` is now named in its map, as
+/// `water.state` names its fields; the group keys stay (nested objects and lists, such as
+/// `stages`, go by them). Pure ratios with no unit conversion (the balance residuals) and the
+/// heat rates whose unit is in their name are the exceptions.
+#[test]
+fn component_units_maps_name_every_numeric_field() {
+    const COMPONENTS: &[&str] = &[
+        "turbine.expand",
+        "turbine.train",
+        "pump.raise",
+        "valve.throttle",
+        "desuperheater.spray",
+        "flash.separate",
+        "header.mix",
+        "exchanger.balance",
+        "boiler.fire",
+        "deaerator.balance",
+        "cycle.rankine",
+    ];
+    const UNCONVERTED: &[&str] = &[
+        "mass_residual",
+        "energy_residual",
+        "heat_rate_btu_per_kwh",
+        "heat_rate_kj_per_kwh",
+    ];
+    // group keys ("zones.T": the four temperatures of each exchanger zone)
+    const GROUPS: &[&str] = &[
+        "preset",
+        "ambient",
+        "flows",
+        "heat",
+        "power",
+        "balance.energy",
+        "zones.T",
+    ];
+    let mut seen = Vec::new();
+    for (m, p) in samples() {
+        if !COMPONENTS.contains(&m) {
+            continue;
+        }
+        seen.push(m);
+        let r = call(m, p);
+        let units = r["units"].as_object().unwrap();
+        let mut fields: Vec<String> = Vec::new();
+        for (k, v) in r.as_object().unwrap() {
+            if v.is_number() {
+                fields.push(k.clone());
+            }
+        }
+        for (k, v) in r["balance"].as_object().into_iter().flatten() {
+            if v.is_number() {
+                fields.push(format!("balance.{k}"));
+            }
+        }
+        for n in &fields {
+            let leaf = n.rsplit('.').next().unwrap();
+            assert!(
+                units.contains_key(n) || UNCONVERTED.contains(&leaf),
+                "{m}: {n} is not in its units map {:?}",
+                units.keys().collect::<Vec<_>>()
+            );
+        }
+        // and the map names no field the answer lacks (a field may be null: no value here; a
+        // dotted path through a list names the field of its elements)
+        fn found(v: &Value, path: &[&str]) -> bool {
+            match (v, path.split_first()) {
+                (Value::Array(a), _) => a.iter().any(|x| found(x, path)),
+                (Value::Object(o), Some((k, rest))) => o.get(*k).is_some_and(|x| found(x, rest)),
+                (x, None) => x.is_number() || x.is_null(),
+                _ => false,
+            }
+        }
+        for k in units.keys() {
+            let path: Vec<&str> = k.split('.').collect();
+            assert!(
+                GROUPS.contains(&k.as_str()) || found(&r, &path),
+                "{m}: the map names {k}, which is no numeric field of the answer"
+            );
+        }
+    }
+    assert_eq!(seen.len(), COMPONENTS.len(), "{seen:?}");
+    // boiler.fire: its steam flow in t/h by the flow unit, named; its heat flows in kW
+    let r = call(
+        "boiler.fire",
+        json!({"feedwater": {"p": "45 bar", "T": "105 degC"}, "steam": {"p": "42 bar", "T": "400 degC"},
+               "steam_flow": "20 t/h", "efficiency": 0.88, "units": {"flow": "t/h"}}),
+    );
+    assert_eq!(r["units"]["steam_flow"], "t/h", "{}", r["units"]);
+    assert_eq!(r["units"]["fuel_heat_input"], "kW", "{}", r["units"]);
+    assert!((r["steam_flow"].as_f64().unwrap() - 20.0).abs() < 1e-12);
+}
