@@ -607,6 +607,29 @@ fn a_pressure_uncertainty_in_a_gauge_unit_is_refused() {
     close(u("0.725189 psi"), 0.725189 * psi_mpa * 10.0, 1e-15, "psi");
 }
 
+/// Reproduction: the uncertainty of `steam_flow`, `fuel_heat_input` and `balance.energy_in` of
+/// `boiler.fire` had no `unit`, since the answer's `units` map named them only by group. Each
+/// is now named there, so its uncertainty says its unit.
+#[test]
+fn component_fields_uncertainty_names_its_unit() {
+    let r = steamcell::api::call(
+        "boiler.fire",
+        json!({"feedwater": {"p": "45 bar", "T": "105 degC"}, "steam": {"p": "42 bar", "T": "400 degC"},
+               "steam_flow": "20 t/h", "efficiency": 0.88, "units": {"flow": "t/h"},
+               "uncertainty": {"efficiency": 0.01}}),
+    )
+    .unwrap();
+    let u = &r["uncertainty"];
+    assert_eq!(u["steam_flow"]["unit"], "t/h", "{}", u["steam_flow"]);
+    assert_eq!(
+        u["fuel_heat_input"]["unit"], "kW",
+        "{}",
+        u["fuel_heat_input"]
+    );
+    assert_eq!(u["balance"]["energy_in"]["unit"], "kW", "{}", u["balance"]);
+    assert_eq!(u["balance"]["mass_in"]["unit"], "t/h", "{}", u["balance"]);
+}
+
 // ------------------------------------------------------------------------ property uncertainty
 
 /// A state inside each region of the release's figures, with the row it must fall in.
