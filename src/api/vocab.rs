@@ -489,8 +489,8 @@ pub fn units_with(units: Option<Units>, key: &str, unit: &str) -> Result<Units> 
     Ok(units)
 }
 
-/// Checks `text` as the unit of the answered field `quantity` (the `unit` of `/cell`, `steamcell
-/// get` and `/site`), with the messages naming `unit` and the quantity ("unit: 'barg' is a gauge
+/// Checks `text` as the unit of the answered field `quantity` (the `unit` of `/cell` and
+/// `steamcell get`), with the messages naming `unit` and the quantity ("unit: 'barg' is a gauge
 /// pressure unit; gauge units are for pressures only, and h is a specific energy").
 pub fn answer_unit(quantity: &str, text: &str) -> Result<()> {
     let dims = field_dims(quantity);
