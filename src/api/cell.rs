@@ -14,6 +14,7 @@
 //! failure of the method itself takes the status of [`ApiError::http_status`].
 
 use super::{find, vocab, ApiError};
+use crate::water::pairs::INPUTS;
 use schemars::gen::SchemaSettings;
 use serde_json::{Map, Value};
 use std::sync::OnceLock;
@@ -107,6 +108,17 @@ pub fn wire_value(text: &str) -> Value {
     }
 }
 
+/// The refusal of a query name that is neither a given quantity nor an option: every name
+/// a cell accepts.
+fn unknown_name(k: &str) -> String {
+    let given: Vec<&str> = INPUTS.iter().map(|f| f.name()).collect();
+    format!(
+        "'{k}' is not a given quantity nor an option; given quantities (two of): {}; options: {}, units.KEY (the unit of one quantity, e.g. units.p=barg)",
+        given.join(", "),
+        RESERVED.join(", ")
+    )
+}
+
 /// Builds the `water.state` params from decoded query pairs (a `unit` pair stays a top-level
 /// name for [`request`] to place).
 pub fn params_from_pairs(pairs: &[(String, String)]) -> Result<Value, CellError> {
@@ -146,8 +158,10 @@ pub fn params_from_pairs(pairs: &[(String, String)]) -> Result<Value, CellError>
                 Value::String(v.clone())
             };
             (&mut top, value)
-        } else {
+        } else if INPUTS.iter().any(|f| f.name() == k) {
             (&mut given, wire_value(v))
+        } else {
+            return Err(CellError::new(400, unknown_name(k)));
         };
         if target.insert(k.clone(), value).is_some() {
             return Err(CellError::new(400, format!("'{k}' is given twice")));
@@ -190,16 +204,30 @@ pub fn request(quantity: &str, pairs: &[(String, String)]) -> Result<Value, Cell
     }
     let mut params = params_from_pairs(pairs)?;
     if let Some(Value::String(unit)) = params.as_object_mut().and_then(|o| o.remove("unit")) {
-        if vocab::field_dims(quantity).is_empty() {
-            return Err(CellError::new(
-                400,
-                format!("unit = '{unit}': {quantity} is not a quantity with a unit"),
-            ));
-        }
-        let units = params
+        // checked here, so that the message names `unit` (the name the caller wrote) rather
+        // than the `units` key it becomes
+        vocab::answer_unit(quantity, &unit).map_err(|e| {
+            let reason = match e {
+                crate::error::Error::UnknownUnit { .. } => format!("unit for {quantity}: {e}"),
+                e => e.to_string(),
+            };
+            CellError::new(400, reason)
+        })?;
+        let units: Option<vocab::Units> = params
             .get("units")
             .cloned()
             .map(|u| serde_json::from_value(u).unwrap_or(vocab::Units::Preset(String::new())));
+        if let Some(vocab::Units::Choice(m)) = &units {
+            if m.contains_key(quantity) {
+                return Err(CellError::new(
+                    400,
+                    format!(
+                        "unit = '{unit}' and units.{quantity} = '{}' both give the unit of {quantity}; give one",
+                        m[quantity]
+                    ),
+                ));
+            }
+        }
         let units = vocab::units_with(units, quantity, &unit)
             .map_err(|e| CellError::new(400, e.to_string()))?;
         params["units"] = serde_json::to_value(units).unwrap_or(Value::Null);

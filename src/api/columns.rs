@@ -148,7 +148,9 @@ fn compute(body: &[u8], max_rows: usize) -> Result<Vec<u8>> {
     let mut gauge_in = false;
     for (k, name) in h.given.iter().enumerate() {
         let (name, dim) = input_dim(name)?;
-        let unit = input_unit(&ctx, name, dim, h.given_units.get(name).map(String::as_str))?;
+        let key = format!("given_units.{name}");
+        let own = h.given_units.get(name).map(|t| (key.as_str(), t.as_str()));
+        let unit = input_unit(&ctx, name, dim, own)?;
         gauge_in |= unit.gauge;
         let bytes = &data[k * h.rows * 8..(k + 1) * h.rows * 8];
         cols.push(InputColumn::from_le_bytes(name, unit, ctx.ambient, bytes));

@@ -211,11 +211,27 @@ fn balance(ctx: &Ctx, b: &Balance) -> BalanceOut {
     }
 }
 
+/// The `units` map of a component's answer: the unit of every top-level numeric field it
+/// converted and of its `balance` object's fields ("balance.mass_in"), by name (as
+/// `water.state` names its fields); the `fields` named (also when absent from this answer);
+/// and the group keys `flows`, `power`, `heat` and `balance.energy`, the unit of the mass
+/// flows, powers and heat flows of nested objects and lists ("stages.power"). State objects
+/// carry their own maps.
+///
+/// A nested field other than the balance's is not listed from the conversions: some are
+/// converted under a name that is no field path (a zone's four temperatures as "zones.T", so
+/// that a `units` key "T" reaches them), so only the top level and the balance, whose
+/// conversion names are their field paths, are listed.
 fn units_map(ctx: &Ctx, fields: &[(&str, Dim)]) -> BTreeMap<String, String> {
     let mut m: BTreeMap<String, String> = fields
         .iter()
         .map(|(n, d)| (n.to_string(), ctx.unit(n, *d).to_string()))
         .collect();
+    for (n, u) in ctx.output_units() {
+        if !n.contains('.') || n.starts_with("balance.") {
+            m.entry(n).or_insert_with(|| u.to_string());
+        }
+    }
     for (n, d) in [
         ("flows", Dim::MassFlow),
         ("power", Dim::Power),

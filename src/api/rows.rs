@@ -299,11 +299,12 @@ pub fn legend(name: &str) -> Option<Vec<&'static str>> {
     (name == "phase").then(|| PHASES.iter().map(|p| p.name()).collect())
 }
 
-/// The unit of one input column: its own unit text if it has one (checked against the
+/// The unit of one input column: its own unit text if it has one (`own`: the key the caller
+/// wrote it under, e.g. "given_units.p", for messages, and the text; checked against the
 /// column's dimension), else the request's unit for `name`.
-pub fn input_unit(ctx: &Ctx, name: &str, dim: Dim, own: Option<&str>) -> Result<Unit> {
+pub fn input_unit(ctx: &Ctx, name: &str, dim: Dim, own: Option<(&str, &str)>) -> Result<Unit> {
     let unit = match own {
-        Some(text) => crate::units::parse_unit(&format!("given.{name}.unit"), dim, text)?,
+        Some((key, text)) => crate::units::parse_unit(key, dim, text)?,
         None => ctx.in_unit(name, dim),
     };
     ctx.note_input(name, dim, unit);

@@ -783,11 +783,36 @@ fn standard_uncertainty(
         // A dimensionless input's uncertainty is absolute: 0.005 is half a point.
         v / unit.scale()
     } else {
-        let udim = if dim == Dim::Temperature {
-            Dim::TemperatureDifference
-        } else {
-            dim
+        // An uncertainty is a difference: of a temperature in K (or degC, degF as a
+        // difference), of a pressure in a plain unit (no gauge, no absolute qualifier).
+        let udim = match dim {
+            Dim::Temperature => Dim::TemperatureDifference,
+            Dim::Pressure => Dim::PressureDifference,
+            d => d,
         };
+        if udim == Dim::PressureDifference {
+            let found = units::dims_of(u_text.trim());
+            let as_difference = found.iter().any(|f| f.dim == Dim::PressureDifference);
+            if let Some(p) = found.iter().find(|f| f.dim == Dim::Pressure) {
+                if !as_difference {
+                    let kind = if p.gauge { "gauge" } else { "absolute" };
+                    // the example in the difference unit of the same size (barg: bar, psia: psi)
+                    let same_size = units::accepted(Dim::PressureDifference)
+                        .into_iter()
+                        .filter_map(|a| units::parse_unit(&quantity, udim, &a).ok())
+                        .find(|d| d.scale() == p.scale())
+                        .map_or("bar", |d| d.symbol);
+                    return Err(invalid(format!(
+                        "{quantity} = {given}: '{}' is a{} {kind} pressure unit, but the uncertainty of a pressure is a pressure difference, which has no gauge or absolute qualifier; write it in a unit of pressure difference ({}), e.g. \"{} {}\"",
+                        u_text.trim(),
+                        if p.gauge { "" } else { "n" },
+                        units::accepted(Dim::PressureDifference).join(", "),
+                        v,
+                        same_size
+                    )));
+                }
+            }
+        }
         let uu = units::parse_unit(&quantity, udim, u_text)?;
         v * uu.scale() / unit.scale()
     };
@@ -1157,9 +1182,16 @@ fn propagate(m: &Method, params: Value, req: Value) -> Result<Value, ApiError> {
         ));
     }
     let samples = req.samples.unwrap_or(DEFAULT_SAMPLES);
-    if monte_carlo && !(MIN_SAMPLES..=MAX_SAMPLES).contains(&samples) {
+    if monte_carlo && samples < MIN_SAMPLES {
+        // too few to estimate a standard deviation and a coverage interval: a bad value, not
+        // a limit of the server
+        return Err(invalid(format!(
+            "uncertainty.samples = {samples} is below the least {MIN_SAMPLES} Monte Carlo samples; give {MIN_SAMPLES} to {MAX_SAMPLES}"
+        )));
+    }
+    if monte_carlo && samples > MAX_SAMPLES {
         return Err(Error::LimitExceeded {
-            what: format!("Monte Carlo samples (at least {MIN_SAMPLES})"),
+            what: "Monte Carlo samples (uncertainty.samples)".to_string(),
             limit: MAX_SAMPLES as f64,
             value: samples as f64,
         }

@@ -319,10 +319,16 @@ fn dims_text(dims: &[Dim]) -> String {
 /// The unit `text` for the `units` key `key`, whose quantities are of dimensions `dims`: one
 /// unit per dimension it fits (at least one), or the error naming what is accepted.
 fn key_units(key: &str, dims: &[Dim], text: &str) -> Result<Vec<Unit>> {
-    let quantity = format!("units.{key}");
+    key_units_as(&format!("units.{key}"), key, dims, text)
+}
+
+/// As [`key_units`], with the messages naming `label`, the name the caller wrote the unit
+/// under ("units.h", or "unit" for the unit of an answered quantity `key`).
+fn key_units_as(label: &str, key: &str, dims: &[Dim], text: &str) -> Result<Vec<Unit>> {
+    let quantity = label;
     let fits: Vec<Unit> = dims
         .iter()
-        .filter_map(|d| units::parse_unit(&quantity, *d, text).ok())
+        .filter_map(|d| units::parse_unit(quantity, *d, text).ok())
         .collect();
     let leaf = key.rsplit('.').next().unwrap_or(key);
     let gauge_pressure = units::dims_of(text.trim()).iter().any(|u| u.gauge);
@@ -336,19 +342,19 @@ fn key_units(key: &str, dims: &[Dim], text: &str) -> Result<Vec<Unit>> {
     if gauge_pressure {
         if leaf == "ambient" {
             return Err(Error::invalid(format!(
-                "units.{key}: '{}' is a gauge unit, but the ambient pressure is absolute; write its absolute unit (e.g. kPa, bar, psia)",
+                "{label}: '{}' is a gauge unit, but the ambient pressure is absolute; write its absolute unit (e.g. kPa, bar, psia)",
                 text.trim()
             )));
         }
         if dims.contains(&Dim::PressureDifference) {
             return Err(Error::invalid(format!(
-                "units.{key}: '{}' is a gauge unit, but {key} is a pressure difference, which has no gauge; write its plain unit (e.g. bar, kPa, psi)",
+                "{label}: '{}' is a gauge unit, but {key} is a pressure difference, which has no gauge; write its plain unit (e.g. bar, kPa, psi)",
                 text.trim()
             )));
         }
         if !dims.contains(&Dim::Pressure) {
             return Err(Error::invalid(format!(
-                "units.{key}: '{}' is a gauge pressure unit; gauge units are for pressures only, and {key} is a {}",
+                "{label}: '{}' is a gauge pressure unit; gauge units are for pressures only, and {key} is a {}",
                 text.trim(),
                 dims_text(dims)
             )));
@@ -356,7 +362,7 @@ fn key_units(key: &str, dims: &[Dim], text: &str) -> Result<Vec<Unit>> {
     }
     // The first dimension's error names the problem (an unknown unit lists that dimension's
     // spellings, a unit of another dimension says which).
-    let mut err = units::parse_unit(&quantity, dims[0], text).unwrap_err();
+    let mut err = units::parse_unit(quantity, dims[0], text).unwrap_err();
     if let Error::UnknownUnit { accepted, .. } = &mut err {
         for d in &dims[1..] {
             for a in units::accepted(*d) {
@@ -366,8 +372,16 @@ fn key_units(key: &str, dims: &[Dim], text: &str) -> Result<Vec<Unit>> {
             }
         }
     }
-    if let Error::WrongDimension { expected, .. } = &mut err {
+    if let Error::WrongDimension {
+        expected, quantity, ..
+    } = &mut err
+    {
         *expected = dims_text(dims);
+        // "unit 'bar (pressure)' is not a unit of specific energy, which h needs": the unit
+        // the caller wrote is named first, so the quantity is named by its key
+        if label != format!("units.{key}") {
+            *quantity = key.to_string();
+        }
     }
     Err(err)
 }
@@ -475,6 +489,19 @@ pub fn units_with(units: Option<Units>, key: &str, unit: &str) -> Result<Units> 
     Ok(units)
 }
 
+/// Checks `text` as the unit of the answered field `quantity` (the `unit` of `/cell` and
+/// `steamcell get`), with the messages naming `unit` and the quantity ("unit: 'barg' is a gauge
+/// pressure unit; gauge units are for pressures only, and h is a specific energy").
+pub fn answer_unit(quantity: &str, text: &str) -> Result<()> {
+    let dims = field_dims(quantity);
+    if dims.is_empty() {
+        return Err(Error::invalid(format!(
+            "unit = '{text}': {quantity} is not a quantity with a unit"
+        )));
+    }
+    key_units_as("unit", quantity, &dims, text).map(|_| ())
+}
+
 /// What a request's conversions recorded: the units its inputs came in (for messages in the
 /// caller's units), the fields whose unit a name or path key chose, and whether an answer holds
 /// a gauge pressure.
@@ -486,6 +513,9 @@ struct Log {
     /// The first gauge unit of the request (in or out): the ambient is echoed in its absolute
     /// unit unless the request names a unit for `ambient`.
     gauge: Option<Unit>,
+    /// Every output field converted through [`Ctx::out_unit`], by its name, with its unit
+    /// (for the component methods' `units` maps, [`Ctx::output_units`]).
+    outputs: BTreeMap<String, &'static str>,
 }
 
 /// Context shared by every conversion of one request: its units and ambient pressure, and a log
@@ -541,9 +571,23 @@ impl Ctx {
             log: Arc::new(Mutex::new(Log::default())),
         };
         if let Some(a) = ambient {
-            let amb = ctx.value("ambient", Dim::Pressure, a)?;
+            // The ambient is absolute: a gauge unit would be relative to itself (it is read
+            // against the standard ambient, which is no ambient the caller meant).
+            let parsed = ctx.parse("ambient", Dim::Pressure, a)?;
+            let unit = parsed.unit;
+            if unit.gauge {
+                let text = match a {
+                    Input::Text(t) => t.trim().to_string(),
+                    Input::Number(x) => format!("{x} {}", unit.symbol),
+                };
+                return Err(Error::invalid(format!(
+                    "ambient = '{text}' is a gauge pressure, but the ambient pressure is absolute; write it in an absolute unit (e.g. {}, kPa, psia)",
+                    unit.absolute().symbol
+                )));
+            }
+            let amb = parsed.internal;
             if !(amb > 0.0 && amb <= 0.2) {
-                let unit = ctx.in_unit("ambient", Dim::Pressure);
+                // in the unit the caller wrote (a bare number: the request's unit for it)
                 let (v, _) = crate::error::fmt_value_and_limit(
                     unit.from_internal(amb, AMBIENT_DEFAULT_MPA),
                     0.0,
@@ -556,6 +600,7 @@ impl Ctx {
                     unit.symbol
                 )));
             }
+            ctx.note_input("ambient", Dim::Pressure, unit);
             ctx.ambient = amb;
         }
         SCOPE.with(|s| {
@@ -632,8 +677,11 @@ impl Ctx {
         if is_ambient(name) {
             return u.absolute();
         }
+        let mut log = self.log();
+        if !log.outputs.contains_key(name) {
+            log.outputs.insert(name.to_string(), u.symbol);
+        }
         if u.gauge || self.system.has_names() {
-            let mut log = self.log();
             log.gauge_out |= u.gauge;
             if u.gauge && log.gauge.is_none() {
                 log.gauge = Some(u);
@@ -676,6 +724,13 @@ impl Ctx {
     /// The unit symbol of the output field `name` (of dimension `dim`), for the `units` maps.
     pub fn unit(&self, name: &str, dim: Dim) -> &'static str {
         self.out_unit(name, dim).symbol
+    }
+
+    /// Every output field converted so far ([`Ctx::out`], [`Ctx::unit`], ...), by the name
+    /// it was converted under (a field name, or a dotted path such as "balance.mass_in" or
+    /// "stages.power" for the fields of nested objects and lists), with its unit symbol.
+    pub fn output_units(&self) -> BTreeMap<String, &'static str> {
+        self.log().outputs.clone()
     }
 
     /// The unit the ambient pressure is echoed in: the one the request names for `ambient`,

@@ -375,7 +375,8 @@ fn water_batch(server: &super::ServerCtx, p: BatchParams) -> Result<BatchResult>
             Column::Tagged(t) => Some(t.unit.as_str()),
             Column::Packed(pc) => pc.unit.as_deref(),
         };
-        let unit = input_unit(&ctx, name, dim, own)?;
+        let key = format!("given.{name}.unit");
+        let unit = input_unit(&ctx, name, dim, own.map(|t| (key.as_str(), t)))?;
         gauge_in |= unit.gauge;
         let numbers = |values: &[Input]| -> Option<Vec<f64>> {
             values

@@ -1201,3 +1201,270 @@ fn every_numeric_field_is_in_the_units_vocabulary() {
     );
     assert!(names.len() > 100, "{}", names.len());
 }
+
+// ------------------------------------------------ issue 22, a new user's trial of the units
+
+/// Reproduction: `steamcell get p p=42barg T=410degC ambient=0.98barg --unit bar` answered
+/// 43.99325, the ambient read as 0.98 bar over the standard ambient (1.99 bar absolute). The
+/// ambient pressure is absolute: a gauge unit for it is refused on every path (params, /cell
+/// and `steamcell get`, a component, the bulk paths), saying so.
+#[test]
+fn ambient_in_a_gauge_unit_is_refused_on_every_path() {
+    use steamcell::api::cell;
+    let pairs =
+        cell::pairs_from_args(&["p=42barg", "T=410degC", "ambient=0.98barg", "unit=bar"]).unwrap();
+    let e = cell::cell("p", &pairs).unwrap_err();
+    assert_eq!(e.status, 400, "{e:?}");
+    assert!(
+        e.reason.contains("'0.98barg' is a gauge pressure")
+            && e.reason.contains("ambient pressure is absolute"),
+        "{e:?}"
+    );
+    let e = cell::cell(
+        "p",
+        &cell::pairs_from_query("p=42barg&T=410degC&ambient=2%20psig"),
+    )
+    .unwrap_err();
+    assert!(e.reason.contains("ambient pressure is absolute"), "{e:?}");
+    // written absolute, the same ambient is used: 42 barg over 0.98 bar is 42.98 bar
+    // (definition of a gauge pressure; common practice, no source)
+    let pairs =
+        cell::pairs_from_args(&["p=42barg", "T=410degC", "ambient=0.98bar", "unit=bar"]).unwrap();
+    let p: f64 = cell::cell("p", &pairs).unwrap().parse().unwrap();
+    assert!((p - 42.98).abs() < 1e-12, "{p}");
+
+    let absolute = |e: &api::ApiError| {
+        assert_eq!(e.code, 1006, "{e}");
+        assert!(e.message.contains("ambient pressure is absolute"), "{e}");
+    };
+    absolute(&fails(
+        "water.state",
+        json!({"given": {"p": "42 barg", "T": "410 degC"}, "ambient": "0.98 barg"}),
+    ));
+    absolute(&fails(
+        "turbine.expand",
+        json!({"inlet": {"p": "42 barg", "T": "410 degC"}, "outlet_p": "4 barg",
+               "efficiency": 0.8, "ambient": "14 psig"}),
+    ));
+    absolute(&fails(
+        "water.batch",
+        json!({"given": {"p": ["42 barg"], "T": [410]}, "want": ["h"], "ambient": "1 kPag"}),
+    ));
+    let header = json!({"given": ["p", "T"], "rows": 1, "want": ["h"],
+                        "given_units": {"p": "barg"}, "ambient": "0.98 barg"});
+    let body = api::columns::frame(&header, &[vec![42.0], vec![410.0]]);
+    absolute(&api::columns::columns(&api::server_ctx::ServerCtx::default(), &body).unwrap_err());
+    // units.ambient was refused already
+    let e = fails(
+        "water.state",
+        json!({"given": {"p": 1, "T": 300}, "units": {"ambient": "barg"}}),
+    );
+    assert!(e.message.contains("ambient pressure is absolute"), "{e}");
+}
+
+/// Reproduction: `ambient = 2 barg` was refused as "0.301325 MPa is not a plausible ambient
+/// pressure (0 to 0.2 MPa absolute)", in a unit the caller never wrote. An implausible ambient
+/// is refused in the unit it was given in (a bare number: the request's unit for it).
+#[test]
+fn an_implausible_ambient_is_refused_in_the_callers_unit() {
+    let msg = |ambient: Value, units: Value| {
+        let mut p = json!({"given": {"p": 1, "T": 300}, "ambient": ambient});
+        if !units.is_null() {
+            p["units"] = units;
+        }
+        fails("water.state", p).message
+    };
+    // 0.2 MPa is 2 bar and 29.0075 psi (6 significant digits; exact definitions of the bar and
+    // the psi, common practice, no source)
+    let m = msg(json!("3 bar"), Value::Null);
+    assert!(
+        m.contains("ambient = 3 bar") && m.contains("0 to 2 bar"),
+        "{m}"
+    );
+    let m = msg(json!("30 psia"), Value::Null);
+    assert!(m.contains("30 psia") && m.contains("29.0075 psia"), "{m}");
+    let m = msg(json!(3), json!("bar"));
+    assert!(
+        m.contains("ambient = 3 bar") && m.contains("0 to 2 bar"),
+        "{m}"
+    );
+    let m = msg(json!("-5 kPa"), Value::Null);
+    assert!(m.contains("-5 kPa") && m.contains("0 to 200 kPa"), "{m}");
+}
+
+/// Reproduction: `/cell/h?p=42&T=410&unit=barg` and `steamcell get h p=42 T=410 --unit barg`
+/// answered "units.h: 'barg' …", a key the caller never wrote. The refusal names `unit` and the
+/// quantity.
+#[test]
+fn a_cell_unit_refusal_names_unit_and_the_quantity() {
+    use steamcell::api::cell;
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&unit=barg")).unwrap_err();
+    assert_eq!(e.status, 400, "{e:?}");
+    assert!(
+        e.reason.starts_with("unit: 'barg'")
+            && e.reason.contains("h is a specific energy")
+            && !e.reason.contains("units."),
+        "{e:?}"
+    );
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&unit=bar")).unwrap_err();
+    assert!(
+        e.reason.starts_with("unit 'bar (pressure)'")
+            && e.reason.contains("which h needs")
+            && !e.reason.contains("units."),
+        "{e:?}"
+    );
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&unit=furlong")).unwrap_err();
+    assert!(
+        e.reason.starts_with("unit for h: unknown unit 'furlong'") && e.reason.contains("kJ/kg"),
+        "{e:?}"
+    );
+    let e = cell::cell(
+        "h",
+        &cell::pairs_from_query("p=42&T=410&unit=kJ/kg&units.h=Btu/lb"),
+    )
+    .unwrap_err();
+    assert!(
+        e.reason
+            .contains("unit = 'kJ/kg' and units.h = 'Btu/lb' both give the unit of h"),
+        "{e:?}"
+    );
+    // a key the caller did write is still named as written
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&units.h=barg")).unwrap_err();
+    assert!(e.reason.starts_with("units.h: 'barg'"), "{e:?}");
+}
+
+/// Reproduction: `/cell/h?p=42&T=410&foo=1` answered "expected one of p, T, …" without the
+/// options a cell accepts. The refusal lists the given quantities and every option.
+#[test]
+fn an_unknown_cell_name_lists_the_quantities_and_the_options() {
+    use steamcell::api::cell;
+    let e = cell::cell("h", &cell::pairs_from_query("p=42&T=410&foo=1")).unwrap_err();
+    assert_eq!(e.status, 400, "{e:?}");
+    for name in ["'foo'", "p, T, h, s, u, v, rho, x", "units.KEY"]
+        .into_iter()
+        .chain(cell::RESERVED.iter().copied())
+    {
+        assert!(e.reason.contains(name), "{name}: {e:?}");
+    }
+    // each listed option is accepted
+    let pairs = cell::pairs_from_query(
+        "p=42&T=410&units=bar&unit=kJ/kg&ambient=1%20bar&formulation=if97&prefer=liquid&backward_only=false&metastable=false",
+    );
+    cell::cell("h", &pairs).unwrap();
+}
+
+/// Reproduction: `POST /columns` with `"given_units": {"p": "degC"}` said "which given.p.unit
+/// needs", a key of `water.batch`; the bulk route names `given_units.p`, as written.
+#[test]
+fn a_columns_unit_refusal_names_given_units() {
+    let header =
+        json!({"given": ["p", "T"], "rows": 1, "want": ["h"], "given_units": {"p": "degC"}});
+    let body = api::columns::frame(&header, &[vec![1.0], vec![300.0]]);
+    let e = api::columns::columns(&api::server_ctx::ServerCtx::default(), &body).unwrap_err();
+    assert_eq!(e.code, 1005, "{e}");
+    assert!(
+        e.message.contains("which given_units.p needs") && !e.message.contains("given.p.unit"),
+        "{e}"
+    );
+    // water.batch names its own key
+    let e = fails(
+        "water.batch",
+        json!({"given": {"p": {"values": [1], "unit": "degC"}, "T": [300]}, "want": ["h"]}),
+    );
+    assert!(e.message.contains("which given.p.unit needs"), "{e}");
+}
+
+/// Reproduction: the component answers' `units` maps named their mass flows, heat flows and
+/// powers by group (`flows`, `heat`, `power`) only, so `steam_flow` of `boiler.fire` had no
+/// key of its own (and the uncertainty of `balance.energy_in` no unit). Every numeric field at
+/// the top of a component's answer and in its `balance` is now named in its map, as
+/// `water.state` names its fields; the group keys stay (nested objects and lists, such as
+/// `stages`, go by them). Pure ratios with no unit conversion (the balance residuals) and the
+/// heat rates whose unit is in their name are the exceptions.
+#[test]
+fn component_units_maps_name_every_numeric_field() {
+    const COMPONENTS: &[&str] = &[
+        "turbine.expand",
+        "turbine.train",
+        "pump.raise",
+        "valve.throttle",
+        "desuperheater.spray",
+        "flash.separate",
+        "header.mix",
+        "exchanger.balance",
+        "boiler.fire",
+        "deaerator.balance",
+        "cycle.rankine",
+    ];
+    const UNCONVERTED: &[&str] = &[
+        "mass_residual",
+        "energy_residual",
+        "heat_rate_btu_per_kwh",
+        "heat_rate_kj_per_kwh",
+    ];
+    // group keys ("zones.T": the four temperatures of each exchanger zone)
+    const GROUPS: &[&str] = &[
+        "preset",
+        "ambient",
+        "flows",
+        "heat",
+        "power",
+        "balance.energy",
+        "zones.T",
+    ];
+    let mut seen = Vec::new();
+    for (m, p) in samples() {
+        if !COMPONENTS.contains(&m) {
+            continue;
+        }
+        seen.push(m);
+        let r = call(m, p);
+        let units = r["units"].as_object().unwrap();
+        let mut fields: Vec<String> = Vec::new();
+        for (k, v) in r.as_object().unwrap() {
+            if v.is_number() {
+                fields.push(k.clone());
+            }
+        }
+        for (k, v) in r["balance"].as_object().into_iter().flatten() {
+            if v.is_number() {
+                fields.push(format!("balance.{k}"));
+            }
+        }
+        for n in &fields {
+            let leaf = n.rsplit('.').next().unwrap();
+            assert!(
+                units.contains_key(n) || UNCONVERTED.contains(&leaf),
+                "{m}: {n} is not in its units map {:?}",
+                units.keys().collect::<Vec<_>>()
+            );
+        }
+        // and the map names no field the answer lacks (a field may be null: no value here; a
+        // dotted path through a list names the field of its elements)
+        fn found(v: &Value, path: &[&str]) -> bool {
+            match (v, path.split_first()) {
+                (Value::Array(a), _) => a.iter().any(|x| found(x, path)),
+                (Value::Object(o), Some((k, rest))) => o.get(*k).is_some_and(|x| found(x, rest)),
+                (x, None) => x.is_number() || x.is_null(),
+                _ => false,
+            }
+        }
+        for k in units.keys() {
+            let path: Vec<&str> = k.split('.').collect();
+            assert!(
+                GROUPS.contains(&k.as_str()) || found(&r, &path),
+                "{m}: the map names {k}, which is no numeric field of the answer"
+            );
+        }
+    }
+    assert_eq!(seen.len(), COMPONENTS.len(), "{seen:?}");
+    // boiler.fire: its steam flow in t/h by the flow unit, named; its heat flows in kW
+    let r = call(
+        "boiler.fire",
+        json!({"feedwater": {"p": "45 bar", "T": "105 degC"}, "steam": {"p": "42 bar", "T": "400 degC"},
+               "steam_flow": "20 t/h", "efficiency": 0.88, "units": {"flow": "t/h"}}),
+    );
+    assert_eq!(r["units"]["steam_flow"], "t/h", "{}", r["units"]);
+    assert_eq!(r["units"]["fuel_heat_input"], "kW", "{}", r["units"]);
+    assert!((r["steam_flow"].as_f64().unwrap() - 20.0).abs() < 1e-12);
+}

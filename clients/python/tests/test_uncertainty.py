@@ -28,8 +28,8 @@ def measured(client, **extra):
 def test_table_is_a_sensitivity_table(client):
     r = measured(client)
     t = unc.table(r, "efficiency")
-    assert list(t.columns) == ["value", "unit", "u", "sensitivity", "contribution", "share",
-                               "one_sided"]
+    assert list(t.columns) == ["value", "unit", "u", "u_unit", "sensitivity", "contribution",
+                               "share", "one_sided"]
     assert list(t.index) == ["outlet.T", "inlet.T"]  # largest share first
     assert t.loc["inlet.T", "value"] == 400 and t.loc["inlet.T", "unit"] == "degC"
     assert t.loc["inlet.T", "u"] == 1.0
@@ -85,6 +85,24 @@ def test_contributions_chart(client, tmp_path):
     assert plt.get_fignums() == []  # made outside pyplot: Jupyter shows it once, no window
     chart.savefig(tmp_path / "c.svg")
     assert (tmp_path / "c.svg").read_text().lstrip().startswith("<?xml")
+
+
+def test_chart_labels_u_as_a_difference(client):
+    # Reproduction: the chart labelled the uncertainty of a temperature given in degC
+    # "u = 1 degC"; an uncertainty is a difference: 1 K. Likewise 0.05 bar for a pressure given
+    # in barg.
+    r = client.turbine_expand(inlet={"p": "41 barg", "T": "400 degC", "flow": "20 t/h"},
+                              outlet_p="4.5 bar", outlet={"T": "190 degC"},
+                              uncertainty={"inlet.T": "1 K", "inlet.p": "0.05 bar"})
+    rows = {x["input"]: x for x in unc.rows(r, "efficiency")}
+    assert rows["inlet.T"]["unit"] == "degC" and rows["inlet.T"]["u_unit"] == "K"
+    assert rows["inlet.p"]["unit"] == "barg" and rows["inlet.p"]["u_unit"] == "bar"
+    labels = [t.get_text() for t in sp.contributions(r, "efficiency").axes[0].get_yticklabels()]
+    assert "inlet.T\n(u = 1 K)" in labels, labels
+    assert "inlet.p\n(u = 0.05 bar)" in labels, labels
+    assert not any("degC" in x or "barg" in x for x in labels), labels
+    assert unc.u_unit("degF", "temperature") == "degF difference"
+    assert unc.u_unit("psia", "pressure") == "psi" and unc.u_unit("kJ/kg", "specific energy") == "kJ/kg"
 
 
 def test_chart_with_monte_carlo_and_a_correlation(client):

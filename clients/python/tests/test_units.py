@@ -121,3 +121,20 @@ def test_pint_without_the_extra_is_named(client, monkeypatch):
     with pytest.raises(steamcell.InvalidInput, match=r"steamcell\[pint\]"):
         client.batch(pd.DataFrame({"p": [1.0], "T": [300.0]}), want=["h"], pint=True,
                      progress=False)
+
+
+def test_progress_is_labelled_by_the_route_taken(client, monkeypatch, capsys):
+    # Reproduction: the progress of a batch said "water.batch" even on the /columns route.
+    import sys
+    monkeypatch.setitem(sys.modules, "tqdm.auto", None)  # the stderr line, not a tqdm bar
+    client.batch(frame(), given=GIVEN, want=["h"], progress=True)
+    assert client.last_packed_route == "/columns"
+    err = capsys.readouterr().err
+    assert "/columns: 5/5 rows" in err and "water.batch" not in err, err
+    client.batch(frame(), given=GIVEN, want=["h"], progress=True, packed=False)
+    err = capsys.readouterr().err
+    assert "water.batch: 5/5 rows" in err, err
+    client.batch(frame(), given=GIVEN, want=["h"], progress=True, formulation="iapws95")
+    assert client.last_packed_route == "water.batch f64le"
+    err = capsys.readouterr().err
+    assert "water.batch f64le: 5/5 rows" in err, err

@@ -353,7 +353,6 @@ class Client:
         errs: List[Optional[str]] = [None] * n
         flags: List[Optional[str]] = [None] * n
         step = max(1, int(chunk or self.PACKED_CHUNK))
-        bar = _Progress(n, enabled=progress and n > 0)
         header_base: Dict[str, Any] = dict(opts)
         if units is not None:
             header_base["units"] = units
@@ -363,6 +362,7 @@ class Client:
         if str(opts.get("formulation", "if97")).lower() not in ("if97", "iapws-if97"):
             post = None
         self.last_packed_route = "/columns" if post is not None else "water.batch f64le"
+        bar = _Progress(n, enabled=progress and n > 0, label=self.last_packed_route)
         col_units: Dict[str, str] = {}
         try:
             for start in range(0, max(n, 1), step):
@@ -679,14 +679,16 @@ def _cell(v: Any) -> Tuple[Any, Optional[str]]:
 
 
 class _Progress:
-    """tqdm when installed, else a line on stderr per chunk."""
+    """tqdm when installed, else a line on stderr per chunk; labelled by the route the rows
+    take (``label``: "water.batch", "/columns", "water.batch f64le")."""
 
-    def __init__(self, total: int, enabled: bool):
+    def __init__(self, total: int, enabled: bool, label: str = "water.batch"):
         self.total, self.done, self.bar, self.enabled = total, 0, None, enabled
+        self.label = label
         if enabled:
             try:
                 from tqdm.auto import tqdm  # type: ignore
-                self.bar = tqdm(total=total, unit="row", desc="water.batch")
+                self.bar = tqdm(total=total, unit="row", desc=label)
             except ImportError:
                 self.bar = None
 
@@ -697,7 +699,7 @@ class _Progress:
         if self.bar is not None:
             self.bar.update(k)
         else:
-            print(f"water.batch: {self.done}/{self.total} rows", file=sys.stderr, flush=True)
+            print(f"{self.label}: {self.done}/{self.total} rows", file=sys.stderr, flush=True)
 
     def close(self) -> None:
         if self.bar is not None:

@@ -584,7 +584,8 @@ def contributions(result: Dict[str, Any], field: str, ax=None, figsize=(8, 4.5),
     ax.barh(ys, shares, color=colours, height=0.6)
     labels = []
     for r in data:
-        u_unit = "" if r.get("unit") in (None, "1") else f" {r['unit']}"
+        # the unit of u, a difference ("K" for an input in degC)
+        u_unit = "" if r.get("u_unit") in (None, "1") else f" {r['u_unit']}"
         labels.append(f"{r['input']}\n(u = {r['u']:.3g}{u_unit})")
     ax.set_yticks(ys)
     ax.set_yticklabels(labels)

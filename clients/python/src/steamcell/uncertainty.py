@@ -23,7 +23,24 @@ from __future__ import annotations
 
 from typing import Any, Dict, List
 
-COLUMNS = ["input", "value", "unit", "u", "sensitivity", "contribution", "share", "one_sided"]
+COLUMNS = ["input", "value", "unit", "u", "u_unit", "sensitivity", "contribution", "share",
+           "one_sided"]
+
+# An uncertainty is a difference: of a temperature in K (a degC difference is a kelvin), of a
+# gauge or absolute pressure in the plain unit of the same size.
+_DIFFERENCE_UNITS = {"degC": "K", "degF": "degF difference", "degR": "degR",
+                     "barg": "bar", "psig": "psi", "psia": "psi", "kPag": "kPa", "MPag": "MPa",
+                     "kgf/cm2g": "kgf/cm2"}
+
+
+def u_unit(unit: Any, dimension: Any = None) -> Any:
+    """The unit of a standard uncertainty of an input given in ``unit`` (the input's own unit,
+    as ``uncertainty_basis`` names it): a difference, so "K" for "degC", "bar" for "barg",
+    "psi" for "psia" or "psig"; any other unit is its own. ``dimension`` (the basis's
+    "temperature", "pressure", ...) limits the change to temperatures and pressures."""
+    if dimension not in (None, "temperature", "pressure"):
+        return unit
+    return _DIFFERENCE_UNITS.get(unit, unit)
 
 
 def field(result: Dict[str, Any], path: str) -> Dict[str, Any]:
@@ -51,7 +68,9 @@ def field(result: Dict[str, Any], path: str) -> Dict[str, Any]:
 
 def rows(result: Dict[str, Any], path: str) -> List[Dict[str, Any]]:
     """The sensitivity table of one field as a list of dicts, one per input: input, value and
-    unit (the input as given), u (its standard uncertainty in that unit), sensitivity (the
+    unit (the input as given), u (its standard uncertainty, of the size of that unit) and
+    u_unit (the unit of u, a difference: "K" for an input in degC, "bar" for one in barg, see
+    :func:`u_unit`), sensitivity (the
     field's change per unit of the input), contribution (sensitivity times u, in the field's
     unit), share (of the field's variance) and one_sided."""
     f = field(result, path)
@@ -60,7 +79,8 @@ def rows(result: Dict[str, Any], path: str) -> List[Dict[str, Any]]:
     for c in f["contributions"]:
         given = inputs.get(c["input"], {})
         out.append({"input": c["input"], "value": given.get("value"), "unit": given.get("unit"),
-                    "u": c["u"], "sensitivity": c["sensitivity"],
+                    "u": c["u"], "u_unit": u_unit(given.get("unit"), given.get("dimension")),
+                    "sensitivity": c["sensitivity"],
                     "contribution": c["contribution"], "share": c["share"],
                     "one_sided": c.get("one_sided", False)})
     return out
