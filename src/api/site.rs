@@ -222,6 +222,8 @@ fn solve(network: &Value, pairs: &[(String, String)], quantity: &str) -> Result<
                 format!("unit = '{u}': '{quantity}' is not a quantity with a unit"),
             ));
         }
+        // Messages name `unit` and the quantity, as the caller wrote them.
+        vocab::answer_unit(leaf, u)?;
         let units = top
             .remove("units")
             .map(|x| serde_json::from_value(x).unwrap_or(vocab::Units::Preset(String::new())));

@@ -105,6 +105,17 @@ fn site_failures_are_specific_and_the_server_keeps_running() {
         ),
         // a second fixed turbine power over-specifies the balance: named, not "singular"
         ("/site/mill/net_power?units.BPT.power=5000", 400, "BPT"),
+        // unit= is named as the caller wrote it, with the quantity (not as units.net_power)
+        (
+            "/site/mill/net_power?unit=barg",
+            400,
+            "unit: 'barg' is a gauge pressure unit; gauge units are for pressures only, and net_power is a power",
+        ),
+        (
+            "/site/mill/net_power?unit=t/h",
+            400,
+            "which net_power needs",
+        ),
     ];
     for (target, status, needle) in cases {
         let (st, body) = get(&s.addr, target);
