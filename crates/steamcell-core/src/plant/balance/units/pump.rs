@@ -6,7 +6,7 @@
 //! Invariant: the validated pump holds its efficiency and its discharge pressure exceeds its
 //! suction pressure.
 
-use super::{check_efficiency, count, At, Boundary, Draft, Report, UnitKind};
+use super::{count, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
 use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
@@ -58,7 +58,6 @@ impl Draft for Wired {
         None
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
-        check_efficiency(w, self.u, self.efficiency, f);
         let (discharge, suction) = (w.p[self.out], w.p[self.inlet]);
         if discharge <= suction {
             f.note(Finding::PumpDoesNotRaise {

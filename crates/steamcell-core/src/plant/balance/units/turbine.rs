@@ -7,7 +7,7 @@
 //! Invariant: the validated turbine lists its outlets in order of falling pressure, each with
 //! its efficiency or its measured state.
 
-use super::{check_efficiency, count, fixed_state, h, At, Boundary, Draft, Report, UnitKind};
+use super::{count, fixed_state, h, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
 use crate::plant::balance::diagnosis::Amount;
 use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
@@ -62,7 +62,6 @@ impl Draft for Wired {
         None
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
-        check_efficiency(w, self.u, self.efficiency, f);
         // every outlet below the inlet pressure: steam expands through a turbine
         let p_in = w.p[self.inlet];
         let top = self
