@@ -1107,12 +1107,11 @@ pub fn stating<T>(f: impl FnOnce() -> Result<T>) -> Result<T> {
 }
 
 impl Ctx {
-    /// A value named in an error's message in the caller's units: the unit the caller gave
-    /// that input in (by its name), else the request's unit for its name and dimension.
+    /// A value named in an error's message in the request's units: the unit its `units` give
+    /// the quantity's field name, else its dimension's (as for a warning, [`WarningOut::new`],
+    /// so that temperatures and temperature differences of one message agree).
     pub fn state_quantity(&self, q: &crate::error::Quantity) -> (f64, &'static str) {
-        let u = self
-            .input_unit(q.name, q.dim)
-            .unwrap_or_else(|| self.system.unit(q.name, q.dim));
+        let u = self.system.unit(q.name, q.dim);
         (u.from_internal(q.value, self.ambient), u.symbol)
     }
 

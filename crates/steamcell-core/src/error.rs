@@ -193,6 +193,23 @@ impl Message {
         out
     }
 
+    /// This message followed by `other` (e.g. a prefix with values, then an error's message).
+    pub fn joined(&self, other: &Message) -> Message {
+        let text = |m: &Message| {
+            if m.parts.is_empty() {
+                vec![Part::Text(m.text.clone())]
+            } else {
+                m.parts.clone()
+            }
+        };
+        let mut parts = text(self);
+        parts.extend(text(other));
+        Message {
+            text: format!("{}{}", self.text, other.text),
+            parts,
+        }
+    }
+
     /// The same message with `prefix` before it (e.g. "exchanger X: ").
     pub fn prefixed(&self, prefix: &str) -> Message {
         let mut parts = self.parts.clone();
