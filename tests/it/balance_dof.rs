@@ -718,3 +718,23 @@ fn a_negative_target_superheat_is_out_of_range() {
         e.message
     );
 }
+
+/// Issue 23, reproduction 3: a range error met inside a unit while the site is solved (a state
+/// outside the formulation) did not say which unit it came from; it is prefixed with the unit
+/// like the balance's other errors, and still stated in the caller's unit. Make-up water at
+/// 14 degF (-10 degC) is ice at atmospheric pressure (IAPWS R14-08, the melting curve).
+#[test]
+fn a_range_error_inside_a_unit_names_the_unit() {
+    let mut n = base();
+    set(&mut n, "units.MK.T", json!(14));
+    let e = api::call("balance.solve", json!({"network": n, "units": "us"})).expect_err("ice");
+    assert_eq!(e.code, 1001, "{e}");
+    assert_eq!(e.data["quantity"], "makeup MK: T", "{e}");
+    assert_eq!(e.data["unit"], "degF", "{e}");
+    assert!(
+        e.message
+            .starts_with("makeup MK: T = 14 degF is below the lowest value 32.002"),
+        "{}",
+        e.message
+    );
+}

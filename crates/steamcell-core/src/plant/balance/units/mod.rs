@@ -227,16 +227,34 @@ impl<'a> At<'a> {
     pub fn boundary_of(self, v: usize) -> Option<Boundary> {
         self.model.units[v].unit.boundary()
     }
-    /// Prefixes an input or feasibility error with "kind name: ".
+    /// Prefixes an input or feasibility error with "kind name: ", and the quantity of a range
+    /// error met inside the unit (a state out of the formulation's range) likewise (the API
+    /// re-states the quantity after the prefix in the caller's units).
     pub fn tag(self) -> impl Fn(Error) -> Error + 'a {
-        move |e| match e {
-            Error::InvalidInput { message } => {
-                Error::invalid(format!("{}: {message}", self.label()))
+        self.tag_as(String::new())
+    }
+    /// As [`At::tag`], with `more` after "kind name: " (e.g. "outlet stream S: ").
+    pub fn tag_as(self, more: String) -> impl Fn(Error) -> Error + 'a {
+        move |e| {
+            let prefix = format!("{}: {more}", self.label());
+            match e {
+                Error::OutOfRange {
+                    quantity,
+                    value,
+                    limit,
+                    unit,
+                    bound,
+                    formulation,
+                } if !quantity.contains(": ") => Error::OutOfRange {
+                    quantity: format!("{prefix}{quantity}"),
+                    value,
+                    limit,
+                    unit,
+                    bound,
+                    formulation,
+                },
+                other => other.prefixed(&prefix),
             }
-            Error::Infeasible { message } => {
-                Error::infeasible(format!("{}: {message}", self.label()))
-            }
-            other => other,
         }
     }
     /// A balance equation of this unit.

@@ -7,7 +7,7 @@
 //! suction pressure.
 
 use super::{count, At, Boundary, Draft, Report, UnitKind};
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
@@ -92,15 +92,9 @@ impl UnitKind for Pump {
         let Some(si) = st[self.inlet] else {
             return Ok(false);
         };
+        // the discharge is above the suction: a pump that does not raise the pressure is
+        // refused when the network is built (PumpDoesNotRaise)
         let po = at.p(self.out);
-        if po <= si.props.p {
-            return Err(Error::invalid(format!(
-                "pump {}: the discharge pressure {} MPa is not above the suction pressure {} MPa",
-                at.name(),
-                po,
-                si.props.p
-            )));
-        }
         let iso = ps(po, si.props.s).map_err(at.tag())?;
         let w = (iso.props.h - si.props.h) / self.efficiency;
         st[self.out] = Some(ph(po, si.props.h + w).map_err(at.tag())?);
