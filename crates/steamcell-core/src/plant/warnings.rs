@@ -16,7 +16,9 @@
 //! Invariant: [`CATALOGUE`] lists every [`Code`] exactly once, in the order of [`Code::ALL`]
 //! (a test checks it), and codes are stable wire names: rename none; a code is removed only
 //! when nothing can make it fire any more (issue 21: the negative-flow warnings of the site
-//! balance, once it refused negative flows).
+//! balance, once it refused negative flows; issue 23: heat_flows_backwards and
+//! temperature_cross_at_end, once the site balance refused an exchanger passing heat from cold
+//! to hot).
 
 pub use crate::error::{Arg, Quantity};
 use crate::error::{Digits, Message};
@@ -166,8 +168,6 @@ codes! {
     DesuperheaterTargetSaturated => "desuperheater_target_saturated",
     CondensateNotLiquid => "condensate_not_liquid",
     UserReceivesLiquid => "user_receives_liquid",
-    HeatFlowsBackwards => "heat_flows_backwards",
-    TemperatureCrossAtEnd => "temperature_cross_at_end",
     PumpInletNotLiquid => "pump_inlet_not_liquid",
     ExhaustVelocityHigh => "exhaust_velocity_high",
     MeasuredOutletNearSaturation => "measured_outlet_near_saturation",
@@ -353,18 +353,6 @@ pub const CATALOGUE: &[Entry] = &[
         meaning: "a process steam user receives liquid, not steam",
         check: "check the state of the stream that feeds it",
         source: "physical fact",
-    },
-    Entry {
-        code: Code::HeatFlowsBackwards,
-        meaning: "heat flows from the cold side to the hot side of a site-balance exchanger",
-        check: "swap the sides",
-        source: "second law",
-    },
-    Entry {
-        code: Code::TemperatureCrossAtEnd,
-        meaning: "a site-balance exchanger has a temperature cross at one of its ends",
-        check: "check the outlet temperatures (second law)",
-        source: "second law",
     },
     Entry {
         code: Code::PumpInletNotLiquid,
