@@ -1218,14 +1218,50 @@ pub fn solution_out(ctx: &Ctx, s: &b::Solution) -> SolveResult {
 }
 
 /// Re-states a balance error in the caller's units: the amounts of a refused network's
-/// findings, and a quantity out of range.
+/// findings, a quantity out of range and the values of an input or feasibility message.
 pub fn restate(ctx: &Ctx, e: Error) -> Error {
     match e {
         Error::Specification { mut diagnosis } => {
             diagnosis.restate(|dim, v| (ctx.out("diagnosis", dim, v), ctx.unit("diagnosis", dim)));
             Error::Specification { diagnosis }
         }
-        other => ctx.restate(other),
+        Error::OutOfRange {
+            quantity,
+            value,
+            limit,
+            unit,
+            bound,
+            formulation,
+        } if quantity.contains(": ") => {
+            // a range error met inside a unit: "kind name: h"; the quantity after the prefix
+            let (prefix, q) = quantity.rsplit_once(": ").unwrap_or(("", &quantity));
+            match ctx.restate(Error::OutOfRange {
+                quantity: q.to_string(),
+                value,
+                limit,
+                unit,
+                bound,
+                formulation,
+            }) {
+                Error::OutOfRange {
+                    quantity: q,
+                    value,
+                    limit,
+                    unit,
+                    bound,
+                    formulation,
+                } => Error::OutOfRange {
+                    quantity: format!("{prefix}: {q}"),
+                    value,
+                    limit,
+                    unit,
+                    bound,
+                    formulation,
+                },
+                other => other,
+            }
+        }
+        other => ctx.restate_message(ctx.restate(other)),
     }
 }
 

@@ -325,7 +325,7 @@ impl From<Error> for ApiError {
             ),
             Error::InvalidInput { message } => (
                 codes::INVALID_INPUT,
-                json!({ "kind": "invalid_input", "message": message }),
+                json!({ "kind": "invalid_input", "message": message.to_string() }),
             ),
             Error::NotConverged { what, iterations } => (
                 codes::NOT_CONVERGED,
@@ -337,7 +337,7 @@ impl From<Error> for ApiError {
             ),
             Error::Infeasible { message } => (
                 codes::INFEASIBLE,
-                json!({ "kind": "infeasible", "message": message }),
+                json!({ "kind": "infeasible", "message": message.to_string() }),
             ),
             Error::Specification { diagnosis } => (
                 codes::INVALID_INPUT,
@@ -421,7 +421,7 @@ impl MethodSpec {
             quick: false,
             call: Box::new(move |_, params| {
                 let p = decode_params(params)?;
-                to_result(vocab::restating(|| f(p)))
+                to_result(vocab::restating(|| vocab::stating(|| f(p))))
             }),
         }
     }
@@ -446,7 +446,7 @@ impl MethodSpec {
             quick: false,
             call: Box::new(move |ctx, params| {
                 let p = decode_params(params)?;
-                to_result(vocab::restating(|| f(ctx, p)))
+                to_result(vocab::restating(|| vocab::stating(|| f(ctx, p))))
             }),
         }
     }

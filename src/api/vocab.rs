@@ -1148,6 +1148,36 @@ pub fn warnings_out(ctx: &Ctx, ws: &[Warning]) -> Vec<WarningOut> {
     ws.iter().map(|w| WarningOut::new(ctx, w)).collect()
 }
 
+/// Runs a method body (inside [`restating`]) and states the values of its input or
+/// feasibility error's message in the caller's units ([`Ctx::restate_message`]), with the first
+/// [`Ctx`] the body built.
+pub fn stating<T>(f: impl FnOnce() -> Result<T>) -> Result<T> {
+    f().map_err(|e| {
+        let ctx = SCOPE.with(|s| s.borrow().last().cloned().flatten());
+        match ctx {
+            Some(c) => c.restate_message(e),
+            None => e,
+        }
+    })
+}
+
+impl Ctx {
+    /// A value named in an error's message in the request's units: the unit its `units` give
+    /// the quantity's field name, else its dimension's (as for a warning, [`WarningOut::new`],
+    /// so that temperatures and temperature differences of one message agree).
+    pub fn state_quantity(&self, q: &crate::error::Quantity) -> (f64, &'static str) {
+        let u = self.system.unit(q.name, q.dim);
+        (u.from_internal(q.value, self.ambient), u.symbol)
+    }
+
+    /// States the values of an input or feasibility error's message (built from quantities,
+    /// `Error::invalid_with`, `Error::infeasible_with`) in the caller's units
+    /// ([`Ctx::state_quantity`]); other errors pass unchanged.
+    pub fn restate_message(&self, e: Error) -> Error {
+        e.stated(|q| self.state_quantity(q))
+    }
+}
+
 #[cfg(test)]
 mod tests {
     /// Every physics decision is the core's: no API file calls a formulation's solver, its

@@ -776,3 +776,103 @@ fn the_example_site_does_not_vent_steam() {
         sol.warnings
     );
 }
+
+/// Issue 23, reproduction 4: a site exchanger whose hot side leaves hotter than it came (heat
+/// from the cold side to the hot side) or colder than the cold side enters (a temperature
+/// cross) was answered with a plain balance and a warning (heat_flows_backwards,
+/// temperature_cross_at_end), while exchanger.balance refuses the same exchanger (1009). Both
+/// are refused now, as exchanger.balance refuses them (second law), in the request's units, and
+/// a sweep marks such points not ok with the reason. Hot 170 degC water (5 kg/s) heats 8 kg/s of
+/// 20 degC water: leaving at 95 degC it gives 5/8 of its drop to the cold side (about 67 degC),
+/// no cross.
+#[test]
+fn a_site_exchanger_passing_heat_from_cold_to_hot_is_refused() {
+    let solve = |hot_out_t: &str, units: Value| {
+        api::call(
+            "balance.solve",
+            json!({"network": exchanger_net(json!({ "from": "X", "to": "V1", "T": hot_out_t })), "units": units}),
+        )
+    };
+    let e = solve("171 degC", json!("us")).expect_err("backwards");
+    assert_eq!(e.code, 1009, "{e}");
+    assert!(
+        e.message.starts_with(
+            "exchanger X: heat would flow from the cold side to the hot side (second law"
+        ) && e
+            .message
+            .contains("the hot stream ho leaves at 339.8 degF, hotter than it enters at 338 degF"),
+        "{}",
+        e.message
+    );
+    let e = solve("15 degC", json!({"preset": "bar", "flow": "t/h"})).expect_err("cross");
+    assert_eq!(e.code, 1009, "{e}");
+    assert!(
+        e.message.starts_with("exchanger X: temperature cross: at the cold end (hot outlet, cold inlet) the hot stream is at 15 degC and the cold stream at 20 degC, 5 K hotter"),
+        "{}",
+        e.message
+    );
+    let r = solve("95 degC", json!(null)).expect("feasible");
+    assert!(r["warnings"].as_array().unwrap().is_empty(), "{r}");
+    let r = api::call(
+        "balance.sweep",
+        json!({
+            "network": exchanger_net(json!({ "from": "X", "to": "V1", "T": "95 degC" })),
+            "path": "streams.ho.T",
+            "from": "15 degC", "to": "175 degC", "points": 3,
+            "streams": ["co"]
+        }),
+    )
+    .unwrap();
+    let pts = r["points"].as_array().unwrap();
+    assert_eq!(r["failed"], 2, "{r}");
+    let reason = |i: usize| pts[i]["error"].as_str().unwrap_or("").to_string();
+    assert_eq!(pts[0]["ok"], false);
+    assert!(
+        reason(0).contains("exchanger X: temperature cross"),
+        "{}",
+        reason(0)
+    );
+    assert_eq!(pts[1]["ok"], true);
+    assert!(pts[1]["warnings"].as_array().unwrap().is_empty());
+    assert_eq!(pts[2]["ok"], false);
+    assert!(
+        reason(2).contains("exchanger X: heat would flow from the cold side to the hot side"),
+        "{}",
+        reason(2)
+    );
+}
+
+/// Issue 23, reproduction 3: a site exchanger asked for more heat than its hot side holds (1
+/// kg/s of 170 degC water to heat 8 kg/s from 20 to 120 degC) failed with "h = -2637.92 kJ/kg is
+/// below the lowest value ... of IAPWS-IF97", naming neither the exchanger nor the request's
+/// units. It is refused as infeasible, naming the exchanger, its stream and the duty, in the
+/// request's units.
+#[test]
+fn a_site_exchanger_driven_too_far_names_itself_in_the_callers_units() {
+    let mut net = exchanger_net(json!({ "from": "X", "to": "V1" }));
+    net["streams"]["hi"]["flow"] = json!("1 kg/s");
+    net["streams"]["ci"]["flow"] = json!("8 kg/s");
+    net["streams"]["co"]["T"] = json!("120 degC");
+    for (units, h_unit, flow) in [
+        (json!(null), "kJ/kg", "a hot flow of 1 kg/s"),
+        (json!("us"), "Btu/lb", "a hot flow of 7936.64 lb/h"),
+        (
+            json!({"preset": "bar", "flow": "t/h"}),
+            "kJ/kg",
+            "a hot flow of 3.6 t/h",
+        ),
+    ] {
+        let e = api::call("balance.solve", json!({"network": net, "units": units}))
+            .expect_err("refused");
+        assert_eq!(e.code, 1009, "{units}: {e}");
+        assert!(
+            e.message.starts_with(
+                "exchanger X: the energy balance puts the hot outlet stream ho at h = -"
+            ) && e.message.contains(&format!(" {h_unit} (a duty of "))
+                && e.message.contains(flow)
+                && e.message.contains("temperature cross"),
+            "{units}: {}",
+            e.message
+        );
+    }
+}

@@ -71,11 +71,15 @@ fn repro_1_cross_at_the_dew_point_is_refused() {
     assert_eq!(e.code, 1009, "{}", e.message);
     assert!(e.message.contains("temperature cross"), "{}", e.message);
     assert!(e.message.contains("dew point"), "{}", e.message);
-    assert!(
-        e.message.contains(&format!("{cross:.2} K hotter")),
-        "{}",
-        e.message
-    );
+    // the difference stated with 6 significant digits, in the request's unit (K)
+    let stated: f64 = e
+        .message
+        .split(" K hotter")
+        .next()
+        .and_then(|m| m.rsplit(' ').next())
+        .and_then(|v| v.parse().ok())
+        .unwrap_or_else(|| panic!("no difference in K: {}", e.message));
+    assert!((stated - cross).abs() < 1e-5, "{stated} {cross}");
 }
 
 /// The same heater with the feedwater leaving at 118 degC is feasible. Zone by zone
@@ -646,6 +650,84 @@ fn component_warnings_speak_the_callers_units() {
     let m = message("exchanger.balance", pinch, "small_pinch");
     assert!(
         m.contains("the pinch is only 2 K") && m.contains("below 3 K"),
+        "{m}"
+    );
+}
+
+/// Issue 23, reproduction 3: errors, like warnings, state their values in the request's units.
+/// The deaerator's "already hotter than saturation at {p} MPa", turbine.expand's measured-outlet
+/// checks, the throttle drop, exchanger.balance's temperature cross and the cycle's heater
+/// checks printed MPa, K, kJ/kg and kg/s whatever the request asked. The numbers: 115 degC =
+/// 239 degF; saturation at 2 bar 120.212 degC = 248.381 degF (IAPWS-IF97); 1.3 bar = 18.8549
+/// psia; 10 bar = 145.038 psia; 120 bar = 1740.45 psia (unit definitions).
+#[test]
+fn component_errors_speak_the_callers_units() {
+    let bar_th = json!({"preset": "bar", "flow": "t/h"});
+    let refused = |method: &str, mut params: Value, units: &Value| -> String {
+        params["units"] = units.clone();
+        let e = err(method, params);
+        e.message
+    };
+    let deaerator = json!({"p": "1.3 bar", "steam": {"p": "2 bar", "T": "150 degC"}, "waters": [{"p": "3 bar", "T": "130 degC", "flow": "5 t/h"}]});
+    let m = refused("deaerator.balance", deaerator.clone(), &json!("us"));
+    assert!(
+        m.starts_with("the water entering is already hotter than saturation at 18.8549 psia: the deaerator would need ")
+            && m.contains(" lb/h of steam removed"),
+        "{m}"
+    );
+    let m = refused("deaerator.balance", deaerator, &bar_th);
+    assert!(
+        m.starts_with("the water entering is already hotter than saturation at 1.3 bar")
+            && m.contains(" t/h of steam removed"),
+        "{m}"
+    );
+    let measured = |t: &str| json!({"inlet": {"p": "10 bar", "T": "300 degC"}, "outlet_p": "2 bar", "outlet": {"p": "2 bar", "T": t}});
+    let m = refused("turbine.expand", measured("115 degC"), &json!("us"));
+    assert!(
+        m.starts_with("the measured outlet temperature 239 degF is at or below the saturation temperature 248.381 degF at outlet_p = 29.0075 psia"),
+        "{m}"
+    );
+    let m = refused("turbine.expand", measured("115 degC"), &bar_th);
+    assert!(
+        m.starts_with("the measured outlet temperature 115 degC is at or below the saturation temperature 120.212 degC at outlet_p = 2 bar"),
+        "{m}"
+    );
+    let m = refused("turbine.expand", measured("320 degC"), &json!("us"));
+    assert!(
+        m.starts_with("the measured outlet enthalpy ")
+            && m.contains(" Btu/lb is not below the inlet enthalpy ")
+            && !m.contains("kJ/kg"),
+        "{m}"
+    );
+    let throttled = json!({"inlet": {"p": "10 bar", "T": "300 degC"}, "outlet_p": "2 bar", "throttle_dp": "12 bar", "efficiency": 0.8});
+    let m = refused("turbine.expand", throttled.clone(), &json!("us"));
+    assert!(
+        m.starts_with("throttle_dp = 174.045 psi is not below the inlet pressure 145.038 psia"),
+        "{m}"
+    );
+    let m = refused("turbine.expand", throttled, &bar_th);
+    assert!(
+        m.starts_with("throttle_dp = 12 bar is not below the inlet pressure 10 bar"),
+        "{m}"
+    );
+    let cross = json!({"hot": {"inlet": {"p": "2 bar", "T": "140 degC", "flow": 10}, "outlet": {"T": "60 degC"}},
+                       "cold": {"inlet": {"p": "20 bar", "T": "50 degC"}, "outlet": {"T": "122 degC"}}});
+    let m = refused("exchanger.balance", cross, &json!("us"));
+    assert!(
+        m.contains("the hot stream is at 248.381 degF and the cold stream at ")
+            && m.contains(" degF hotter"),
+        "{m}"
+    );
+    let heater = json!({"boiler_p": "100 bar", "boiler_T": "500 degC", "condenser_p": "0.1 bar",
+                        "turbine_efficiency": 0.85, "heaters": [{"p": "120 bar", "kind": "open"}]});
+    let m = refused("cycle.rankine", heater.clone(), &json!("us"));
+    assert!(
+        m.starts_with("heater at 1740.45 psia: its pressure must lie between the condenser (1.45038 psia) and the boiler (1450.38 psia)"),
+        "{m}"
+    );
+    let m = refused("cycle.rankine", heater, &bar_th);
+    assert!(
+        m.starts_with("heater at 120 bar: its pressure must lie between the condenser (0.1 bar) and the boiler (100 bar)"),
         "{m}"
     );
 }

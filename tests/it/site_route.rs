@@ -234,3 +234,37 @@ fn a_reversed_flow_gives_no_number() {
     let err = String::from_utf8_lossy(&out.stderr);
     assert!(err.contains("llp_vent"), "{err}");
 }
+
+/// Issue 23, reproduction 1: `steamcell site examples/site/site.json net_power
+/// "units.MP_users.demand=-5 t/h"` answered "site balance: over-specified: user MP_users: demand
+/// = -1.3888888888888888 kg/s is negative": the wrong category, internal units and 17 digits.
+/// A negative demand is an input out of range, stated in the unit it was given in (else the
+/// request's unit for it).
+#[test]
+fn a_negative_demand_is_out_of_range_in_the_callers_unit() {
+    for (args, want) in [
+        (
+            vec!["units.MP_users.demand=-5 t/h"],
+            "units.MP_users.demand = -5 t/h is below the lowest value 0 t/h of a user's steam demand",
+        ),
+        (
+            vec!["units.MP_users.demand=-5", "units=bar_th"],
+            "units.MP_users.demand = -5 t/h is below the lowest value 0 t/h of a user's steam demand",
+        ),
+        (
+            vec!["units.MP_users.demand=-1.5 kg/s", "units=us"],
+            "units.MP_users.demand = -1.5 kg/s is below the lowest value 0 kg/s of a user's steam demand",
+        ),
+    ] {
+        let out = Command::new(BIN)
+            .args(["site", SITE_FILE, "net_power"])
+            .args(&args)
+            .output()
+            .unwrap();
+        assert!(!out.status.success(), "{args:?}");
+        assert!(out.stdout.is_empty(), "no number on stdout");
+        let err = String::from_utf8_lossy(&out.stderr);
+        assert!(err.contains(want), "{args:?}: {err}");
+        assert!(!err.contains("over-specified"), "{args:?}: {err}");
+    }
+}

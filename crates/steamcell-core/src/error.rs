@@ -7,11 +7,255 @@
 //! a period; numbers in messages have at most 6 significant digits unless more are needed to
 //! tell a value from its limit ([`fmt_value_and_limit`]), and a pure number carries no unit.
 //! Physical values inside errors are in internal units (p MPa, T K, h kJ/kg, ...);
-//! [`Error::OutOfRange`] names the unit of its value and limit, so that the API can re-state it
-//! in the caller's units.
+//! [`Error::OutOfRange`] names the unit of its value and limit, and the message of an
+//! [`Error::InvalidInput`] or [`Error::Infeasible`] built with [`Error::invalid_with`] or
+//! [`Error::infeasible_with`] keeps its values as [`Quantity`]s (a [`Message`]), so that the API
+//! can re-state either in the caller's units ([`Error::stated`]); the core stays free of the
+//! request's units.
 
 use crate::plant::balance::Diagnosis;
+use crate::units::Dim;
 use std::fmt;
+
+/// A value named in a message (an error's or a warning's): internal units, with its dimension
+/// and the name of the field it is (a request may choose a unit by field name, e.g. `flow` in
+/// t/h).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Quantity {
+    /// Field name whose unit it takes (`flow`, `pressure_drop`, `surface_T`, ...).
+    pub name: &'static str,
+    /// Its dimension.
+    pub dim: Dim,
+    /// Its value, internal units.
+    pub value: f64,
+}
+
+impl Quantity {
+    /// The quantity `name` of dimension `dim` with the internal value `value`.
+    pub fn new(name: &'static str, dim: Dim, value: f64) -> Quantity {
+        Quantity { name, dim, value }
+    }
+}
+
+/// What fills one `{}` of a message template ([`Message::with`]): a value, or text taken as it
+/// is (a stream or unit name, which may itself hold braces).
+#[derive(Debug, Clone, PartialEq)]
+pub enum Arg {
+    /// A value stated in some unit.
+    Value(Quantity),
+    /// Text.
+    Text(String),
+}
+
+impl From<Quantity> for Arg {
+    fn from(q: Quantity) -> Arg {
+        Arg::Value(q)
+    }
+}
+
+impl From<&str> for Arg {
+    fn from(t: &str) -> Arg {
+        Arg::Text(t.to_string())
+    }
+}
+
+impl From<String> for Arg {
+    fn from(t: String) -> Arg {
+        Arg::Text(t)
+    }
+}
+
+/// A piece of a message: text, or a value to be stated in some unit.
+#[derive(Debug, Clone, PartialEq)]
+enum Part {
+    Text(String),
+    Value(Quantity),
+}
+
+/// How many significant digits the values of a message get ([`Message::render`]).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Digits {
+    /// Fewest significant digits of a value.
+    pub least: usize,
+    /// A value written exactly with up to this many digits keeps them (a limit of 333.15 K).
+    pub exact: usize,
+    /// Most digits, used only where two different values of one dimension would print alike.
+    pub most: usize,
+}
+
+/// The digits of an error's values: 6 significant digits, more only where two values of one
+/// dimension would print alike (a value beside its limit).
+pub const ERROR_DIGITS: Digits = Digits {
+    least: 6,
+    exact: 6,
+    most: 12,
+};
+
+/// A one-line message: text, or text and values kept as [`Quantity`]s (internal units) that a
+/// caller may state in other units ([`Message::render`]). Its `Display` is the text with the
+/// values in internal units.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Message {
+    text: String,
+    parts: Vec<Part>,
+}
+
+impl Message {
+    /// A message whose `template` is filled with `args` in order, one per `{}`: a value is
+    /// stated as "value unit" (a pure number without unit), text as it is. Names given by the
+    /// caller go in as [`Arg::Text`], never into the template. The text states the values in
+    /// internal units with `digits`.
+    pub fn with(template: &str, args: &[Arg], digits: Digits) -> Message {
+        let mut parts = Vec::with_capacity(2 * args.len() + 1);
+        let mut rest = template;
+        let mut vals = args.iter();
+        while let Some(i) = rest.find("{}") {
+            if i > 0 {
+                parts.push(Part::Text(rest[..i].to_string()));
+            }
+            parts.push(match vals.next() {
+                Some(Arg::Value(q)) => Part::Value(*q),
+                Some(Arg::Text(t)) => Part::Text(t.clone()),
+                None => Part::Text("{}".into()),
+            });
+            rest = &rest[i + 2..];
+        }
+        if !rest.is_empty() {
+            parts.push(Part::Text(rest.to_string()));
+        }
+        debug_assert!(vals.next().is_none(), "more values than {{}} in {template}");
+        let mut m = Message {
+            text: String::new(),
+            parts,
+        };
+        m.text = m.render(|q| (q.value, q.dim.internal_symbol()), digits);
+        m
+    }
+
+    /// The message as text (values in internal units).
+    pub fn as_str(&self) -> &str {
+        &self.text
+    }
+
+    /// Whether the message keeps values to state.
+    pub fn has_values(&self) -> bool {
+        self.parts.iter().any(|p| matches!(p, Part::Value(_)))
+    }
+
+    /// The values the message names (internal units), in order.
+    pub fn quantities(&self) -> impl Iterator<Item = &Quantity> {
+        self.parts.iter().filter_map(|p| match p {
+            Part::Value(q) => Some(q),
+            Part::Text(_) => None,
+        })
+    }
+
+    /// The message with every value stated as `to` gives it (value, unit symbol), with
+    /// `digits`. A message without values gives its text.
+    pub fn render(&self, to: impl Fn(&Quantity) -> (f64, &'static str), digits: Digits) -> String {
+        if self.parts.is_empty() {
+            return self.text.clone();
+        }
+        let stated: Vec<(Quantity, f64, &str)> = self
+            .quantities()
+            .map(|q| {
+                let (v, u) = to(q);
+                (*q, v, u)
+            })
+            .collect();
+        let text = |v: f64, d: usize| short(v, d, digits.exact);
+        let clash = |d: usize| {
+            stated.iter().enumerate().any(|(i, a)| {
+                stated[..i]
+                    .iter()
+                    .any(|b| a.0.dim == b.0.dim && a.1 != b.1 && text(a.1, d) == text(b.1, d))
+            })
+        };
+        let d = (digits.least..digits.most)
+            .find(|&d| !clash(d))
+            .unwrap_or(digits.most);
+        let mut out = String::new();
+        let mut k = 0;
+        for p in &self.parts {
+            match p {
+                Part::Text(t) => out.push_str(t),
+                Part::Value(_) => {
+                    let (_, v, u) = stated[k];
+                    k += 1;
+                    out.push_str(&text(v, d));
+                    if !(u.is_empty() || u == "1") {
+                        out.push(' ');
+                        out.push_str(u);
+                    }
+                }
+            }
+        }
+        out
+    }
+
+    /// This message followed by `other` (e.g. a prefix with values, then an error's message).
+    pub fn joined(&self, other: &Message) -> Message {
+        let text = |m: &Message| {
+            if m.parts.is_empty() {
+                vec![Part::Text(m.text.clone())]
+            } else {
+                m.parts.clone()
+            }
+        };
+        let mut parts = text(self);
+        parts.extend(text(other));
+        Message {
+            text: format!("{}{}", self.text, other.text),
+            parts,
+        }
+    }
+
+    /// The same message with `prefix` before it (e.g. "exchanger X: ").
+    pub fn prefixed(&self, prefix: &str) -> Message {
+        let mut parts = self.parts.clone();
+        if !parts.is_empty() {
+            parts.insert(0, Part::Text(prefix.to_string()));
+        }
+        Message {
+            text: format!("{prefix}{}", self.text),
+            parts,
+        }
+    }
+}
+
+/// `v` with `digits` significant digits, or with the fewest more (up to `exact`) that write
+/// it exactly (to 1e-9): a limit such as 333.15 K stays as given, a computed value gets
+/// `digits`.
+fn short(v: f64, digits: usize, exact: usize) -> String {
+    (digits..=exact.max(digits))
+        .map(|d| fmt_sig(v, d))
+        .find(|t| {
+            t.parse::<f64>()
+                .is_ok_and(|x| (x - v).abs() <= 1e-9 * v.abs())
+        })
+        .unwrap_or_else(|| fmt_sig(v, digits))
+}
+
+impl From<String> for Message {
+    fn from(text: String) -> Message {
+        Message {
+            text,
+            parts: Vec::new(),
+        }
+    }
+}
+
+impl From<&str> for Message {
+    fn from(text: &str) -> Message {
+        Message::from(text.to_string())
+    }
+}
+
+impl fmt::Display for Message {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.text)
+    }
+}
 
 /// Which side of a limit a value fell on.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -68,8 +312,8 @@ pub enum Error {
     },
     /// A value or combination of inputs is not acceptable (missing, extra, ill-formed).
     InvalidInput {
-        /// One-line explanation.
-        message: String,
+        /// One-line explanation (its values, if kept, stated by [`Error::stated`]).
+        message: Message,
     },
     /// An iterative solution did not converge inside its limits.
     NotConverged {
@@ -90,8 +334,8 @@ pub enum Error {
     /// The inputs are valid but violate a physical law for the requested operation
     /// (e.g. a temperature cross in a heat exchanger).
     Infeasible {
-        /// One-line explanation.
-        message: String,
+        /// One-line explanation (its values, if kept, stated by [`Error::stated`]).
+        message: Message,
     },
     /// A site network is under- or over-specified (refused before solving): what is missing,
     /// given twice or contradictory, per unit and stream, as data.
@@ -125,9 +369,53 @@ impl Error {
     }
 
     /// Shorthand for an [`Error::InvalidInput`].
-    pub fn invalid(message: impl Into<String>) -> Error {
+    pub fn invalid(message: impl Into<Message>) -> Error {
         Error::InvalidInput {
             message: message.into(),
+        }
+    }
+
+    /// An [`Error::InvalidInput`] whose `template` is filled with `args`, one per `{}`
+    /// ([`Message::with`]): the API states its values in the caller's units.
+    pub fn invalid_with(template: &str, args: &[Arg]) -> Error {
+        Error::InvalidInput {
+            message: Message::with(template, args, ERROR_DIGITS),
+        }
+    }
+
+    /// An [`Error::Infeasible`] whose `template` is filled with `args`, one per `{}`
+    /// ([`Message::with`]): the API states its values in the caller's units.
+    pub fn infeasible_with(template: &str, args: &[Arg]) -> Error {
+        Error::Infeasible {
+            message: Message::with(template, args, ERROR_DIGITS),
+        }
+    }
+
+    /// The same error with the values of its message stated as `to` gives them (value, unit
+    /// symbol of a quantity); an error without such values is unchanged.
+    pub fn stated(self, to: impl Fn(&Quantity) -> (f64, &'static str)) -> Error {
+        match self {
+            Error::InvalidInput { message } if message.has_values() => Error::InvalidInput {
+                message: message.render(to, ERROR_DIGITS).into(),
+            },
+            Error::Infeasible { message } if message.has_values() => Error::Infeasible {
+                message: message.render(to, ERROR_DIGITS).into(),
+            },
+            other => other,
+        }
+    }
+
+    /// The same input or feasibility error with `prefix` before its message (e.g. "turbine
+    /// T1: "); other errors are unchanged.
+    pub fn prefixed(self, prefix: &str) -> Error {
+        match self {
+            Error::InvalidInput { message } => Error::InvalidInput {
+                message: message.prefixed(prefix),
+            },
+            Error::Infeasible { message } => Error::Infeasible {
+                message: message.prefixed(prefix),
+            },
+            other => other,
         }
     }
 
@@ -147,7 +435,7 @@ impl Error {
     }
 
     /// Shorthand for an [`Error::Infeasible`].
-    pub fn infeasible(message: impl Into<String>) -> Error {
+    pub fn infeasible(message: impl Into<Message>) -> Error {
         Error::Infeasible {
             message: message.into(),
         }

@@ -17,6 +17,64 @@ use crate::water::state::{self, Phase, State, P_C, T_C};
 /// Standard acceleration of gravity for heads, m/s2 (CGPM 1901; common practice, no source).
 pub const G0: f64 = 9.80665;
 
+// Values named in messages, stated by the API in the caller's units (by field name, else by
+// dimension).
+pub(crate) fn pressure(name: &'static str, v: f64) -> Arg {
+    Quantity::new(name, Dim::Pressure, v).into()
+}
+pub(crate) fn temperature(name: &'static str, v: f64) -> Arg {
+    Quantity::new(name, Dim::Temperature, v).into()
+}
+pub(crate) fn superheat(v: f64) -> Arg {
+    Quantity::new("superheat", Dim::TemperatureDifference, v).into()
+}
+pub(crate) fn enthalpy(name: &'static str, v: f64) -> Arg {
+    Quantity::new(name, Dim::SpecificEnergy, v).into()
+}
+pub(crate) fn entropy(v: f64) -> Arg {
+    Quantity::new("s", Dim::SpecificEntropy, v).into()
+}
+pub(crate) fn mass_flow(name: &'static str, v: f64) -> Arg {
+    Quantity::new(name, Dim::MassFlow, v).into()
+}
+pub(crate) fn power(v: f64) -> Arg {
+    Quantity::new("power", Dim::Power, v).into()
+}
+pub(crate) fn heat(name: &'static str, v: f64) -> Arg {
+    Quantity::new(name, Dim::HeatFlow, v).into()
+}
+
+/// An error of stage `i` (0-based) of a turbine train: an input or feasibility error prefixed
+/// "stage N: ", a range error with its quantity under `stages[i].` (unless it names its stage
+/// already), so that the API re-states either in the caller's units.
+fn stage_error(i: usize, e: Error) -> Error {
+    match e {
+        Error::OutOfRange {
+            quantity,
+            value,
+            limit,
+            unit,
+            bound,
+            formulation,
+        } => Error::OutOfRange {
+            quantity: if quantity.starts_with("stages[") {
+                quantity
+            } else {
+                format!("stages[{i}].{quantity}")
+            },
+            value,
+            limit,
+            unit,
+            bound,
+            formulation,
+        },
+        Error::NotFinite { quantity } if !quantity.starts_with("stages[") => Error::NotFinite {
+            quantity: format!("stages[{i}].{quantity}"),
+        },
+        other => other.prefixed(&format!("stage {}: ", i + 1)),
+    }
+}
+
 pub(crate) fn check_flow(name: &str, flow: f64) -> Result<f64> {
     Error::check_finite(name, flow)?;
     if flow < 0.0 {
@@ -169,16 +227,18 @@ pub fn drive(internal_power: f64, mechanical: DriveLoss, generator: DriveLoss) -
     let mechanical_loss = loss_of(mechanical, internal_power);
     let shaft_power = internal_power - mechanical_loss;
     if shaft_power <= 0.0 {
-        return Err(Error::infeasible(format!(
-            "the mechanical loss {mechanical_loss:.3} kW is not below the internal power {internal_power:.3} kW: the turbine would deliver no shaft power"
-        )));
+        return Err(Error::infeasible_with(
+            "the mechanical loss {} is not below the internal power {}: the turbine would deliver no shaft power",
+            &[power(mechanical_loss), power(internal_power)],
+        ));
     }
     let generator_loss = loss_of(generator, shaft_power);
     let gross_power = shaft_power - generator_loss;
     if gross_power <= 0.0 {
-        return Err(Error::infeasible(format!(
-            "the generator loss {generator_loss:.3} kW is not below the shaft power {shaft_power:.3} kW: the generator would deliver no electrical output"
-        )));
+        return Err(Error::infeasible_with(
+            "the generator loss {} is not below the shaft power {}: the generator would deliver no electrical output",
+            &[power(generator_loss), power(shaft_power)],
+        ));
     }
     Ok(Drive {
         internal_power,
@@ -194,18 +254,22 @@ pub fn drive(internal_power: f64, mechanical: DriveLoss, generator: DriveLoss) -
 pub fn throttle_valve(inlet: &State, dp: f64) -> Result<State> {
     Error::check_finite("throttle_dp", dp)?;
     if dp < 0.0 {
-        return Err(Error::invalid(format!(
-            "throttle_dp = {dp} MPa: a pressure drop cannot be negative"
-        )));
+        return Err(Error::invalid_with(
+            "throttle_dp = {}: a pressure drop cannot be negative",
+            &[Quantity::new("throttle_dp", Dim::PressureDifference, dp).into()],
+        ));
     }
     if dp == 0.0 {
         return Ok(*inlet);
     }
     if dp >= inlet.props.p {
-        return Err(Error::invalid(format!(
-            "throttle_dp = {dp} MPa is not below the inlet pressure {} MPa: nothing would be left to expand",
-            inlet.props.p
-        )));
+        return Err(Error::invalid_with(
+            "throttle_dp = {} is not below the inlet pressure {}: nothing would be left to expand",
+            &[
+                Quantity::new("throttle_dp", Dim::PressureDifference, dp).into(),
+                pressure("p", inlet.props.p),
+            ],
+        ));
     }
     ph(inlet.props.p - dp, inlet.props.h)
 }
@@ -250,9 +314,10 @@ pub fn check_baumann(factor: f64) -> Result<f64> {
 pub fn check_area(area: f64) -> Result<f64> {
     Error::check_finite("exhaust_area", area)?;
     if area <= 0.0 {
-        return Err(Error::invalid(format!(
-            "exhaust_area = {area} m2: an exhaust annulus area must be above 0"
-        )));
+        return Err(Error::invalid_with(
+            "exhaust_area = {}: an exhaust annulus area must be above 0",
+            &[Quantity::new("exhaust_area", Dim::Area, area).into()],
+        ));
     }
     Ok(area)
 }
@@ -315,10 +380,10 @@ fn wet_entry_pressure(inlet: &State, p2: f64, eta: f64) -> Result<f64> {
     };
     let mut hi = inlet.props.p.min(P_C * (1.0 - 1e-9));
     if f(hi)? <= 0.0 {
-        return Err(Error::infeasible(format!(
-            "the expansion line from {:.6} MPa, {:.3} K reaches the two-phase region from the liquid side near the critical point: the Baumann moisture rule is not defined there",
-            inlet.props.p, inlet.props.t
-        )));
+        return Err(Error::infeasible_with(
+            "the expansion line from {}, {} reaches the two-phase region from the liquid side near the critical point: the Baumann moisture rule is not defined there",
+            &[pressure("p", inlet.props.p), temperature("T", inlet.props.t)],
+        ));
     }
     let mut lo = p2;
     // Bisection in ln p: the dry line lies below the saturated-vapour line at lo, above it at hi.
@@ -559,19 +624,27 @@ fn check_measured_outlet(ti: &State, out: &State, iso: &State) -> Result<()> {
     if out.phase != Phase::Wet && p2 < P_C {
         let (ts, _, _) = state::saturation_p(p2)?;
         if out.props.t <= ts {
-            return Err(Error::infeasible(format!(
-                "the measured outlet temperature {:.3} K is at or below the saturation temperature {:.3} K at outlet_p = {p2} MPa: a temperature at or below saturation cannot fix a wet exhaust state (every wet state at that pressure has that temperature); give the exhaust quality x or enthalpy h instead (e.g. from a heat balance)",
-                out.props.t, ts
-            )));
+            return Err(Error::infeasible_with(
+                "the measured outlet temperature {} is at or below the saturation temperature {} at outlet_p = {}: a temperature at or below saturation cannot fix a wet exhaust state (every wet state at that pressure has that temperature); give the exhaust quality x or enthalpy h instead (e.g. from a heat balance)",
+                &[
+                    temperature("T", out.props.t),
+                    temperature("T", ts),
+                    pressure("outlet_p", p2),
+                ],
+            ));
         }
     }
     let w = ti.props.h - out.props.h;
     if w <= 0.0 {
         let eta = w / (ti.props.h - iso.props.h);
-        return Err(Error::infeasible(format!(
-            "the measured outlet enthalpy {:.3} kJ/kg is not below the inlet enthalpy {:.3} kJ/kg: the turbine would do negative work ({w:.3} kJ/kg) and its efficiency would be {eta:.4}, outside (0, 1]; check the measurements (an outlet temperature reading high, or inlet and outlet swapped)",
-            out.props.h, ti.props.h
-        )));
+        return Err(Error::infeasible_with(
+            &format!("the measured outlet enthalpy {{}} is not below the inlet enthalpy {{}}: the turbine would do negative work ({{}}) and its efficiency would be {eta:.4}, outside (0, 1]; check the measurements (an outlet temperature reading high, or inlet and outlet swapped)"),
+            &[
+                enthalpy("h", out.props.h),
+                enthalpy("h", ti.props.h),
+                enthalpy("work", w),
+            ],
+        ));
     }
     Ok(())
 }
@@ -640,10 +713,10 @@ pub fn turbine_expand_with(
                 ));
             }
             if (out.props.p - outlet_p).abs() > 1e-9 * outlet_p {
-                return Err(Error::invalid(format!(
-                    "the measured outlet is at p = {} MPa, not at outlet_p = {outlet_p} MPa",
-                    out.props.p
-                )));
+                return Err(Error::invalid_with(
+                    "the measured outlet is at p = {}, not at outlet_p = {}",
+                    &[pressure("p", out.props.p), pressure("outlet_p", outlet_p)],
+                ));
             }
             let iso = ps(outlet_p, ti.props.s)?;
             check_measured_outlet(&ti, &out, &iso)?;
@@ -693,10 +766,10 @@ fn finish_expansion(
     let dh_s = ti.props.h - iso.props.h;
     let mut warnings = Vec::new();
     if elep.props.s < ti.props.s - 1e-9 * ti.props.s.abs().max(1.0) {
-        return Err(Error::infeasible(format!(
-            "the outlet entropy {:.6} kJ/(kg K) is below the inlet entropy {:.6} kJ/(kg K): a measured efficiency of {:.4} above 1 is impossible; check the measurements",
-            elep.props.s, ti.props.s, eta
-        )));
+        return Err(Error::infeasible_with(
+            &format!("the outlet entropy {{}} is below the inlet entropy {{}}: a measured efficiency of {eta:.4} above 1 is impossible; check the measurements"),
+            &[entropy(elep.props.s), entropy(ti.props.s)],
+        ));
     }
     let leaving = match (opts.exhaust_area, flow) {
         (Some(a), Some(f)) => Some(leaving_loss(&elep, f, a)?),
@@ -940,7 +1013,7 @@ pub fn turbine_train_with(
             mechanical: DriveLoss::None,
             generator: DriveLoss::None,
         };
-        let stage_err = |e: Error| Error::invalid(format!("stage {}: {e}", i + 1));
+        let stage_err = |e: Error| stage_error(i, e);
         let ex = match opts.basis {
             EfficiencyBasis::Stage => turbine_expand_with(
                 &st,
@@ -956,12 +1029,16 @@ pub fn turbine_train_with(
         };
         power += ex.power.unwrap_or(0.0);
         if spec.extraction > m {
-            return Err(Error::infeasible(format!(
-                "stage {}: extraction {} kg/s exceeds the stage flow {} kg/s",
-                i + 1,
-                spec.extraction,
-                m
-            )));
+            return Err(Error::infeasible_with(
+                &format!(
+                    "stage {}: extraction {{}} exceeds the stage flow {{}}",
+                    i + 1
+                ),
+                &[
+                    mass_flow("extraction", spec.extraction),
+                    mass_flow("flow", m),
+                ],
+            ));
         }
         energy_out += spec.extraction * ex.outlet.props.h;
         for w in &ex.warnings {
@@ -1424,24 +1501,32 @@ pub fn desuperheater_spray(
     };
     Error::check_finite("target T", t_out)?;
     if t_out <= ts {
-        return Err(Error::infeasible(format!(
-            "the target outlet temperature {:.3} K is not above the saturation temperature {:.3} K at {} MPa: a desuperheater cannot produce wet steam; aim for some superheat (typically 5 to 10 K; common practice, no source)",
-            t_out, ts, p
-        )));
+        return Err(Error::infeasible_with(
+            "the target outlet temperature {} is not above the saturation temperature {} at {}: a desuperheater cannot produce wet steam; aim for some superheat (typically {} to {}; common practice, no source)",
+            &[
+                temperature("T", t_out),
+                temperature("T", ts),
+                pressure("p", p),
+                superheat(5.0),
+                superheat(10.0),
+            ],
+        ));
     }
     let outlet = pt(p, t_out)?;
     let h_in = steam.props.h;
     let h_out = outlet.props.h;
     let h_w = water.props.h;
     if h_out > h_in {
-        return Err(Error::infeasible(format!(
-            "the target outlet enthalpy {h_out:.3} kJ/kg is above the steam enthalpy {h_in:.3} kJ/kg: spray water cannot heat the steam"
-        )));
+        return Err(Error::infeasible_with(
+            "the target outlet enthalpy {} is above the steam enthalpy {}: spray water cannot heat the steam",
+            &[enthalpy("h", h_out), enthalpy("h", h_in)],
+        ));
     }
     if h_w >= h_out {
-        return Err(Error::infeasible(format!(
-            "the spray water enthalpy {h_w:.3} kJ/kg is not below the target {h_out:.3} kJ/kg"
-        )));
+        return Err(Error::infeasible_with(
+            "the spray water enthalpy {} is not below the target {}",
+            &[enthalpy("h", h_w), enthalpy("h", h_out)],
+        ));
     }
     let ratio = (h_in - h_out) / (h_out - h_w);
     let ms = steam_flow.unwrap_or(1.0);
@@ -1766,9 +1851,15 @@ fn check_outlet_reachable(
                 "raise the cold flow or lower the duty on the hot side",
             )
         };
-        return Err(Error::infeasible(format!(
-            "temperature cross: the duty {duty:.2} kW is more than the {side} stream can pass before it {goes} the {other} temperature {limit_t:.2} K (at most {max_duty:.2} kW with {flow} kg/s; second law: heat cannot flow from cold to hot); {fix}"
-        )));
+        return Err(Error::infeasible_with(
+            &format!("temperature cross: the duty {{}} is more than the {side} stream can pass before it {goes} the {other} temperature {{}} (at most {{}} with {{}}; second law: heat cannot flow from cold to hot); {fix}"),
+            &[
+                heat("duty", duty),
+                temperature("T", limit_t),
+                heat("duty", max_duty),
+                mass_flow("flow", flow),
+            ],
+        ));
     }
     Ok(())
 }
@@ -2055,9 +2146,18 @@ pub fn deaerator_balance(
     Error::check_finite("p", p)?;
     Error::check_finite("vent_fraction", vent_fraction)?;
     if !(0.0..0.5).contains(&vent_fraction) {
-        return Err(Error::invalid(format!(
-            "vent_fraction = {vent_fraction} is outside 0..0.5"
-        )));
+        return Err(Error::out_of_range(
+            "vent_fraction",
+            vent_fraction,
+            if vent_fraction < 0.0 { 0.0 } else { 0.5 },
+            "1",
+            if vent_fraction < 0.0 {
+                Bound::Below
+            } else {
+                Bound::Above
+            },
+            "a vent fraction of the heating steam (0 <= fraction < 0.5)",
+        ));
     }
     if waters.is_empty() {
         return Err(Error::invalid(
@@ -2083,10 +2183,10 @@ pub fn deaerator_balance(
     }
     let ms = (mw * out.props.h - ew) / denom;
     if ms < 0.0 {
-        return Err(Error::infeasible(format!(
-            "the water entering is already hotter than saturation at {p} MPa: the deaerator would need {:.4} kg/s of steam removed; lower the inflow temperatures or raise the pressure",
-            -ms
-        )));
+        return Err(Error::infeasible_with(
+            "the water entering is already hotter than saturation at {}: the deaerator would need {} of steam removed; lower the inflow temperatures or raise the pressure",
+            &[pressure("p", p), mass_flow("flow", -ms)],
+        ));
     }
     if steam.props.p < p {
         let pr = |x: f64| Arg::from(Quantity::new("p", Dim::Pressure, x));

@@ -35,9 +35,10 @@ use super::components::{
     pump_raise, throttle_valve, DriveLoss, EfficiencyBasis, LeavingLoss, LineEnd, MoistureLoss,
     PumpEfficiencyKind, EXHAUST_VELOCITY_WARNING,
 };
+use super::components::{enthalpy, heat, mass_flow, power, pressure, temperature};
 use super::warnings::{Arg, Code, Quantity, Warning};
 use super::{ph, ps as ps_state, pt, sat_liquid, sat_vapour};
-use crate::error::{Bound, Error, Result};
+use crate::error::{Bound, Error, Message, Result, ERROR_DIGITS};
 use crate::units::Dim;
 use crate::water::state::{self, Phase, State};
 
@@ -428,19 +429,66 @@ fn check_p(name: &str, p: f64) -> Result<f64> {
     Ok(p)
 }
 
-fn check_dp(name: &str, dp: f64, upstream: f64, what: &str) -> Result<f64> {
+fn check_dp(name: &'static str, dp: f64, upstream: f64, what: &str) -> Result<f64> {
     Error::check_finite(name, dp)?;
     if dp < 0.0 {
-        return Err(Error::invalid(format!(
-            "{name} = {dp} MPa: a pressure drop cannot be negative"
-        )));
+        return Err(Error::invalid_with(
+            &format!("{name} = {{}}: a pressure drop cannot be negative"),
+            &[difference(name, dp)],
+        ));
     }
     if dp >= upstream {
-        return Err(Error::invalid(format!(
-            "{name} = {dp} MPa is not below {what} {upstream} MPa"
-        )));
+        return Err(Error::invalid_with(
+            &format!("{name} = {{}} is not below {what} {{}}"),
+            &[difference(name, dp), pressure("p", upstream)],
+        ));
     }
     Ok(dp)
+}
+
+/// An error of the drain pump of the closed heater at `p`, as an input error whose message
+/// names the heater (its values stated in the caller's units).
+fn drain_pump_error(p: f64, e: Error) -> Error {
+    let at = Message::with(
+        "drain pump of the closed heater at {}: ",
+        &[pressure("p", p)],
+        ERROR_DIGITS,
+    );
+    let message = match e {
+        Error::InvalidInput { message } | Error::Infeasible { message } => message,
+        Error::OutOfRange {
+            quantity,
+            value,
+            limit,
+            unit,
+            bound,
+            formulation,
+        } if unit == "MPa" => {
+            let word = match bound {
+                Bound::Below => "below the lowest",
+                Bound::Above => "above the highest",
+            };
+            Message::with(
+                &format!("{quantity} = {{}} is {word} value {{}} of {formulation}"),
+                &[pressure("p", value), pressure("p", limit)],
+                ERROR_DIGITS,
+            )
+        }
+        other => Message::from(other.to_string()),
+    };
+    Error::InvalidInput {
+        message: at.joined(&message),
+    }
+}
+
+/// A pressure difference named in a message.
+fn difference(name: &'static str, dp: f64) -> Arg {
+    Quantity::new(name, Dim::PressureDifference, dp).into()
+}
+
+/// A temperature difference named in a message.
+fn t_difference(name: &'static str, dt: f64) -> Arg {
+    Quantity::new(name, Dim::TemperatureDifference, dt).into()
 }
 
 fn same_p(a: f64, b: f64) -> bool {
@@ -461,17 +509,20 @@ pub fn rankine_plant(spec: &RankineSpec, plant: &RankinePlant) -> Result<Rankine
     Error::check_finite("condenser.ttd", cw.ttd)?;
     check_p("condenser.cw_p", cw.p)?;
     if cw.ttd <= 0.0 {
-        return Err(Error::invalid(format!(
-            "condenser.ttd = {} K: the condensing steam must be hotter than the cooling water leaving, so the terminal temperature difference must be above 0 K",
-            cw.ttd
-        )));
+        return Err(Error::invalid_with(
+            "condenser.ttd = {}: the condensing steam must be hotter than the cooling water leaving, so the terminal temperature difference must be above {}",
+            &[t_difference("ttd", cw.ttd), t_difference("ttd", 0.0)],
+        ));
     }
     let cw_in = pt(cw.p, cw.inlet_t)?;
     if cw_in.phase != Phase::Liquid {
-        return Err(Error::invalid(format!(
-            "condenser.cw_inlet_T = {} K is not liquid water at the cooling-water pressure {} MPa",
-            cw.inlet_t, cw.p
-        )));
+        return Err(Error::invalid_with(
+            "condenser.cw_inlet_T = {} is not liquid water at the cooling-water pressure {}",
+            &[
+                temperature("cw_inlet_T", cw.inlet_t),
+                pressure("cw_p", cw.p),
+            ],
+        ));
     }
     let cw_boil = if cw.p < state::P_C {
         state::saturation_p(cw.p)?.0
@@ -480,19 +531,23 @@ pub fn rankine_plant(spec: &RankineSpec, plant: &RankinePlant) -> Result<Rankine
     };
     let outlet_of = |t_out: f64| -> Result<State> {
         if t_out >= cw_boil {
-            return Err(Error::infeasible(format!(
-                "the cooling water would leave at {t_out:.3} K, not below its boiling point {cw_boil:.3} K at {} MPa: give more cooling water or a smaller rise",
-                cw.p
-            )));
+            return Err(Error::infeasible_with(
+                "the cooling water would leave at {}, not below its boiling point {} at {}: give more cooling water or a smaller rise",
+                &[
+                    temperature("T", t_out),
+                    temperature("T", cw_boil),
+                    pressure("cw_p", cw.p),
+                ],
+            ));
         }
         pt(cw.p, t_out)
     };
     let pc_of = |t_sat: f64| -> Result<f64> {
         if t_sat >= state::T_C {
-            return Err(Error::infeasible(format!(
-                "the condensing temperature {t_sat:.3} K is not below the critical temperature {} K",
-                state::T_C
-            )));
+            return Err(Error::infeasible_with(
+                "the condensing temperature {} is not below the critical temperature {}",
+                &[temperature("T", t_sat), temperature("T", state::T_C)],
+            ));
         }
         Ok(state::saturation_t(t_sat)?.0)
     };
@@ -500,9 +555,10 @@ pub fn rankine_plant(spec: &RankineSpec, plant: &RankinePlant) -> Result<Rankine
         (None, Some(rise)) => {
             Error::check_finite("condenser.cw_rise", rise)?;
             if rise <= 0.0 {
-                return Err(Error::invalid(format!(
-                    "condenser.cw_rise = {rise} K: the cooling water must warm up (a rise above 0 K)"
-                )));
+                return Err(Error::invalid_with(
+                    "condenser.cw_rise = {}: the cooling water must warm up (a rise above {})",
+                    &[t_difference("cw_rise", rise), t_difference("cw_rise", 0.0)],
+                ));
             }
             let cw_out = outlet_of(cw.inlet_t + rise)?;
             let t_sat = cw_out.props.t + cw.ttd;
@@ -525,9 +581,10 @@ pub fn rankine_plant(spec: &RankineSpec, plant: &RankinePlant) -> Result<Rankine
         (Some(m_cw), None) => {
             Error::check_finite("condenser.cw_flow", m_cw)?;
             if m_cw <= 0.0 {
-                return Err(Error::invalid(format!(
-                    "condenser.cw_flow = {m_cw} kg/s: the cooling-water flow must be above 0"
-                )));
+                return Err(Error::invalid_with(
+                    "condenser.cw_flow = {}: the cooling-water flow must be above 0",
+                    &[mass_flow("cw_flow", m_cw)],
+                ));
             }
             if spec.flow.is_none() && spec.net_power.is_none() {
                 return Err(Error::invalid(
@@ -545,10 +602,15 @@ pub fn rankine_plant(spec: &RankineSpec, plant: &RankinePlant) -> Result<Rankine
                 let duty = r.flow.unwrap_or(0.0) * r.heat_rejected;
                 let h_out = cw_in.props.h + duty / m_cw;
                 if cw.p < state::P_C && h_out >= sat_liquid(cw.p)?.props.h {
-                    return Err(Error::infeasible(format!(
-                        "{m_cw} kg/s of cooling water would be heated to its boiling point {cw_boil:.3} K at {} MPa by the condenser duty {duty:.1} kW: give more cooling water",
-                        cw.p
-                    )));
+                    return Err(Error::infeasible_with(
+                        "{} of cooling water would be heated to its boiling point {} at {} by the condenser duty {}: give more cooling water",
+                        &[
+                            mass_flow("cw_flow", m_cw),
+                            temperature("T", cw_boil),
+                            pressure("cw_p", cw.p),
+                            heat("duty", duty),
+                        ],
+                    ));
                 }
                 let cw_out = ph(cw.p, h_out)?;
                 let cw_out = outlet_of(cw_out.props.t).map(|_| cw_out)?;
@@ -601,7 +663,7 @@ impl Line {
             .map(|(_, l)| l.state)
             .ok_or_else(|| {
                 Error::invalid(format!(
-                    "no point of the expansion line at {p} MPa (internal)"
+                    "no point of the expansion line at p = {p} (internal units; a defect)"
                 ))
             })
     }
@@ -667,10 +729,10 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
     let boiler_dp = {
         Error::check_finite("boiler_dp", plant.boiler_dp)?;
         if plant.boiler_dp < 0.0 {
-            return Err(Error::invalid(format!(
-                "boiler_dp = {} MPa: a pressure drop cannot be negative",
-                plant.boiler_dp
-            )));
+            return Err(Error::invalid_with(
+                "boiler_dp = {}: a pressure drop cannot be negative",
+                &[difference("boiler_dp", plant.boiler_dp)],
+            ));
         }
         plant.boiler_dp
     };
@@ -721,50 +783,56 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
     for (i, (h, x)) in hs.iter().enumerate() {
         check_p("heaters.p", h.p)?;
         if h.p >= pb || h.p <= pc {
-            return Err(Error::invalid(format!(
-                "heater at {} MPa: its pressure must lie between the condenser ({pc} MPa) and the boiler ({pb} MPa)",
-                h.p
-            )));
+            return Err(Error::invalid_with(
+                "heater at {}: its pressure must lie between the condenser ({}) and the boiler ({})",
+                &[pressure("p", h.p), pressure("condenser_p", pc), pressure("boiler_p", pb)],
+            ));
         }
         if i > 0 && (hs[i - 1].0.p - h.p).abs() <= 1e-12 * h.p {
-            return Err(Error::invalid(format!(
-                "two heaters at the same pressure {} MPa",
-                h.p
-            )));
+            return Err(Error::invalid_with(
+                "two heaters at the same pressure {}",
+                &[pressure("p", h.p)],
+            ));
         }
         Error::check_finite("heaters.ttd", h.ttd)?;
         check_dp("heaters.line_dp", x.line_dp, f64::INFINITY, "")?;
         if h.p - x.line_dp <= pc {
-            return Err(Error::invalid(format!(
-                "heater at {} MPa: line_dp = {} MPa would leave its shell at or below the condenser pressure {pc} MPa",
-                h.p, x.line_dp
-            )));
+            return Err(Error::invalid_with(
+                "heater at {}: line_dp = {} would leave its shell at or below the condenser pressure {}",
+                &[
+                    pressure("p", h.p),
+                    difference("line_dp", x.line_dp),
+                    pressure("condenser_p", pc),
+                ],
+            ));
         }
         if h.kind == HeaterKind::Open && (x.dca.is_some() || x.drain != DrainMode::Cascade) {
-            return Err(Error::invalid(format!(
-                "open heater at {} MPa: an open heater has no drain (its extraction mixes with the feedwater): dca and drain apply to closed heaters",
-                h.p
-            )));
+            return Err(Error::invalid_with(
+                "open heater at {}: an open heater has no drain (its extraction mixes with the feedwater): dca and drain apply to closed heaters",
+                &[pressure("p", h.p)],
+            ));
         }
         if let Some(d) = x.dca {
             Error::check_finite("heaters.dca", d)?;
             if d <= 0.0 {
-                return Err(Error::invalid(format!(
-                    "closed heater at {} MPa: dca = {d} K would make the drain leave at or below the temperature of the entering feedwater (a temperature cross in the drain cooler); a drain-cooler approach must be above 0 K",
-                    h.p
-                )));
+                return Err(Error::invalid_with(
+                    "closed heater at {}: dca = {} would make the drain leave at or below the temperature of the entering feedwater (a temperature cross in the drain cooler); a drain-cooler approach must be above {}",
+                    &[pressure("p", h.p), t_difference("dca", d), t_difference("dca", 0.0)],
+                ));
             }
         }
         if i > 0 {
             let above = &hs[i - 1];
             let shell_above = above.0.p - above.1.line_dp;
             if h.p - x.line_dp >= shell_above {
-                return Err(Error::invalid(format!(
-                    "the shell of the heater at {} MPa ({} MPa after its line drop) is not below the shell of the heater above it ({} MPa): drains and feedwater could not flow between them",
-                    h.p,
-                    h.p - x.line_dp,
-                    shell_above
-                )));
+                return Err(Error::invalid_with(
+                    "the shell of the heater at {} ({} after its line drop) is not below the shell of the heater above it ({}): drains and feedwater could not flow between them",
+                    &[
+                        pressure("p", h.p),
+                        pressure("p", h.p - x.line_dp),
+                        pressure("p", shell_above),
+                    ],
+                ));
             }
         }
     }
@@ -772,18 +840,19 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
     let mut warnings = Vec::new();
     let throttle = pt(pb, spec.boiler_t)?;
     if throttle.phase == Phase::Liquid || throttle.phase == Phase::Wet {
-        let what = if pb < state::P_C {
-            format!(
-                "the saturation temperature {:.3} K",
-                state::saturation_p(pb)?.0
-            )
+        let (what, limit) = if pb < state::P_C {
+            ("the saturation temperature", state::saturation_p(pb)?.0)
         } else {
-            format!("the critical temperature {} K", state::T_C)
+            ("the critical temperature", state::T_C)
         };
-        return Err(Error::infeasible(format!(
-            "the boiler outlet at {pb} MPa and {:.3} K is compressed liquid (below {what}): a turbine needs steam; raise boiler_T above it",
-            spec.boiler_t
-        )));
+        return Err(Error::infeasible_with(
+            &format!("the boiler outlet at {{}} and {{}} is compressed liquid (below {what} {{}}): a turbine needs steam; raise boiler_T above it"),
+            &[
+                pressure("boiler_p", pb),
+                temperature("boiler_T", spec.boiler_t),
+                temperature("T", limit),
+            ],
+        ));
     }
     let ti = throttle_valve(&throttle, throttle_dp)?;
     // Sections.
@@ -802,15 +871,17 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
         Some((prh, trh)) => {
             check_p("reheat_p", prh)?;
             if prh >= ti.props.p || prh <= pc {
-                return Err(Error::invalid(format!(
-                    "the reheat pressure {prh} MPa must lie between the condenser and the boiler pressures"
-                )));
+                return Err(Error::invalid_with(
+                    "the reheat pressure {} must lie between the condenser and the boiler pressures",
+                    &[pressure("reheat_p", prh)],
+                ));
             }
             let dp = check_dp("reheat_dp", plant.reheat_dp, f64::INFINITY, "")?;
             if prh - dp <= pc {
-                return Err(Error::invalid(format!(
-                    "reheat_dp = {dp} MPa would leave the hot reheat at or below the condenser pressure {pc} MPa"
-                )));
+                return Err(Error::invalid_with(
+                    "reheat_dp = {} would leave the hot reheat at or below the condenser pressure {}",
+                    &[difference("reheat_dp", dp), pressure("condenser_p", pc)],
+                ));
             }
             Some((prh, trh, prh - dp))
         }
@@ -826,10 +897,21 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
     if let Some(x) = crossover {
         let top = reheat.map(|(_, _, p_hot)| p_hot).unwrap_or(ti.props.p);
         if x >= top || x <= pc {
-            return Err(Error::invalid(format!(
-                "crossover_p = {x} MPa must lie between the condenser ({pc} MPa) and the {} ({top} MPa)",
-                if reheat.is_some() { "hot reheat" } else { "turbine inlet" }
-            )));
+            return Err(Error::invalid_with(
+                &format!(
+                    "crossover_p = {{}} must lie between the condenser ({{}}) and the {} ({{}})",
+                    if reheat.is_some() {
+                        "hot reheat"
+                    } else {
+                        "turbine inlet"
+                    }
+                ),
+                &[
+                    pressure("crossover_p", x),
+                    pressure("condenser_p", pc),
+                    pressure("p", top),
+                ],
+            ));
         }
     }
     let single = reheat.is_none() && crossover.is_none();
@@ -845,17 +927,21 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
     }
     for (h, _) in &hs {
         if h.p >= ti.props.p {
-            return Err(Error::invalid(format!(
-                "heater at {} MPa: its extraction pressure must be below the turbine inlet pressure {} MPa (after the throttle valve)",
-                h.p, ti.props.p
-            )));
+            return Err(Error::invalid_with(
+                "heater at {}: its extraction pressure must be below the turbine inlet pressure {} (after the throttle valve)",
+                &[pressure("p", h.p), pressure("p", ti.props.p)],
+            ));
         }
         if let Some((prh, _, p_hot)) = reheat {
             if h.p >= p_hot && h.p < prh && !same_p(h.p, prh) {
-                return Err(Error::invalid(format!(
-                    "heater at {} MPa: its extraction pressure lies inside the reheater (from the cold reheat at {prh} MPa to the hot reheat at {p_hot} MPa), where no turbine stage is",
-                    h.p
-                )));
+                return Err(Error::invalid_with(
+                    "heater at {}: its extraction pressure lies inside the reheater (from the cold reheat at {} to the hot reheat at {}), where no turbine stage is",
+                    &[
+                        pressure("p", h.p),
+                        pressure("reheat_p", prh),
+                        pressure("p", p_hot),
+                    ],
+                ));
             }
         }
     }
@@ -988,32 +1074,45 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
                     let t_out = tsat - h.ttd;
                     let out = pt(fw.props.p, t_out)?;
                     if out.props.h <= fw.props.h {
-                        return Err(Error::infeasible(format!(
-                            "the closed heater at {} MPa would not heat the feedwater (it arrives at {:.2} K, the heater can reach {:.2} K)",
-                            h.p, fw.props.t, t_out
-                        )));
+                        return Err(Error::infeasible_with(
+                            "the closed heater at {} would not heat the feedwater (it arrives at {}, the heater can reach {})",
+                            &[
+                                pressure("p", h.p),
+                                temperature("T", fw.props.t),
+                                temperature("T", t_out),
+                            ],
+                        ));
                     }
                     if h.ttd < 0.0 && t_out >= shell.props.t {
-                        return Err(Error::infeasible(format!(
-                            "closed heater at {} MPa: a TTD of {} K makes the feedwater leave at {:.2} K, not below the extraction steam's {:.2} K ({}): the feedwater cannot leave hotter than the steam heating it; a negative TTD needs superheated extraction steam and a desuperheating zone; give a TTD of 0 K or more",
-                            h.p,
-                            h.ttd,
-                            t_out,
-                            shell.props.t,
-                            match shell.x {
-                                Some(q) => format!("wet, x = {q:.4}"),
-                                None => shell.phase.name().to_string(),
-                            }
-                        )));
+                        let phase = match shell.x {
+                            Some(q) => format!("wet, x = {q:.4}"),
+                            None => shell.phase.name().to_string(),
+                        };
+                        return Err(Error::infeasible_with(
+                            "closed heater at {}: a TTD of {} makes the feedwater leave at {}, not below the extraction steam's {} ({}): the feedwater cannot leave hotter than the steam heating it; a negative TTD needs superheated extraction steam and a desuperheating zone; give a TTD of {} or more",
+                            &[
+                                pressure("p", h.p),
+                                t_difference("ttd", h.ttd),
+                                temperature("T", t_out),
+                                temperature("T", shell.props.t),
+                                phase.into(),
+                                t_difference("ttd", 0.0),
+                            ],
+                        ));
                     }
                     let drain = match x.dca {
                         Some(d) => {
                             let t_d = fw.props.t + d;
                             if t_d >= tsat {
-                                return Err(Error::infeasible(format!(
-                                    "closed heater at {} MPa: a drain-cooler approach of {d} K puts the drain at {t_d:.2} K, not below the shell's saturation temperature {tsat:.2} K, so no drain cooling is possible; leave dca out for a heater without a drain cooler",
-                                    h.p
-                                )));
+                                return Err(Error::infeasible_with(
+                                    "closed heater at {}: a drain-cooler approach of {} puts the drain at {}, not below the shell's saturation temperature {}, so no drain cooling is possible; leave dca out for a heater without a drain cooler",
+                                    &[
+                                        pressure("p", h.p),
+                                        t_difference("dca", d),
+                                        temperature("T", t_d),
+                                        temperature("T", tsat),
+                                    ],
+                                ));
                             }
                             pt(shell_p[j], t_d)?
                         }
@@ -1027,12 +1126,7 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
                             PumpEfficiencyKind::Isentropic,
                             None,
                         )
-                        .map_err(|e| {
-                            Error::invalid(format!(
-                                "drain pump of the closed heater at {} MPa: {e}",
-                                h.p
-                            ))
-                        })?;
+                        .map_err(|e| drain_pump_error(h.p, e))?;
                         Some((pr.outlet, pr.specific_work))
                     } else {
                         None
@@ -1057,16 +1151,16 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
                 HeaterKind::Open => {
                     let out = sat_liquid(shell_p[j])?;
                     if fw.props.p > shell_p[j] * (1.0 + 1e-9) {
-                        return Err(Error::invalid(format!(
-                            "feedwater at {} MPa cannot enter the open heater at {} MPa",
-                            fw.props.p, shell_p[j]
-                        )));
+                        return Err(Error::invalid_with(
+                            "feedwater at {} cannot enter the open heater at {}",
+                            &[pressure("p", fw.props.p), pressure("p", shell_p[j])],
+                        ));
                     }
                     if out.props.h <= fw.props.h {
-                        return Err(Error::infeasible(format!(
-                            "the feedwater reaching the open heater at {} MPa is already at or above its saturation temperature",
-                            h.p
-                        )));
+                        return Err(Error::infeasible_with(
+                            "the feedwater reaching the open heater at {} is already at or above its saturation temperature",
+                            &[pressure("p", h.p)],
+                        ));
                     }
                     heaters.push(Heater {
                         spec: h,
@@ -1136,10 +1230,10 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
     let ps: Vec<f64> = heaters.iter().map(|h| h.spec.p).collect();
     for (j, yj) in y.iter().enumerate() {
         if *yj < -1e-12 || !yj.is_finite() {
-            return Err(Error::infeasible(format!(
-                "the heater at {} MPa would need a negative extraction ({yj:.5}): its feedwater is already hotter than its steam can make it",
-                ps[j]
-            )));
+            return Err(Error::infeasible_with(
+                &format!("the heater at {{}} would need a negative extraction ({yj:.5}): its feedwater is already hotter than its steam can make it"),
+                &[pressure("p", ps[j])],
+            ));
         }
     }
     let sum_y: f64 = y.iter().sum();
@@ -1290,10 +1384,10 @@ fn solve(spec: &RankineSpec, plant: &RankinePlant, pc: f64) -> Result<RankineRes
         let aux = plant.auxiliary_power;
         let net = d.gross_power - pump_power - aux;
         if net <= 0.0 {
-            return Err(Error::infeasible(format!(
-                "the pumps ({pump_power:.3} kW) and the station load ({aux:.3} kW) take all of the gross output ({:.3} kW): the cycle delivers no net power",
-                d.gross_power
-            )));
+            return Err(Error::infeasible_with(
+                "the pumps ({}) and the station load ({}) take all of the gross output ({}): the cycle delivers no net power",
+                &[power(pump_power), power(aux), power(d.gross_power)],
+            ));
         }
         let q = basis_flow * q_in;
         let bal = PowerBalance {
@@ -1566,10 +1660,14 @@ fn flow_for_power(
     let f_peak = (a / (3.0 * b)).sqrt();
     let p_peak = a * f_peak - b * f_peak.powi(3) - c;
     if pw > p_peak {
-        return Err(Error::infeasible(format!(
-            "the leaving loss grows with the cube of the flow: with an exhaust area of {} m2 this cycle gives at most {p_peak:.3} kW net (at {f_peak:.4} kg/s of steam); a larger net power needs a larger exhaust area",
-            plant.exhaust_area.unwrap_or(0.0)
-        )));
+        return Err(Error::infeasible_with(
+            "the leaving loss grows with the cube of the flow: with an exhaust area of {} this cycle gives at most {} net (at {} of steam); a larger net power needs a larger exhaust area",
+            &[
+                Quantity::new("exhaust_area", Dim::Area, plant.exhaust_area.unwrap_or(0.0)).into(),
+                power(p_peak),
+                mass_flow("flow", f_peak),
+            ],
+        ));
     }
     let mut f = ((pw + c) / a).min(f_peak);
     for _ in 0..100 {
@@ -1779,10 +1877,10 @@ fn check_heater_zones(heaters: &[Heater], flows: &Flows) -> Result<()> {
         let (tsat, _, _) = state::saturation_p(h.shell_p.min(state::P_C))?;
         let mt = flows.tube(j);
         if mt <= 0.0 {
-            return Err(Error::infeasible(format!(
-                "closed heater at {} MPa: no feedwater would pass its tubes ({mt:.5} per kg of boiler steam)",
-                h.spec.p
-            )));
+            return Err(Error::infeasible_with(
+                &format!("closed heater at {{}}: no feedwater would pass its tubes ({mt:.5} per kg of boiler steam)"),
+                &[pressure("p", h.spec.p)],
+            ));
         }
         if h.spec.ttd < 0.0 && h.fw_out.props.t > tsat {
             let at_sat = pt(h.fw_out.props.p, tsat)?;
@@ -1790,10 +1888,16 @@ fn check_heater_zones(heaters: &[Heater], flows: &Flows) -> Result<()> {
             let superheat = (h.shell.props.h - sat_vapour(h.shell_p)?.props.h).max(0.0);
             let have = flows.y[j] * superheat;
             if need > have {
-                return Err(Error::infeasible(format!(
-                    "closed heater at {} MPa: a TTD of {} K needs {need:.4} kJ per kg of boiler steam to heat the feedwater above the shell's saturation temperature {tsat:.2} K, but the extraction steam's superheat brings only {have:.4} kJ: the desuperheating zone cannot do it; raise the TTD",
-                    h.spec.p, h.spec.ttd
-                )));
+                return Err(Error::infeasible_with(
+                    "closed heater at {}: a TTD of {} needs {} (per kg of boiler steam) to heat the feedwater above the shell's saturation temperature {}, but the extraction steam's superheat brings only {}: the desuperheating zone cannot do it; raise the TTD",
+                    &[
+                        pressure("p", h.spec.p),
+                        t_difference("ttd", h.spec.ttd),
+                        enthalpy("h", need),
+                        temperature("T", tsat),
+                        enthalpy("h", have),
+                    ],
+                ));
             }
         }
         if h.extra.dca.is_some() {
@@ -1802,10 +1906,14 @@ fn check_heater_zones(heaters: &[Heater], flows: &Flows) -> Result<()> {
             let h_dc = h.fw_in.props.h + d * (sat.props.h - h.drain.props.h) / mt;
             let t_dc = ph(h.fw_in.props.p, h_dc)?.props.t;
             if t_dc >= tsat {
-                return Err(Error::infeasible(format!(
-                    "closed heater at {} MPa: the drain cooler would heat the feedwater to {t_dc:.2} K, not below the shell's saturation temperature {tsat:.2} K (a temperature cross in the drain-cooling zone); lower the drain-cooler approach",
-                    h.spec.p
-                )));
+                return Err(Error::infeasible_with(
+                    "closed heater at {}: the drain cooler would heat the feedwater to {}, not below the shell's saturation temperature {} (a temperature cross in the drain-cooling zone); lower the drain-cooler approach",
+                    &[
+                        pressure("p", h.spec.p),
+                        temperature("T", t_dc),
+                        temperature("T", tsat),
+                    ],
+                ));
             }
         }
     }

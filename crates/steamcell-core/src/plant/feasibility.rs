@@ -21,8 +21,9 @@
 //! segment between them is sampled and its smallest difference refined by golden-section
 //! search (property test `feasibility.rs::pinch_is_the_true_minimum`).
 
-use crate::error::{Error, Result};
+use crate::error::{Arg, Error, Quantity, Result};
 use crate::plant::ph;
+use crate::units::Dim;
 use crate::water::state::{Phase, State, P_C};
 use crate::water::{self, Formulation, SaturationAt};
 
@@ -452,13 +453,16 @@ pub fn exchanger_profile(
         }
     }
     if pinch.dt() <= 0.0 {
-        return Err(Error::infeasible(format!(
-            "temperature cross: at {} the hot stream is at {:.2} K and the cold stream at {:.2} K, {:.2} K hotter (second law: heat cannot flow from cold to hot); lower the cold outlet temperature, raise the hot flow or the hot inlet temperature",
-            pinch.describe(),
-            pinch.hot.props.t,
-            pinch.cold.props.t,
-            -pinch.dt()
-        )));
+        let t = |v: f64| Arg::from(Quantity::new("T", Dim::Temperature, v));
+        return Err(Error::infeasible_with(
+            "temperature cross: at {} the hot stream is at {} and the cold stream at {}, {} hotter (second law: heat cannot flow from cold to hot); lower the cold outlet temperature, raise the hot flow or the hot inlet temperature",
+            &[
+                pinch.describe().into(),
+                t(pinch.hot.props.t),
+                t(pinch.cold.props.t),
+                Quantity::new("pinch", Dim::TemperatureDifference, -pinch.dt()).into(),
+            ],
+        ));
     }
     // Zones between the phase-change points.
     pts.sort_by(|a, b| a.q.total_cmp(&b.q));

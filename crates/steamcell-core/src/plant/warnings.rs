@@ -16,65 +16,22 @@
 //! Invariant: [`CATALOGUE`] lists every [`Code`] exactly once, in the order of [`Code::ALL`]
 //! (a test checks it), and codes are stable wire names: rename none; a code is removed only
 //! when nothing can make it fire any more (issue 21: the negative-flow warnings of the site
-//! balance, once it refused negative flows).
+//! balance, once it refused negative flows; issue 23: heat_flows_backwards and
+//! temperature_cross_at_end, once the site balance refused an exchanger passing heat from cold
+//! to hot).
 
-use crate::error::fmt_sig;
-use crate::units::Dim;
+pub use crate::error::{Arg, Quantity};
+use crate::error::{Digits, Message};
 use std::fmt;
 
-/// A value named in a warning's message: internal units, with its dimension and the name of
-/// the field it is (a request may choose a unit by field name, e.g. `flow` in t/h).
-#[derive(Debug, Clone, Copy, PartialEq)]
-pub struct Quantity {
-    /// Field name whose unit it takes (`flow`, `pressure_drop`, `surface_T`, ...).
-    pub name: &'static str,
-    /// Its dimension.
-    pub dim: Dim,
-    /// Its value, internal units.
-    pub value: f64,
-}
-
-impl Quantity {
-    /// The quantity `name` of dimension `dim` with the internal value `value`.
-    pub fn new(name: &'static str, dim: Dim, value: f64) -> Quantity {
-        Quantity { name, dim, value }
-    }
-}
-
-/// What fills one `{}` of a [`Warning::with`] template: a value, or text taken as it is (a
-/// stream or unit name, which may itself hold braces).
-#[derive(Debug, Clone, PartialEq)]
-pub enum Arg {
-    /// A value stated in some unit.
-    Value(Quantity),
-    /// Text.
-    Text(String),
-}
-
-impl From<Quantity> for Arg {
-    fn from(q: Quantity) -> Arg {
-        Arg::Value(q)
-    }
-}
-
-impl From<&str> for Arg {
-    fn from(t: &str) -> Arg {
-        Arg::Text(t.to_string())
-    }
-}
-
-/// A piece of a message: text, or a value to be stated in some unit.
-#[derive(Debug, Clone, PartialEq)]
-enum Part {
-    Text(String),
-    Value(Quantity),
-}
-
-/// Fewest significant digits of a value in a message; more (up to [`DIGITS_MAX`]) when two
-/// different values of one dimension would print alike (a value beside its limit).
-const DIGITS: usize = 4;
-/// Most significant digits of a value in a message.
-const DIGITS_MAX: usize = 6;
+/// The digits of a warning's values: 4 significant digits (a value written in full with up to
+/// 6 keeps them, e.g. a limit of 333.15 K), up to 6 where two different values of one
+/// dimension would otherwise print alike.
+const DIGITS: Digits = Digits {
+    least: 4,
+    exact: 6,
+    most: 6,
+};
 
 /// A warning: its code in the catalogue and a one-line message with the values of the case.
 #[derive(Debug, Clone, PartialEq)]
@@ -83,17 +40,18 @@ pub struct Warning {
     pub code: Code,
     /// One line: what was found, with its values (internal units), and what to check.
     pub message: String,
-    /// The message as text and values, when built with [`Warning::with`] (else empty).
-    parts: Vec<Part>,
+    /// The message as text and values, when built with [`Warning::with`].
+    text: Message,
 }
 
 impl Warning {
     /// A warning of `code` with its message (no values to re-state).
     pub fn new(code: Code, message: impl Into<String>) -> Warning {
+        let message = message.into();
         Warning {
             code,
-            message: message.into(),
-            parts: Vec::new(),
+            text: Message::from(message.as_str()),
+            message,
         }
     }
 
@@ -101,39 +59,17 @@ impl Warning {
     /// `{}`: a value is stated as "value unit" (a pure number without unit), text as it is.
     /// Names given by the caller go in as [`Arg::Text`], never into the template.
     pub fn with(code: Code, template: &str, args: &[Arg]) -> Warning {
-        let mut parts = Vec::with_capacity(2 * args.len() + 1);
-        let mut rest = template;
-        let mut vals = args.iter();
-        while let Some(i) = rest.find("{}") {
-            if i > 0 {
-                parts.push(Part::Text(rest[..i].to_string()));
-            }
-            parts.push(match vals.next() {
-                Some(Arg::Value(q)) => Part::Value(*q),
-                Some(Arg::Text(t)) => Part::Text(t.clone()),
-                None => Part::Text("{}".into()),
-            });
-            rest = &rest[i + 2..];
-        }
-        if !rest.is_empty() {
-            parts.push(Part::Text(rest.to_string()));
-        }
-        debug_assert!(vals.next().is_none(), "more values than {{}} in {template}");
-        let mut w = Warning {
+        let text = Message::with(template, args, DIGITS);
+        Warning {
             code,
-            message: String::new(),
-            parts,
-        };
-        w.message = w.message_in(|q| (q.value, q.dim.internal_symbol()));
-        w
+            message: text.to_string(),
+            text,
+        }
     }
 
     /// The values the message names (internal units), in order.
     pub fn quantities(&self) -> impl Iterator<Item = &Quantity> {
-        self.parts.iter().filter_map(|p| match p {
-            Part::Value(q) => Some(q),
-            Part::Text(_) => None,
-        })
+        self.text.quantities()
     }
 
     /// The message with every value stated as `to` gives it: (value, unit symbol) of a
@@ -141,71 +77,20 @@ impl Warning {
     /// them, e.g. a limit of 333.15 K), up to 6 where two different values of one dimension
     /// would otherwise print alike. A warning without values gives its message.
     pub fn message_in(&self, to: impl Fn(&Quantity) -> (f64, &'static str)) -> String {
-        if self.parts.is_empty() {
+        if !self.text.has_values() {
             return self.message.clone();
         }
-        let stated: Vec<(Quantity, f64, &str)> = self
-            .quantities()
-            .map(|q| {
-                let (v, u) = to(q);
-                (*q, v, u)
-            })
-            .collect();
-        let text = |v: f64, d: usize| short(v, d);
-        let clash = |d: usize| {
-            stated.iter().enumerate().any(|(i, a)| {
-                stated[..i]
-                    .iter()
-                    .any(|b| a.0.dim == b.0.dim && a.1 != b.1 && text(a.1, d) == text(b.1, d))
-            })
-        };
-        let digits = (DIGITS..DIGITS_MAX)
-            .find(|&d| !clash(d))
-            .unwrap_or(DIGITS_MAX);
-        let mut out = String::new();
-        let mut k = 0;
-        for p in &self.parts {
-            match p {
-                Part::Text(t) => out.push_str(t),
-                Part::Value(_) => {
-                    let (_, v, u) = stated[k];
-                    k += 1;
-                    out.push_str(&text(v, digits));
-                    if !(u.is_empty() || u == "1") {
-                        out.push(' ');
-                        out.push_str(u);
-                    }
-                }
-            }
-        }
-        out
+        self.text.render(to, DIGITS)
     }
 
     /// The same warning with its message prefixed (e.g. "stage 2: ", "turbine BPT: ").
     pub fn prefixed(&self, prefix: &str) -> Warning {
-        let mut parts = self.parts.clone();
-        if !parts.is_empty() {
-            parts.insert(0, Part::Text(prefix.to_string()));
-        }
         Warning {
             code: self.code,
             message: format!("{prefix}{}", self.message),
-            parts,
+            text: self.text.prefixed(prefix),
         }
     }
-}
-
-/// `v` with `digits` significant digits, or with the fewest more (up to [`DIGITS_MAX`]) that
-/// write it exactly (to 1e-9): a limit such as 333.15 K stays as given, a computed value gets
-/// `digits`.
-fn short(v: f64, digits: usize) -> String {
-    (digits..=DIGITS_MAX)
-        .map(|d| fmt_sig(v, d))
-        .find(|t| {
-            t.parse::<f64>()
-                .is_ok_and(|x| (x - v).abs() <= 1e-9 * v.abs())
-        })
-        .unwrap_or_else(|| fmt_sig(v, digits))
 }
 
 impl fmt::Display for Warning {
@@ -283,8 +168,6 @@ codes! {
     DesuperheaterTargetSaturated => "desuperheater_target_saturated",
     CondensateNotLiquid => "condensate_not_liquid",
     UserReceivesLiquid => "user_receives_liquid",
-    HeatFlowsBackwards => "heat_flows_backwards",
-    TemperatureCrossAtEnd => "temperature_cross_at_end",
     PumpInletNotLiquid => "pump_inlet_not_liquid",
     ExhaustVelocityHigh => "exhaust_velocity_high",
     MeasuredOutletNearSaturation => "measured_outlet_near_saturation",
@@ -472,18 +355,6 @@ pub const CATALOGUE: &[Entry] = &[
         source: "physical fact",
     },
     Entry {
-        code: Code::HeatFlowsBackwards,
-        meaning: "heat flows from the cold side to the hot side of a site-balance exchanger",
-        check: "swap the sides",
-        source: "second law",
-    },
-    Entry {
-        code: Code::TemperatureCrossAtEnd,
-        meaning: "a site-balance exchanger has a temperature cross at one of its ends",
-        check: "check the outlet temperatures (second law)",
-        source: "second law",
-    },
-    Entry {
         code: Code::PumpInletNotLiquid,
         meaning: "a pump of a site balance receives vapour or a wet mixture",
         check: "check the state of the pump's inlet stream",
@@ -534,6 +405,7 @@ impl Code {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::units::Dim;
 
     fn kelvin_to_celsius(q: &Quantity) -> (f64, &'static str) {
         match q.dim {

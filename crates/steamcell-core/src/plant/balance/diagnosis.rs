@@ -1,5 +1,5 @@
 //! The degree-of-freedom diagnosis of a site network, as data: every finding (a missing
-//! specification, a specification given twice or out of range, a stream whose pressure or
+//! specification, a specification given twice or contradicting another, a stream whose pressure or
 //! state is not the caller's to give, flows the equations leave free, equations that cannot
 //! all hold) names its units, streams and quantity; each stream's status says who fixes its
 //! flow, pressure and state; each unit lists the specifications it was given.
@@ -266,19 +266,9 @@ impl fmt::Display for SpecChange {
 pub enum Side {
     /// Something the balance needs is not given.
     Under,
-    /// Something is given twice, contradicts another specification or is out of range.
+    /// Something is given twice or contradicts another specification (a value outside its
+    /// own range is refused before the count, as out of range).
     Over,
-}
-
-/// The interval a specification must lie in (as the message prints it).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Interval {
-    /// low < v <= high, printed "(low, high]".
-    OpenClosed,
-    /// low <= v < high, printed "low..high".
-    ClosedOpen,
-    /// low <= v <= high, printed "low..high".
-    Closed,
 }
 
 /// Who owns an equation of the flow system.
@@ -474,29 +464,6 @@ impl fmt::Display for ClashHint {
 /// One finding of the degree-of-freedom analysis.
 #[derive(Debug, Clone, PartialEq)]
 pub enum Finding {
-    // ---- values out of range (over-specified) ----
-    /// A unit's specification lies outside its interval.
-    OutOfRange {
-        /// The unit.
-        unit: UnitRef,
-        /// The specification, as named on the wire.
-        quantity: &'static str,
-        /// The value given.
-        value: f64,
-        /// Lowest allowed value.
-        low: f64,
-        /// Highest allowed value.
-        high: f64,
-        /// Which ends are allowed.
-        interval: Interval,
-    },
-    /// A user's steam demand is negative.
-    NegativeDemand {
-        /// The user.
-        unit: UnitRef,
-        /// The demand.
-        value: Amount,
-    },
     // ---- streams ----
     /// A stream carries T, h or x although its source unit sets its state.
     StateSetBySource {
@@ -525,26 +492,12 @@ pub enum Finding {
         /// Its destination unit.
         to: UnitRef,
     },
-    /// A stream's pressure is zero or negative.
-    PressureNotPositive {
-        /// The stream.
-        stream: String,
-        /// Its pressure.
-        p: Amount,
-    },
     /// A stream carries more than one of T, h and x.
     StateGivenTwice {
         /// The stream.
         stream: String,
         /// How many of T, h and x it carries.
         count: usize,
-    },
-    /// A stream's quality lies outside 0..1.
-    QualityOutOfRange {
-        /// The stream.
-        stream: String,
-        /// The quality given.
-        x: f64,
     },
     /// A pump's discharge pressure is not above its suction pressure.
     PumpDoesNotRaise {
@@ -792,13 +745,9 @@ impl Finding {
             | MissingTrapSteam { .. }
             | MissingLineGeometry { .. }
             | FlowsNotFixed { .. } => Side::Under,
-            OutOfRange { .. }
-            | NegativeDemand { .. }
-            | StateSetBySource { .. }
+            StateSetBySource { .. }
             | PressureSetBySource { .. }
-            | PressureNotPositive { .. }
             | StateGivenTwice { .. }
-            | QualityOutOfRange { .. }
             | PumpDoesNotRaise { .. }
             | DesuperheaterAboveCritical { .. }
             | SteamTemperatureTwice { .. }
@@ -820,14 +769,10 @@ impl Finding {
     pub fn code(&self) -> &'static str {
         use Finding::*;
         match self {
-            OutOfRange { .. } => "out_of_range",
-            NegativeDemand { .. } => "negative_demand",
             StateSetBySource { .. } => "state_set_by_source",
             PressureSetBySource { .. } => "pressure_set_by_source",
             PressureNotFixed { .. } => "pressure_not_fixed",
-            PressureNotPositive { .. } => "pressure_not_positive",
             StateGivenTwice { .. } => "state_given_twice",
-            QualityOutOfRange { .. } => "quality_out_of_range",
             PumpDoesNotRaise { .. } => "pump_does_not_raise",
             DesuperheaterAboveCritical { .. } => "desuperheater_above_critical",
             MissingSteamTemperature { .. } => "missing_steam_temperature",
@@ -864,15 +809,12 @@ impl Finding {
     pub fn quantity(&self) -> Option<&'static str> {
         use Finding::*;
         match self {
-            OutOfRange { quantity, .. } => Some(quantity),
-            NegativeDemand { .. } | DemandTwice { .. } => Some("demand"),
+            DemandTwice { .. } => Some("demand"),
             StateSetBySource { .. } | StateGivenTwice { .. } => None,
             PressureSetBySource { .. }
             | PressureNotFixed { .. }
-            | PressureNotPositive { .. }
             | PumpDoesNotRaise { .. }
             | DesuperheaterAboveCritical { .. } => Some("p"),
-            QualityOutOfRange { .. } => Some("x"),
             MissingPressure { .. } | SteamPressureConflict { .. } => Some("p"),
             MissingSteamTemperature { .. }
             | MissingDesuperheaterTarget { .. }
@@ -905,14 +847,10 @@ impl Finding {
     pub fn value(&self) -> Option<(f64, &'static str)> {
         use Finding::*;
         match self {
-            OutOfRange { value, .. } => Some((*value, "")),
-            NegativeDemand { value: a, .. }
-            | PressureSetBySource { p: a, .. }
-            | PressureNotPositive { p: a, .. }
+            PressureSetBySource { p: a, .. }
             | DesuperheaterAboveCritical { p: a, .. }
             | PumpDoesNotRaise { discharge: a, .. } => Some((a.value, a.unit)),
             MeasuredExpansionImpossible { efficiency, .. } => Some((*efficiency, "")),
-            QualityOutOfRange { x, .. } => Some((*x, "")),
             StateGivenTwice { count, .. } => Some((*count as f64, "")),
             ReturnWithoutStream {
                 return_fraction, ..
@@ -950,9 +888,7 @@ impl Finding {
     pub fn units(&self) -> Vec<&UnitRef> {
         use Finding::*;
         match self {
-            OutOfRange { unit, .. }
-            | NegativeDemand { unit, .. }
-            | StateSetBySource { unit, .. }
+            StateSetBySource { unit, .. }
             | PressureSetBySource { unit, .. }
             | MissingSteamTemperature { unit, .. }
             | MissingBoilerEfficiency { unit }
@@ -990,10 +926,7 @@ impl Finding {
             }
             PressureNotFixed { from, to, .. } => vec![from, to],
             PumpDoesNotRaise { unit, .. } | DesuperheaterAboveCritical { unit, .. } => vec![unit],
-            PressureNotPositive { .. }
-            | StateGivenTwice { .. }
-            | QualityOutOfRange { .. }
-            | FlowsNotFixed { .. } => Vec::new(),
+            StateGivenTwice { .. } | FlowsNotFixed { .. } => Vec::new(),
             EquationsClash { equations, .. } => {
                 let mut v: Vec<&UnitRef> = Vec::new();
                 for e in equations {
@@ -1015,8 +948,6 @@ impl Finding {
             StateSetBySource { stream, .. }
             | PressureSetBySource { stream, .. }
             | PressureNotFixed { stream, .. }
-            | PressureNotPositive { stream, .. }
-            | QualityOutOfRange { stream, .. }
             | StateGivenTwice { stream, .. }
             | MissingSteamTemperature { stream, .. }
             | MissingDesuperheaterTarget { stream, .. }
@@ -1045,9 +976,7 @@ impl Finding {
                     Owner::Unit(_) => None,
                 })
                 .collect(),
-            OutOfRange { .. }
-            | NegativeDemand { .. }
-            | MissingBoilerEfficiency { .. }
+            MissingBoilerEfficiency { .. }
             | MissingPumpEfficiency { .. }
             | MissingPressure { .. }
             | MissingLostCondensateTemperature { .. }
@@ -1080,31 +1009,10 @@ fn list(names: &[String]) -> String {
     }
 }
 
-fn interval(f: &mut fmt::Formatter<'_>, low: f64, high: f64, i: Interval) -> fmt::Result {
-    match i {
-        Interval::OpenClosed => write!(f, "({low}, {high}]"),
-        Interval::ClosedOpen | Interval::Closed => write!(f, "{low}..{high}"),
-    }
-}
-
 impl fmt::Display for Finding {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         use Finding::*;
         match self {
-            OutOfRange {
-                unit,
-                quantity,
-                value,
-                low,
-                high,
-                interval: i,
-            } => {
-                write!(f, "{unit}: {quantity} = {value} is outside ")?;
-                interval(f, *low, *high, *i)
-            }
-            NegativeDemand { unit, value } => {
-                write!(f, "{unit}: demand = {value} is negative")
-            }
             StateSetBySource { stream, unit, by } => write!(
                 f,
                 "stream {stream}: its state is set by {unit} ({by}); remove its T/h/x"
@@ -1117,16 +1025,10 @@ impl fmt::Display for Finding {
                 f,
                 "stream {stream}: its pressure is not fixed: give p on the stream or on {from} or {to}"
             ),
-            PressureNotPositive { stream, p } => {
-                write!(f, "stream {stream}: pressure {p} is not positive")
-            }
             StateGivenTwice { stream, count } => write!(
                 f,
                 "stream {stream}: give at most one of T, h, x (with p) — it has {count}"
             ),
-            QualityOutOfRange { stream, x } => {
-                write!(f, "stream {stream}: x = {x} is outside 0..1")
-            }
             PumpDoesNotRaise {
                 unit,
                 discharge,
@@ -1411,9 +1313,7 @@ impl Diagnosis {
                         one(&mut c.by);
                     }
                 }
-                Finding::NegativeDemand { value: a, .. }
-                | Finding::PressureSetBySource { p: a, .. }
-                | Finding::PressureNotPositive { p: a, .. } => one(a),
+                Finding::PressureSetBySource { p: a, .. } => one(a),
                 Finding::PumpDoesNotRaise {
                     discharge: a,
                     suction: b,
@@ -1430,11 +1330,9 @@ impl Diagnosis {
                     one(a);
                     one(b);
                 }
-                Finding::OutOfRange { .. }
-                | Finding::StateSetBySource { .. }
+                Finding::StateSetBySource { .. }
                 | Finding::PressureNotFixed { .. }
                 | Finding::StateGivenTwice { .. }
-                | Finding::QualityOutOfRange { .. }
                 | Finding::MissingSteamTemperature { .. }
                 | Finding::MissingBoilerEfficiency { .. }
                 | Finding::MissingTurbineEfficiency { .. }

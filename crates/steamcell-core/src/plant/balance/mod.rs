@@ -34,8 +34,8 @@ mod solve;
 mod units;
 
 pub use diagnosis::{
-    Amount, ClashHint, Diagnosis, Equation, Finding, FlowHint, FlowStatus, Interval, Owner,
-    ReversedFlow, Side, Source, SpecChange, StreamStatus, UnitRef, UnitStatus,
+    Amount, ClashHint, Diagnosis, Equation, Finding, FlowHint, FlowStatus, Owner, ReversedFlow,
+    Side, Source, SpecChange, StreamStatus, UnitRef, UnitStatus,
 };
 pub use model::Model;
 pub use solve::{solve, solve_from, sweep};

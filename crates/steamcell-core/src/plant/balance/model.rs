@@ -7,17 +7,18 @@
 //!
 //! Units: internal (MPa, K, kJ/kg, kg/s).
 //!
-//! Invariant: every input error is found here: a structural error at once (one message), the
-//! specification findings all together as an [`Error::Specification`] whose diagnosis lists
-//! the under-specified findings, then the over-specified ones, each in the order of the
-//! checks (streams with more than one of T, h and x, stream qualities, unit ranges, stream states, unit specifications, stream
-//! pressures). Only the count of
-//! the flow equations, which needs the stream states, is left to the solver.
+//! Invariant: every input error is found here: a structural error or a specified value outside
+//! its range at once (one message; a range error as [`Error::OutOfRange`] naming the value's
+//! path, `units.NAME.FIELD` or `streams.NAME.FIELD`), the specification findings all together
+//! as an [`Error::Specification`] whose diagnosis lists the under-specified findings, then the
+//! over-specified ones, each in the order of the checks (streams with more than one of T, h
+//! and x, stream states, unit specifications, stream pressures). Only the count of the flow
+//! equations, which needs the stream states, is left to the solver.
 
 use super::diagnosis::{
     Amount, Diagnosis, Finding, FlowStatus, Side, Source, StreamStatus, UnitStatus,
 };
-use super::units::{self, Draft, UnitKind};
+use super::units::{self, check_range, Draft, Range, UnitKind};
 use super::{FixedState, Network, SiteCosting, StreamSpec, UnitRef};
 use super::{HOURS_PER_YEAR_DEFAULT, MAKEUP_T_DEFAULT};
 use crate::error::{Error, Result};
@@ -96,18 +97,13 @@ impl Wiring<'_> {
 /// [`Findings::refuse`] makes one).
 pub(super) struct Refused(());
 
-/// The findings of the unit checks, by stage.
+/// The findings of the unit checks.
 #[derive(Default)]
 pub(super) struct Findings {
-    range: Vec<Finding>,
     spec: Vec<Finding>,
 }
 
 impl Findings {
-    /// A value outside its range (first stage).
-    pub fn range(&mut self, f: Finding) {
-        self.range.push(f);
-    }
     /// A specification finding that leaves the unit buildable (the network is refused all
     /// the same).
     pub fn note(&mut self, f: Finding) {
@@ -160,17 +156,6 @@ impl Model {
                 });
             }
         }
-        let quality: Vec<Finding> = (0..w.sn.len())
-            .filter_map(|s| match w.fixed[s] {
-                Some(FixedState::X(x)) if !(0.0..=1.0).contains(&x) => {
-                    Some(Finding::QualityOutOfRange {
-                        stream: w.stream(s),
-                        x,
-                    })
-                }
-                Some(FixedState::X(_) | FixedState::T(_) | FixedState::H(_)) | None => None,
-            })
-            .collect();
         let (p_given, p_final, p_source) = resolve_pressures(&mut w, &drafts);
         let mut f = Findings::default();
         let mut validated = Vec::with_capacity(drafts.len());
@@ -181,7 +166,7 @@ impl Model {
                 Err(Refused(())) => refused = true,
             }
         }
-        let stages = vec![twice, quality, f.range, states, f.spec, p_given, p_final];
+        let stages = vec![twice, states, f.spec, p_given, p_final];
         let findings = ordered(stages);
         let streams: Vec<StreamSlot> = (0..w.sn.len())
             .map(|s| StreamSlot {
@@ -373,17 +358,21 @@ fn wire(network: &Network) -> Result<(Wiring<'_>, Vec<Finding>)> {
                 count: fx.len(),
             });
         }
-        for (q, v) in [
-            ("flow", s.flow),
-            ("p", s.p),
-            ("T", s.t),
-            ("h", s.h),
-            ("x", s.x),
-        ] {
+        for (q, v) in [("T", s.t), ("h", s.h)] {
             if let Some(v) = v {
                 Error::check_finite(&format!("streams.{}.{q}", sn[i]), v)?;
             }
         }
+        let q = |f: &str| format!("streams.{}.{f}", sn[i]);
+        check_range(
+            &q("flow"),
+            s.flow,
+            "kg/s",
+            Range::NotNegative,
+            "a stream's flow (steam and water run from a stream's source to its destination)",
+        )?;
+        check_range(&q("p"), s.p, "MPa", Range::Positive, units::PRESSURE)?;
+        check_range(&q("x"), s.x, "1", Range::Fraction, "a quality (0 to 1)")?;
         fixed.push(fx.first().copied());
     }
     let ns = sn.len();
@@ -405,7 +394,8 @@ fn wire(network: &Network) -> Result<(Wiring<'_>, Vec<Finding>)> {
 /// Fixes every stream's pressure: given on the stream, else imposed by its source unit, else
 /// by its destination, else a default of its source (repeated until nothing changes).
 /// Returns the findings (streams whose given pressure contradicts their source; streams left
-/// without a pressure or with a non-positive one) and who fixed each pressure.
+/// without a pressure) and who fixed each pressure. Every pressure is positive: each comes from
+/// a given one (checked) or the atmosphere.
 #[allow(clippy::needless_range_loop)] // several stream-indexed vectors at once
 fn resolve_pressures(
     w: &mut Wiring,
@@ -458,17 +448,11 @@ fn resolve_pressures(
     }
     let mut last = Vec::new();
     for s in 0..ns {
-        let p = w.p[s];
-        if !p.is_finite() {
+        if !w.p[s].is_finite() {
             last.push(Finding::PressureNotFixed {
                 stream: w.stream(s),
                 from: w.unit(w.from[s]),
                 to: w.unit(w.to[s]),
-            });
-        } else if p <= 0.0 {
-            last.push(Finding::PressureNotPositive {
-                stream: w.stream(s),
-                p: Amount::pressure(p),
             });
         }
     }

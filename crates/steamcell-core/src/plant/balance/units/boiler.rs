@@ -8,12 +8,10 @@
 //! Invariant: the validated boiler holds its steam state and efficiency; the blowdown is a
 //! fraction of the feedwater below 0.5.
 
-use super::{
-    check_efficiency, count, find_port, fixed_state, is_wet, At, Boundary, Draft, Report, UnitKind,
-};
+use super::{count, find_port, fixed_state, is_wet, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
 use crate::plant::balance::diagnosis::Amount;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval, Reversal};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
@@ -96,17 +94,6 @@ impl Draft for Wired {
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
         let u = self.u;
-        check_efficiency(w, u, self.efficiency, f);
-        if !(0.0..0.5).contains(&self.blowdown_fraction) {
-            f.range(Finding::OutOfRange {
-                unit: w.unit(u),
-                quantity: "blowdown_fraction",
-                value: self.blowdown_fraction,
-                low: 0.0,
-                high: 0.5,
-                interval: Interval::ClosedOpen,
-            });
-        }
         let stream = w.stream(self.steam);
         let steam_state = match (self.t, w.fixed[self.steam]) {
             (Some(t), None) => Ok(FixedState::T(t)),

@@ -8,7 +8,7 @@
 
 use super::{count, find_port, At, Boundary, Draft, Report, UnitKind};
 use crate::error::{Error, Result};
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval, Reversal};
+use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::warnings::Code;
@@ -76,18 +76,6 @@ impl Draft for Wired {
         None
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
-        if let Some(v) = self.vent_fraction {
-            if !(0.0..0.5).contains(&v) {
-                f.range(Finding::OutOfRange {
-                    unit: w.unit(self.u),
-                    quantity: "vent_fraction",
-                    value: v,
-                    low: 0.0,
-                    high: 0.5,
-                    interval: Interval::ClosedOpen,
-                });
-            }
-        }
         let p = self.p.ok_or_else(|| {
             f.refuse(Finding::MissingPressure {
                 unit: w.unit(self.u),

@@ -8,7 +8,7 @@
 //! the critical pressure.
 
 use super::{count, find_port, fixed_state, At, Boundary, Draft, Report, UnitKind};
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
@@ -136,13 +136,10 @@ struct Desuperheater {
 }
 
 impl Desuperheater {
-    /// The aim at outlet pressure `p` (a temperature target is compared with saturation).
+    /// The aim at outlet pressure `p` (a temperature target is compared with saturation); `p`
+    /// lies below the critical pressure (an outlet at or above it is refused when the network
+    /// is built, DesuperheaterAboveCritical).
     fn aim(&self, p: f64) -> Result<Aim> {
-        if p >= P_C {
-            return Err(Error::invalid(
-                "a desuperheater outlet above the critical pressure has no superheat",
-            ));
-        }
         let (ts, _, _) = state::saturation_p(p)?;
         let target = match self.target {
             Target::T(t) => t,

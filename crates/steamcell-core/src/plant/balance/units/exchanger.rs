@@ -4,16 +4,20 @@
 //!
 //! Units: internal (MPa, K, kJ/kg, kg/s, kW).
 //!
-//! Invariant: the validated exchanger knows at least one outlet state.
+//! Invariant: the validated exchanger knows at least one outlet state; a solved exchanger
+//! passes heat from its hot side to its cold side without a temperature cross anywhere along
+//! it (checked as `exchanger.balance` checks it, at the ends and at every bubble and dew point:
+//! `feasibility::exchanger_profile`), else the balance is refused as infeasible (second law).
 
 use super::{count, find_port, fixed_state, h, At, Boundary, Draft, Report, UnitKind};
-use crate::error::Result;
+use crate::error::{Arg, Error, Quantity, Result};
 use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
+use crate::plant::feasibility::exchanger_profile;
 use crate::plant::ph;
-use crate::plant::warnings::Code;
+use crate::units::Dim;
 use crate::water::state::State;
 
 struct Wired {
@@ -124,7 +128,7 @@ impl UnitKind for Exchanger {
                     sci.props.h
                 };
                 st[ho] = Some(sho);
-                st[co] = Some(ph(at.p(co), h).map_err(at.tag())?);
+                st[co] = Some(follow(at, co, h, q, m[ci], "cold")?);
             }
             Outlets::Cold(fc) => {
                 let sco = fixed_state(at.p(co), fc).map_err(at.tag())?;
@@ -135,7 +139,7 @@ impl UnitKind for Exchanger {
                     shi.props.h
                 };
                 st[co] = Some(sco);
-                st[ho] = Some(ph(at.p(ho), h).map_err(at.tag())?);
+                st[ho] = Some(follow(at, ho, h, q, m[hi], "hot")?);
             }
         }
         Ok(true)
@@ -174,19 +178,30 @@ impl UnitKind for Exchanger {
         None
     }
 
-    fn results(&self, _: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()> {
+    fn results(&self, at: At, m: &[f64], st: &[State], out: &mut Report) -> Result<()> {
         let (hi, ho, ci, co) = (self.hi, self.ho, self.ci, self.co);
         let q = m[hi] * (st[hi].props.h - st[ho].props.h);
-        out.r.duty = Some(q);
+        let t = |s: usize| Arg::from(Quantity::new("T", Dim::Temperature, st[s].props.t));
+        // heat from the cold side to the hot side: the second law refuses it
         if q < 0.0 {
-            out.warn(
-                Code::HeatFlowsBackwards,
-                "heat flows from the cold side to the hot side: swap the sides",
-            );
+            return Err(Error::infeasible_with(
+                "heat would flow from the cold side to the hot side (second law: heat cannot flow from cold to hot): the hot stream {} leaves at {}, hotter than it enters at {}, and the cold stream {} leaves at {}, entering at {}; swap the sides (hot_in, hot_out) or check the outlet temperatures",
+                &[
+                    at.stream(ho).into(),
+                    t(ho),
+                    t(hi),
+                    at.stream(co).into(),
+                    t(co),
+                    t(ci),
+                ],
+            )
+            .prefixed(&format!("{}: ", at.label())));
         }
-        if st[hi].props.t <= st[co].props.t || st[ho].props.t <= st[ci].props.t {
-            out.warn(Code::TemperatureCrossAtEnd, "temperature cross at an end of the exchanger (second law): check the outlet temperatures");
+        // a temperature cross anywhere along it, as exchanger.balance refuses one
+        if q > 0.0 {
+            exchanger_profile(&st[hi], &st[ho], &st[ci], &st[co], q).map_err(at.tag())?;
         }
+        out.r.duty = Some(q);
         Ok(())
     }
 
@@ -201,4 +216,24 @@ impl UnitKind for Exchanger {
     fn solved_finding(&self, _: At, _: &[State]) -> Option<Finding> {
         None
     }
+}
+
+/// The outlet state `s` at enthalpy `h` that the energy balance gives one side (`side`, its
+/// flow `flow`) for the duty `q` the other side's outlet fixes; an enthalpy outside IAPWS-IF97
+/// there means that side cannot give or take that duty (the outlets cross), refused as
+/// infeasible with the values.
+fn follow(at: At, s: usize, h: f64, q: f64, flow: f64, side: &str) -> Result<State> {
+    ph(at.p(s), h).map_err(|e| match e {
+        Error::OutOfRange { .. } => Error::infeasible_with(
+            &format!("the energy balance puts the {side} outlet stream {{}} at h = {{}} (a duty of {{}} on a {side} flow of {{}}), outside the range of IAPWS-IF97 at its pressure: the {side} side cannot pass that duty without a temperature cross (second law); lower the duty the other outlet asks (its temperature) or raise the {side} flow"),
+            &[
+                at.stream(s).into(),
+                Quantity::new("h", Dim::SpecificEnergy, h).into(),
+                Quantity::new("duty", Dim::HeatFlow, q.abs()).into(),
+                Quantity::new("flow", Dim::MassFlow, flow).into(),
+            ],
+        )
+        .prefixed(&format!("{}: ", at.label())),
+        other => at.tag()(other),
+    })
 }

@@ -43,8 +43,9 @@ mod vent;
 const P_ATM: f64 = 0.101_325;
 
 /// Wires unit `u` of the network to its streams; a structural error (port counts, named
-/// ports) is returned at once.
+/// ports) or a specified value outside its range is returned at once.
 pub(super) fn draft(unit: &Unit, u: usize, w: &Wiring) -> Result<Box<dyn Draft>> {
+    check_ranges(unit, u, w)?;
     Ok(match unit {
         Unit::Boiler {
             p,
@@ -226,16 +227,34 @@ impl<'a> At<'a> {
     pub fn boundary_of(self, v: usize) -> Option<Boundary> {
         self.model.units[v].unit.boundary()
     }
-    /// Prefixes an input or feasibility error with "kind name: ".
+    /// Prefixes an input or feasibility error with "kind name: ", and the quantity of a range
+    /// error met inside the unit (a state out of the formulation's range) likewise (the API
+    /// re-states the quantity after the prefix in the caller's units).
     pub fn tag(self) -> impl Fn(Error) -> Error + 'a {
-        move |e| match e {
-            Error::InvalidInput { message } => {
-                Error::invalid(format!("{}: {message}", self.label()))
+        self.tag_as(String::new())
+    }
+    /// As [`At::tag`], with `more` after "kind name: " (e.g. "outlet stream S: ").
+    pub fn tag_as(self, more: String) -> impl Fn(Error) -> Error + 'a {
+        move |e| {
+            let prefix = format!("{}: {more}", self.label());
+            match e {
+                Error::OutOfRange {
+                    quantity,
+                    value,
+                    limit,
+                    unit,
+                    bound,
+                    formulation,
+                } if !quantity.contains(": ") => Error::OutOfRange {
+                    quantity: format!("{prefix}{quantity}"),
+                    value,
+                    limit,
+                    unit,
+                    bound,
+                    formulation,
+                },
+                other => other.prefixed(&prefix),
             }
-            Error::Infeasible { message } => {
-                Error::infeasible(format!("{}: {message}", self.label()))
-            }
-            other => other,
         }
     }
     /// A balance equation of this unit.
@@ -502,12 +521,8 @@ fn fixed_state(p: f64, f: FixedState) -> Result<State> {
     match f {
         FixedState::T(t) => crate::plant::pt(p, t),
         FixedState::H(h) => crate::plant::ph(p, h),
-        FixedState::X(x) => {
-            if !(0.0..=1.0).contains(&x) {
-                return Err(Error::invalid(format!("x = {x} is outside 0..1")));
-            }
-            state::at_px(p, x)
-        }
+        // x lies in 0..1: checked when the network was built
+        FixedState::X(x) => state::at_px(p, x),
     }
 }
 
@@ -574,18 +589,159 @@ fn find_port(
     })
 }
 
-/// Checks that an efficiency lies in (0, 1] (first stage).
-fn check_efficiency(w: &Wiring, u: usize, v: Option<f64>, f: &mut Findings) {
-    if let Some(v) = v {
-        if !(v.is_finite() && v > 0.0 && v <= 1.0) {
-            f.range(super::Finding::OutOfRange {
-                unit: w.unit(u),
-                quantity: "efficiency",
-                value: v,
-                low: 0.0,
-                high: 1.0,
-                interval: super::Interval::OpenClosed,
-            });
+/// The interval a specified value must lie in.
+#[derive(Debug, Clone, Copy)]
+pub(super) enum Range {
+    /// Above 0 (an absolute pressure).
+    Positive,
+    /// 0 or more (a flow, a demand, a power, a superheat).
+    NotNegative,
+    /// Above 0, at most 1 (an efficiency).
+    Efficiency,
+    /// 0 to 1 (a fraction, a quality).
+    Fraction,
+    /// 0 or more, below the given limit (a blowdown or vent fraction).
+    Below(f64),
+}
+
+/// Refuses a specified value outside `range` as out of range, naming it by `name` (its path,
+/// `units.NAME.FIELD` or `streams.NAME.FIELD`) in the internal unit `unit`, with `what` it is
+/// (the "formulation" of the message, saying its interval where the bounds do not).
+pub(super) fn check_range(
+    name: &str,
+    value: Option<f64>,
+    unit: &str,
+    range: Range,
+    what: &str,
+) -> Result<()> {
+    let Some(v) = value else {
+        return Ok(());
+    };
+    Error::check_finite(name, v)?;
+    let (low, low_open, high, high_open) = match range {
+        Range::Positive => (0.0, true, f64::INFINITY, false),
+        Range::NotNegative => (0.0, false, f64::INFINITY, false),
+        Range::Efficiency => (0.0, true, 1.0, false),
+        Range::Fraction => (0.0, false, 1.0, false),
+        Range::Below(hi) => (0.0, false, hi, true),
+    };
+    let (limit, bound) = if v < low || (low_open && v == low) {
+        (low, crate::error::Bound::Below)
+    } else if v > high || (high_open && v == high) {
+        (high, crate::error::Bound::Above)
+    } else {
+        return Ok(());
+    };
+    Err(Error::out_of_range(name, v, limit, unit, bound, what))
+}
+
+/// The ranges of a unit's specified values (the costing's and a line's own are checked
+/// elsewhere): a user takes steam in, a turbine gives work, a boiler makes steam, pressures are
+/// absolute, efficiencies lie in (0, 1], fractions in their intervals.
+fn check_ranges(unit: &Unit, u: usize, w: &Wiring) -> Result<()> {
+    use Range::*;
+    let q = |f: &str| format!("units.{}.{f}", w.un[u]);
+    let p = |v: &Option<f64>| check_range(&q("p"), *v, "MPa", Positive, PRESSURE);
+    let eff = |v: &Option<f64>| check_range(&q("efficiency"), *v, "1", Efficiency, EFFICIENCY);
+    match unit {
+        Unit::Boiler {
+            p: pr,
+            efficiency,
+            blowdown_fraction,
+            steam_flow,
+            ..
+        } => {
+            p(pr)?;
+            eff(efficiency)?;
+            check_range(
+                &q("blowdown_fraction"),
+                Some(*blowdown_fraction),
+                "1",
+                Below(0.5),
+                "a blowdown fraction of the feedwater (0 <= fraction < 0.5)",
+            )?;
+            check_range(
+                &q("steam_flow"),
+                *steam_flow,
+                "kg/s",
+                NotNegative,
+                "a boiler's steam flow (a boiler makes steam; 0: none)",
+            )
         }
+        Unit::Turbine { efficiency, power } => {
+            eff(efficiency)?;
+            check_range(
+                &q("power"),
+                *power,
+                "kW",
+                NotNegative,
+                "a turbine's power (a turbine gives work; 0: idle)",
+            )
+        }
+        Unit::Desuperheater {
+            p: pr, superheat, ..
+        } => {
+            p(pr)?;
+            check_range(
+                &q("superheat"),
+                *superheat,
+                "K",
+                NotNegative,
+                "a desuperheater's target superheat (0: saturated vapour)",
+            )
+        }
+        Unit::Deaerator {
+            p: pr,
+            vent_fraction,
+            ..
+        } => {
+            p(pr)?;
+            check_range(
+                &q("vent_fraction"),
+                *vent_fraction,
+                "1",
+                Below(0.5),
+                "a vent fraction of the heating steam (0 <= fraction < 0.5)",
+            )
+        }
+        Unit::Pump { p: pr, efficiency } => {
+            p(pr)?;
+            eff(efficiency)
+        }
+        Unit::User {
+            demand,
+            return_fraction,
+            ..
+        } => {
+            check_range(
+                &q("demand"),
+                *demand,
+                "kg/s",
+                NotNegative,
+                "a user's steam demand (a user takes steam in; 0: none)",
+            )?;
+            check_range(
+                &q("return_fraction"),
+                Some(*return_fraction),
+                "1",
+                Fraction,
+                "a condensate return fraction (0 to 1)",
+            )
+        }
+        Unit::Valve { p: pr }
+        | Unit::Header { p: pr }
+        | Unit::Flash { p: pr, .. }
+        | Unit::Condenser { p: pr } => p(pr),
+        Unit::Exchanger { .. }
+        | Unit::Vent
+        | Unit::Makeup { .. }
+        | Unit::Leak { .. }
+        | Unit::Trap { .. }
+        | Unit::Line(_) => Ok(()),
     }
 }
+
+/// What an absolute pressure is, for its range error.
+pub(super) const PRESSURE: &str = "an absolute pressure";
+/// What an efficiency is, for its range error.
+const EFFICIENCY: &str = "an efficiency (0 < efficiency <= 1)";

@@ -6,8 +6,8 @@
 //! Invariant: the validated pump holds its efficiency and its discharge pressure exceeds its
 //! suction pressure.
 
-use super::{check_efficiency, count, At, Boundary, Draft, Report, UnitKind};
-use crate::error::{Error, Result};
+use super::{count, At, Boundary, Draft, Report, UnitKind};
+use crate::error::Result;
 use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
@@ -58,7 +58,6 @@ impl Draft for Wired {
         None
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
-        check_efficiency(w, self.u, self.efficiency, f);
         let (discharge, suction) = (w.p[self.out], w.p[self.inlet]);
         if discharge <= suction {
             f.note(Finding::PumpDoesNotRaise {
@@ -93,15 +92,9 @@ impl UnitKind for Pump {
         let Some(si) = st[self.inlet] else {
             return Ok(false);
         };
+        // the discharge is above the suction: a pump that does not raise the pressure is
+        // refused when the network is built (PumpDoesNotRaise)
         let po = at.p(self.out);
-        if po <= si.props.p {
-            return Err(Error::invalid(format!(
-                "pump {}: the discharge pressure {} MPa is not above the suction pressure {} MPa",
-                at.name(),
-                po,
-                si.props.p
-            )));
-        }
         let iso = ps(po, si.props.s).map_err(at.tag())?;
         let w = (iso.props.h - si.props.h) / self.efficiency;
         st[self.out] = Some(ph(po, si.props.h + w).map_err(at.tag())?);

@@ -7,8 +7,8 @@
 //! Invariant: the validated turbine lists its outlets in order of falling pressure, each with
 //! its efficiency or its measured state.
 
-use super::{check_efficiency, count, fixed_state, h, At, Boundary, Draft, Report, UnitKind};
-use crate::error::{Error, Result};
+use super::{count, fixed_state, h, At, Boundary, Draft, Report, UnitKind};
+use crate::error::Result;
 use crate::plant::balance::diagnosis::Amount;
 use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
@@ -62,7 +62,6 @@ impl Draft for Wired {
         None
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
-        check_efficiency(w, self.u, self.efficiency, f);
         // every outlet below the inlet pressure: steam expands through a turbine
         let p_in = w.p[self.inlet];
         let top = self
@@ -152,13 +151,7 @@ impl UnitKind for Turbine {
                 OutletState::Expanded(_) if !first && po >= prev.props.p * (1.0 - 1e-12) => prev,
                 OutletState::Expanded(eta) => {
                     c::turbine_expand(&prev, po, TurbineSpec::Efficiency(eta), None)
-                        .map_err(|e| {
-                            Error::invalid(format!(
-                                "turbine {}: outlet stream {}: {e}",
-                                at.name(),
-                                at.stream(o.stream)
-                            ))
-                        })?
+                        .map_err(at.tag_as(format!("outlet stream {}: ", at.stream(o.stream))))?
                         .outlet
                 }
             };

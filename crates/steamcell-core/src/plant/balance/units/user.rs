@@ -8,8 +8,7 @@
 
 use super::{count, fixed_state, At, Boundary, Draft, Report, UnitKind};
 use crate::error::Result;
-use crate::plant::balance::diagnosis::Amount;
-use crate::plant::balance::diagnosis::{ClashHint, Finding, FlowHint, Interval, Reversal};
+use crate::plant::balance::diagnosis::{Amount, ClashHint, Finding, FlowHint, Reversal};
 use crate::plant::balance::dof::Row;
 use crate::plant::balance::model::{Findings, Refused, Wiring};
 use crate::plant::balance::FixedState;
@@ -64,28 +63,11 @@ impl Draft for Wired {
     }
     fn validate(&self, w: &Wiring, f: &mut Findings) -> Result<Box<dyn UnitKind>, Refused> {
         let (u, rf) = (self.u, self.return_fraction);
-        if !(0.0..=1.0).contains(&rf) {
-            f.note(Finding::OutOfRange {
+        if self.demand.is_some() && w.streams[self.inlet].flow.is_some() {
+            f.note(Finding::DemandTwice {
                 unit: w.unit(u),
-                quantity: "return_fraction",
-                value: rf,
-                low: 0.0,
-                high: 1.0,
-                interval: Interval::Closed,
+                stream: w.stream(self.inlet),
             });
-        }
-        if let Some(d) = self.demand {
-            if w.streams[self.inlet].flow.is_some() {
-                f.note(Finding::DemandTwice {
-                    unit: w.unit(u),
-                    stream: w.stream(self.inlet),
-                });
-            } else if d < 0.0 {
-                f.note(Finding::NegativeDemand {
-                    unit: w.unit(u),
-                    value: Amount::mass_flow(d),
-                });
-            }
         }
         let condensate = match self.ret {
             None => {
