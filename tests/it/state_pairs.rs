@@ -349,3 +349,53 @@ fn b23_gap_in_v() {
     assert!(close(got.props.u, pr.u, REL) && close(got.props.v, pr.v, REL));
     assert!(close(got.props.p, p, 1e-8) && close(got.props.t, t, REL));
 }
+
+/// Found by `wet_pairs` (proptest): a wet state near the critical point, x close to 1 (the
+/// saturated states jump from IF97 regions 1/2 to region 3 at 623.15 K); every pair of the
+/// property must bring it back.
+#[test]
+fn wet_pairs_near_the_critical_point_at_high_quality() {
+    let (t, x) = (638.4432455026829, 0.994246863313306);
+    let pr = state::at_tx(t, x).unwrap().props;
+    for (name, g) in [
+        ("(p,x)", Given::PX(pr.p, x)),
+        ("(p,h)", Given::PH(pr.p, pr.h)),
+        ("(p,s)", Given::PS(pr.p, pr.s)),
+        ("(h,s)", Given::HS(pr.h, pr.s)),
+        ("(u,v)", Given::UV(pr.u, pr.v)),
+        ("(T,v)", Given::TV(t, pr.v)),
+    ] {
+        let got = state::solve(
+            g,
+            &Options {
+                prefer: Some(Phase::Wet),
+                ..O
+            },
+        )
+        .unwrap_or_else(|e| panic!("{name} at T={t}, x={x}: {e}"));
+        assert_eq!(got.phase, Phase::Wet, "{name}");
+        assert!((got.x.unwrap() - x).abs() < 1e-7, "{name}: x {:?}", got.x);
+        assert!(close(got.props.t, t, 1e-8), "{name}: T {}", got.props.t);
+    }
+}
+
+/// Found by `region1_pairs` (proptest, cases raised): a liquid at 0.0526 MPa, 347.88 K, whose
+/// (h,s) came back with p off by 1.8e-8 relative although h and s were met to 1e-12: at low
+/// pressure a liquid's h and s hardly depend on p, so the Newton iteration stopped on its
+/// residual before p was fixed. The iteration now takes the pending step when it would still
+/// move p; p comes back to its rounding level.
+#[test]
+fn low_pressure_liquid_hs_gives_p_to_its_rounding_level() {
+    let (p, t) = (0.05262353405195299, 347.8797473507434);
+    let pr = state::at_pt(p, t, &O).unwrap().props;
+    let got = state::solve(
+        Given::HS(pr.h, pr.s),
+        &Options {
+            prefer: Some(Phase::Liquid),
+            ..O
+        },
+    )
+    .unwrap();
+    assert!(close(got.props.p, p, 1e-10), "p {} vs {p}", got.props.p);
+    assert!(close(got.props.t, t, 1e-12), "T {} vs {t}", got.props.t);
+}

@@ -733,15 +733,37 @@ fn newton2(
     for it in 0..opts.max_iter {
         let fa = qa.of(&pr) - a;
         let fb = qb.of(&pr) - b;
-        if fa.abs() <= opts.tol * sa && fb.abs() <= opts.tol * sb {
-            return Ok((snap_to_range(region, pr)?, it));
-        }
         let ((a1, a2), (b1, b2)) = if region == Region::R3 {
             (d_rt(qa, &pr), d_rt(qb, &pr))
         } else {
             (d_pt(qa, &pr), d_pt(qb, &pr))
         };
         let det = a1 * b2 - a2 * b1;
+        if fa.abs() <= opts.tol * sa && fb.abs() <= opts.tol * sb {
+            // Converged in the inputs. Where the pair is ill-conditioned in x1 (a liquid's p
+            // from (h,s) at low pressure: h and s hardly depend on p) a residual within the
+            // tolerance still leaves x1 off by up to ~1e-8 relative; one more Newton step (its
+            // derivatives are at hand) fixes x1 to its rounding level. Taken only when it would
+            // move x1 or T by more than 1e-12 relative, and kept only if the inputs stay met,
+            // so well-conditioned answers are unchanged to the bit.
+            if det.is_finite() && det != 0.0 {
+                let d1 = (fa * b2 - fb * a2) / det;
+                let dt = (a1 * fb - b1 * fa) / det;
+                if d1.abs() > 1e-12 * x1.abs() || dt.abs() > 1e-12 * t {
+                    let (y1, u) = (x1 - d1, t - dt);
+                    if y1.is_finite() && u.is_finite() && y1 > 0.0 {
+                        if let Ok(q) = eval(y1, u) {
+                            if (qa.of(&q) - a).abs() <= opts.tol * sa
+                                && (qb.of(&q) - b).abs() <= opts.tol * sb
+                            {
+                                pr = q;
+                            }
+                        }
+                    }
+                }
+            }
+            return Ok((snap_to_range(region, pr)?, it));
+        }
         if !det.is_finite() || det == 0.0 {
             break;
         }
