@@ -1468,3 +1468,30 @@ fn component_units_maps_name_every_numeric_field() {
     assert_eq!(r["units"]["fuel_heat_input"], "kW", "{}", r["units"]);
     assert!((r["steam_flow"].as_f64().unwrap() - 20.0).abs() < 1e-12);
 }
+
+/// A unit of the wrong dimension is answered with the units that would do: a gauge pressure
+/// for a pressure drop lists the pressure-difference units (no gauge ones), a mass for a
+/// pressure lists the pressure units (gauge ones included).
+#[test]
+fn a_wrong_dimension_lists_the_units_that_would_do() {
+    let e = fails(
+        "turbine.expand",
+        json!({"inlet": {"p": 42, "T": 410, "flow": 20}, "outlet_p": 4, "efficiency": 0.72,
+               "throttle_dp": "0.5 barg"}),
+    );
+    assert_eq!(e.code, 1005, "{}", e.message);
+    assert!(
+        e.message.contains("which throttle_dp needs (")
+            && e.message.contains("bar, mbar, psi")
+            && !e.message.contains("barg,"),
+        "{}",
+        e.message
+    );
+    let e = fails("water.state", json!({"given": {"p": "3 kg", "T": 300}}));
+    assert_eq!(e.code, 1005, "{}", e.message);
+    assert!(
+        e.message.contains("which p needs (") && e.message.contains("barg, psig"),
+        "{}",
+        e.message
+    );
+}

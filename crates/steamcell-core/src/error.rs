@@ -554,10 +554,17 @@ impl fmt::Display for Error {
                 quantity,
                 unit,
                 expected,
-            } => write!(
-                f,
-                "unit '{unit}' is not a unit of {expected}, which {quantity} needs"
-            ),
+            } => {
+                write!(
+                    f,
+                    "unit '{unit}' is not a unit of {expected}, which {quantity} needs"
+                )?;
+                // The units that would do, where the expected dimension is one.
+                match crate::units::dim_named(expected) {
+                    Some(d) => write!(f, " ({})", crate::units::symbols(d).join(", ")),
+                    None => Ok(()),
+                }
+            }
             Error::InvalidInput { message } => write!(f, "{message}"),
             Error::NotConverged { what, iterations } => {
                 write!(f, "{what} did not converge in {iterations} iterations")

@@ -954,6 +954,23 @@ pub fn accepted(dim: Dim) -> Vec<String> {
     out
 }
 
+/// The canonical symbols of a dimension's units, each once ("MPa, kPa, Pa, bar, ..."), for
+/// messages that say which units a quantity takes.
+pub fn symbols(dim: Dim) -> Vec<&'static str> {
+    let mut out: Vec<&'static str> = Vec::new();
+    for (_, unit) in UNITS.iter().filter(|(_, unit)| unit.dim == dim) {
+        if !out.contains(&unit.symbol) {
+            out.push(unit.symbol);
+        }
+    }
+    out
+}
+
+/// The dimension whose message name ([`Dim::name`]) is `name`.
+pub fn dim_named(name: &str) -> Option<Dim> {
+    Dim::ALL.into_iter().find(|d| d.name() == name)
+}
+
 /// Every accepted spelling of every dimension with its unit (for tests and listings).
 pub fn spellings() -> impl Iterator<Item = (&'static str, Unit)> {
     UNITS.iter().copied()
