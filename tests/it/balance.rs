@@ -261,7 +261,9 @@ fn a_single_header_gives_exactly_what_header_mix_gives() {
     assert!(rel(sol.streams["out"].flow, 5.0) < 1e-14);
 }
 
-fn letdown(target: &str) -> Value {
+/// A let-down station: 40 bar, 400 degC steam throttled to 10 bar and sprayed to `target`
+/// (also used by `impossible_requests.rs`).
+pub(crate) fn letdown(target: &str) -> Value {
     json!({
         "units": {
             "B": { "kind": "boiler", "p": "40 bar", "T": "400 degC", "efficiency": 0.9 },

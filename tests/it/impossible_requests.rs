@@ -581,28 +581,9 @@ fn valve_uphill() -> Value {
     v
 }
 
-/// A let-down station: 40 bar, 400 degC steam throttled to 10 bar and sprayed to `target`.
-fn letdown(target: &str) -> Value {
-    json!({
-        "units": {
-            "B": { "kind": "boiler", "p": "40 bar", "T": "400 degC", "efficiency": 0.9 },
-            "LV": { "kind": "valve" },
-            "DS": { "kind": "desuperheater", "water": "w", "T": target },
-            "LP": { "kind": "header", "p": "10 bar" },
-            "U": { "kind": "user", "demand": 8, "return_T": "80 degC" },
-            "MK": { "kind": "makeup", "T": "105 degC" },
-            "MK2": { "kind": "makeup", "T": "20 degC" }
-        },
-        "streams": {
-            "steam": { "from": "B", "to": "LV" },
-            "ld": { "from": "LV", "to": "DS" },
-            "w": { "from": "MK", "to": "DS", "p": "20 bar" },
-            "out": { "from": "DS", "to": "LP" },
-            "lp_u": { "from": "LP", "to": "U" },
-            "fw": { "from": "MK2", "to": "B", "p": "45 bar" }
-        }
-    })
-}
+// A let-down station: 40 bar, 400 degC steam throttled to 10 bar and sprayed to `target`
+// (the network of `balance.rs`).
+use crate::balance::letdown;
 
 #[test]
 fn impossible_and_ambiguous_requests_never_get_a_plain_number() {
